@@ -1,0 +1,107 @@
+"""Shared output: rich tables on a terminal, plain aligned text when piped, JSON for scripts."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sys
+from typing import Annotated
+
+import typer
+
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print machine-readable JSON (SI units, see README).")]
+
+
+def console(stderr: bool = False):
+    from rich.console import Console
+
+    width = int(os.environ["COLUMNS"]) if os.environ.get("COLUMNS", "").isdigit() else None
+    return Console(stderr=stderr, width=width, highlight=False, soft_wrap=False)
+
+
+def _clean(obj):
+    if isinstance(obj, float):
+        return None if math.isnan(obj) or math.isinf(obj) else obj
+    if isinstance(obj, dict):
+        return {k: _clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean(v) for v in obj]
+    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
+        return _clean(obj.item())
+    return obj
+
+
+def print_json(data) -> None:
+    sys.stdout.write(json.dumps(_clean(data), indent=2, ensure_ascii=False, allow_nan=False) + "\n")
+
+
+def is_terminal() -> bool:
+    return sys.stdout.isatty()
+
+
+def table(columns: list[str], rows: list[list], *, title: str | None = None, caption: str | None = None,
+          right: set[int] | None = None) -> None:
+    """Print a table: rich on a terminal, plain aligned text (two spaces between columns) when piped."""
+    right = right or set()
+    if is_terminal():
+        from rich.table import Table
+
+        t = Table(title=title, caption=caption, title_justify="left", caption_justify="left")
+        for i, c in enumerate(columns):
+            t.add_column(c, justify="right" if i in right else "left", overflow="fold")
+        from rich.text import Text
+
+        for r in rows:
+            t.add_row(*[Text("" if v is None else str(v)) for v in r])
+        console().print(t)
+        return
+    cells = [[str(c) for c in columns]] + [["" if v is None else str(v) for v in r] for r in rows]
+    widths = [max(len(row[i]) for row in cells) for i in range(len(columns))]
+    out = []
+    if title:
+        out.append(title)
+    for j, row in enumerate(cells):
+        parts = [(row[i].rjust(widths[i]) if i in right else row[i].ljust(widths[i])) for i in range(len(row))]
+        out.append("  ".join(parts).rstrip())
+        if j == 0:
+            out.append("  ".join("-" * w for w in widths))
+    if caption:
+        out.append(caption)
+    sys.stdout.write("\n".join(out) + "\n")
+
+
+def esc(text) -> str:
+    """Data text made safe inside rich markup (a '[kind]' must not vanish as a tag)."""
+    from rich.markup import escape
+
+    return escape(str(text))
+
+
+def say(text: str = "", *, style: str | None = None) -> None:
+    """A line of prose with rich markup (escape data with :func:`esc`); styled on a terminal, plain when piped."""
+    if is_terminal():
+        console().print(text, style=style)
+    else:
+        sys.stdout.write(_strip_markup(text) + "\n")
+
+
+def _strip_markup(text: str) -> str:
+    from rich.text import Text
+
+    return Text.from_markup(text).plain
+
+
+def caution(lines: list[str]) -> None:
+    """The safety caution, set apart on a terminal."""
+    for line in lines:
+        say(f"[bold yellow]CAUTION[/]: {line}")
+
+
+def fmt(x, digits: int = 4) -> str:
+    """A number with ``digits`` significant figures, '—' for None."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "—"
+    if x == 0:
+        return "0"
+    return f"{x:.{digits}g}"

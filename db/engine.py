@@ -1,0 +1,85 @@
+"""Engine and URL handling: the default SQLite file, ``--db URL`` / ``HOLDOFF_DB``, SQLite pragmas."""
+
+from __future__ import annotations
+
+import os
+import re
+from pathlib import Path
+
+from materials.errors import StoreError
+
+ENV_VAR = "HOLDOFF_DB"
+
+
+def default_path() -> Path:
+    """The default store: a SQLite file in the user's data folder (platformdirs)."""
+    import platformdirs
+
+    return Path(platformdirs.user_data_dir("holdoff", appauthor=False)) / "holdoff.sqlite"
+
+
+def resolve_url(url: str | None = None) -> str:
+    """The store URL: the explicit one, else ``$HOLDOFF_DB``, else the default SQLite file.
+
+    A bare path (no ``://``) is taken as a SQLite file.
+    """
+    url = url or os.environ.get(ENV_VAR) or ""
+    if not url:
+        return f"sqlite:///{default_path()}"
+    if "://" not in url:
+        return f"sqlite:///{Path(url).expanduser().resolve()}"
+    return url
+
+
+def mask_url(url: str) -> str:
+    """The URL with any password replaced, for messages."""
+    return re.sub(r"(://[^:/@]*:)[^@]*@", r"\1***@", url)
+
+
+def sqlite_file(url: str) -> Path | None:
+    """The file of a SQLite URL, None for in-memory or other backends."""
+    m = re.match(r"^sqlite(?:\+\w+)?:///(.*)$", url)
+    if not m or m.group(1) in ("", ":memory:") or m.group(1).startswith("file:"):
+        return None
+    return Path(m.group(1))
+
+
+def make_engine(url: str, *, create_dirs: bool = True):
+    """An engine for ``url``; SQLite gets foreign keys, WAL and a busy timeout on every connection."""
+    from sqlalchemy import create_engine, event
+
+    is_sqlite = url.startswith("sqlite")
+    kwargs = {}
+    if is_sqlite:
+        path = sqlite_file(url)
+        if path is not None and create_dirs:
+            path.parent.mkdir(parents=True, exist_ok=True)
+        kwargs["connect_args"] = {"timeout": 30}
+        if path is None:
+            from sqlalchemy.pool import StaticPool
+
+            kwargs["poolclass"] = StaticPool
+            kwargs["connect_args"]["check_same_thread"] = False
+    try:
+        engine = create_engine(url, future=True, **kwargs)
+    except Exception as exc:
+        raise StoreError(f"cannot open store {mask_url(url)}: {type(exc).__name__}: "
+                         f"{mask_url(str(exc)).splitlines()[0]}") from None
+    if is_sqlite:
+        @event.listens_for(engine, "connect")
+        def _pragmas(dbapi_conn, _record):  # pragma: no cover - exercised by every SQLite test
+            # Let SQLAlchemy, not the driver, open transactions, so BEGIN IMMEDIATE can be issued.
+            dbapi_conn.isolation_level = None
+            cur = dbapi_conn.cursor()
+            cur.execute("PRAGMA foreign_keys = ON")
+            cur.execute("PRAGMA busy_timeout = 30000")
+            if sqlite_file(url) is not None:
+                cur.execute("PRAGMA journal_mode = WAL")
+                cur.execute("PRAGMA synchronous = NORMAL")
+            cur.close()
+
+        @event.listens_for(engine, "begin")
+        def _begin(conn):  # pragma: no cover
+            # Take the write lock at the start of every transaction: no lock upgrades, no SQLITE_BUSY mid-way.
+            conn.exec_driver_sql("BEGIN IMMEDIATE")
+    return engine

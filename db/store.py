@@ -1,0 +1,222 @@
+"""Open, build and check a store. One transaction per command; a failure leaves the store as it was."""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from materials.errors import StoreError
+
+SCHEMA_REVISION = "0001"
+
+
+@dataclass
+class Store:
+    url: str
+    engine: object
+
+    @contextlib.contextmanager
+    def session(self):
+        """A session in one transaction: committed on success, rolled back on any error."""
+        from sqlalchemy.orm import Session
+
+        with Session(self.engine, expire_on_commit=False) as s:
+            with s.begin():
+                yield s
+
+    def dispose(self):
+        self.engine.dispose()
+
+
+def _has_schema(engine) -> bool:
+    from sqlalchemy import inspect
+
+    return inspect(engine).has_table("material")
+
+
+def write_catalog(session, sources, materials) -> None:
+    """Insert validated catalog records (from :func:`materials.catalog_io.load_catalog`) in one go."""
+    from db.models import Material, PropertyValue, Source
+
+    src_ids = {}
+    for s in sources.values():
+        row = Source(key=s.key, kind=s.kind, citation=s.citation, note=s.note)
+        session.add(row)
+        src_ids[s.key] = row
+    session.flush()
+    for m in materials:
+        mat = Material(key=m.key, name=m.name, family=m.family, form=m.form, description=m.description,
+                       origin=m.origin, response=m.response)
+        session.add(mat)
+        session.flush()
+        for v in m.values:
+            session.add(PropertyValue(
+                material_id=mat.id, property=v.property, value=v.value, low=v.low, high=v.high,
+                temperature_K=v.temperature_K, frequency_Hz=v.frequency_Hz, field_V_per_m=v.field_V_per_m,
+                thickness_m=v.thickness_m, area_m2=v.area_m2, source_id=src_ids[v.source].id, note=v.note))
+
+
+def _fill(engine, catalog_dir=None) -> None:
+    from sqlalchemy.orm import Session
+
+    from db.models import Base, Meta
+    from materials.catalog_io import catalog_dir as default_dir, catalog_fingerprint, load_catalog
+
+    catalog_dir = catalog_dir or default_dir()
+    sources, materials = load_catalog(catalog_dir)
+    with Session(engine) as s, s.begin():
+        Base.metadata.create_all(s.connection())
+        write_catalog(s, sources, materials)
+        s.add(Meta(key="schema_revision", value=SCHEMA_REVISION))
+        s.add(Meta(key="catalog_fingerprint", value=catalog_fingerprint(catalog_dir)))
+    _stamp_alembic(engine)
+
+
+def _stamp_alembic(engine) -> None:
+    try:
+        from db.migrate import stamp_head
+    except ImportError:  # migrations not installed: nothing to stamp
+        return
+    stamp_head(engine)
+
+
+def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
+    """(Re)build the store at ``url`` from the catalog.
+
+    The catalog is validated completely first. A SQLite file is built beside the old one and swapped in atomically,
+    so a bad catalog or a crash leaves the old store exactly as it was. Other backends drop and recreate the tables
+    in one transaction. A store holding lab or user materials is only rebuilt with ``force``.
+    """
+    from materials.catalog_io import load_catalog
+    from db.engine import make_engine, sqlite_file
+
+    load_catalog(catalog_dir)  # validate before touching anything
+    path = sqlite_file(url)
+    if not force:
+        _refuse_if_lab_data(url)
+    if path is not None:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=".holdoff-build-", suffix=".sqlite", dir=path.parent)
+        os.close(fd)
+        os.unlink(tmp)
+        engine = make_engine(f"sqlite:///{tmp}")
+        try:
+            _fill(engine, catalog_dir)
+        except BaseException:
+            engine.dispose()
+            for suffix in ("", "-wal", "-shm"):
+                with contextlib.suppress(FileNotFoundError):
+                    os.unlink(tmp + suffix)
+            raise
+        engine.dispose()
+        for suffix in ("-wal", "-shm"):
+            with contextlib.suppress(FileNotFoundError):
+                os.unlink(str(path) + suffix)
+        os.replace(tmp, path)
+        for suffix in ("-wal", "-shm"):
+            with contextlib.suppress(FileNotFoundError):
+                os.unlink(tmp + suffix)
+        return
+    engine = make_engine(url)
+    try:
+        from sqlalchemy.orm import Session
+
+        from db.models import Base
+
+        with Session(engine) as s, s.begin():
+            Base.metadata.drop_all(s.connection())
+            _drop_alembic_table(s.connection())
+        _fill(engine, catalog_dir)
+    finally:
+        engine.dispose()
+
+
+def _drop_alembic_table(conn) -> None:
+    from sqlalchemy import text
+
+    conn.execute(text("DROP TABLE IF EXISTS alembic_version"))
+
+
+def _refuse_if_lab_data(url: str) -> None:
+    from db.engine import make_engine, sqlite_file
+
+    path = sqlite_file(url)
+    if path is not None and not path.exists():
+        return
+    engine = make_engine(url, create_dirs=False)
+    try:
+        if not _has_schema(engine):
+            return
+        from sqlalchemy import text
+
+        with engine.connect() as c:
+            n = c.execute(text("SELECT count(*) FROM material WHERE origin != 'catalog'")).scalar()
+        if n:
+            raise StoreError(f"the store holds {n} lab/user material(s); 'db init --force' rebuilds it from the "
+                             "catalog and discards them (dump it first with 'holdoff db dump FILE')")
+    finally:
+        engine.dispose()
+
+
+def open_store(url: str | None = None, *, create: bool = True) -> Store:
+    """Open the store at ``url`` (see :func:`db.engine.resolve_url`), building it from the catalog on first use."""
+    from db.engine import make_engine, mask_url, resolve_url, sqlite_file
+
+    url = resolve_url(url)
+    path = sqlite_file(url)
+    if path is not None and not path.exists():
+        if not create:
+            raise StoreError(f"no store at {path} (run 'holdoff db init')")
+        build(url)
+    engine = make_engine(url)
+    try:
+        fresh = not _has_schema(engine)
+    except Exception as exc:
+        engine.dispose()
+        raise StoreError(f"cannot open store {mask_url(url)}: {type(exc).__name__}: "
+                         f"{mask_url(str(exc)).splitlines()[0]}") from None
+    if fresh:
+        if not create:
+            engine.dispose()
+            raise StoreError(f"the store at {mask_url(url)} is empty (run 'holdoff db init')")
+        if path is None:
+            _fill(engine)
+        else:
+            engine.dispose()
+            build(url, force=True)
+            engine = make_engine(url)
+    return Store(url=url, engine=engine)
+
+
+def memory_store(catalog_dir=None) -> Store:
+    """An in-memory SQLite store filled from the catalog (tests and scratch work)."""
+    from db.engine import make_engine
+
+    engine = make_engine("sqlite://")
+    _fill(engine, catalog_dir)
+    return Store(url="sqlite://", engine=engine)
+
+
+def empty_store(url: str = "sqlite://") -> Store:
+    """A store with the schema and no rows."""
+    from db.engine import make_engine
+    from db.models import Base
+
+    engine = make_engine(url)
+    Base.metadata.create_all(engine)
+    return Store(url=url, engine=engine)
+
+
+def catalog_is_current(store: Store) -> bool | None:
+    """True/False whether the store was built from today's catalog files; None if unknown."""
+    from sqlalchemy import select
+
+    from db.models import Meta
+    from materials.catalog_io import catalog_fingerprint
+
+    with store.session() as s:
+        row = s.execute(select(Meta.value).where(Meta.key == "catalog_fingerprint")).scalar()
+    return None if row is None else row == catalog_fingerprint()

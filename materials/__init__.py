@@ -1,0 +1,1 @@
+"""The physics of a dielectric and the curated catalog (pure: no database, no terminal)."""

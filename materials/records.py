@@ -1,0 +1,95 @@
+"""Plain records of the catalog: what a TOML file holds once validated (SI numbers, no units)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+CONDITIONS = ("temperature_K", "frequency_Hz", "field_V_per_m", "thickness_m", "area_m2")
+
+
+@dataclass(frozen=True)
+class SourceRec:
+    key: str
+    kind: str
+    citation: str
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class ValueRec:
+    property: str
+    value: float
+    source: str
+    low: float | None = None
+    high: float | None = None
+    temperature_K: float | None = None
+    frequency_Hz: float | None = None
+    field_V_per_m: float | None = None
+    thickness_m: float | None = None
+    area_m2: float | None = None
+    note: str = ""
+
+    def identity(self) -> tuple:
+        """What makes two rows 'the same value' for update-with-history: property and conditions."""
+        return (self.property,) + tuple(getattr(self, c) for c in CONDITIONS)
+
+
+@dataclass
+class MaterialRec:
+    key: str
+    name: str
+    family: str
+    form: str = ""
+    description: str = ""
+    origin: str = "catalog"
+    response: str = "linear"
+    values: list[ValueRec] = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class SourceRef:
+    key: str
+    kind: str
+    citation: str = ""
+
+
+@dataclass(frozen=True)
+class StoredValue:
+    """A property value as read back from the store, with its source and (if retired) its history."""
+
+    id: int
+    property: str
+    value: float
+    source: SourceRef
+    low: float | None = None
+    high: float | None = None
+    temperature_K: float | None = None
+    frequency_Hz: float | None = None
+    field_V_per_m: float | None = None
+    thickness_m: float | None = None
+    area_m2: float | None = None
+    note: str = ""
+    breakdown_set: str | None = None
+    loop: str | None = None
+    retired_at: str | None = None
+    retired_reason: str | None = None
+
+
+@dataclass
+class MaterialData:
+    """A material with its active values, detached from any database session."""
+
+    key: str
+    name: str
+    family: str
+    form: str = ""
+    description: str = ""
+    origin: str = "catalog"
+    response: str = "linear"
+    values: list[StoredValue] = field(default_factory=list)
+
+    def rows(self, prop: str) -> list[StoredValue]:
+        return [v for v in self.values if v.property == prop and v.retired_at is None]
+
+    def has(self, prop: str) -> bool:
+        return any(v.property == prop and v.retired_at is None for v in self.values)

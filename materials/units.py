@@ -1,0 +1,153 @@
+"""Units at the edges: one pint registry for the whole program, SI inside.
+
+The registry is created on first use (with pint's on-disk cache, so start-up stays fast), never at import.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import re
+
+from materials.errors import UnitError
+
+# Canonical SI unit of each dimension used in holdoff, as pint spells it.
+SI_UNITS = {
+    "1": "dimensionless",
+    "V/m": "volt / meter",
+    "K": "kelvin",
+    "m": "meter",
+    "m2": "meter ** 2",
+    "m3": "meter ** 3",
+    "Hz": "hertz",
+    "kg/m3": "kilogram / meter ** 3",
+    "W/(m K)": "watt / meter / kelvin",
+    "ohm m": "ohm * meter",
+    "J/(kg K)": "joule / kilogram / kelvin",
+    "J/m3": "joule / meter ** 3",
+    "J": "joule",
+    "V": "volt",
+    "F": "farad",
+    "W": "watt",
+    "A": "ampere",
+    "kg": "kilogram",
+    "C/m2": "coulomb / meter ** 2",
+    "V/s": "volt / second",
+}
+
+_ALIASES = [
+    (re.compile(r"µ|μ"), "u"),
+    (re.compile(r"°\s*C\b|\bdegC\b|\bcelsius\b|\b℃"), "degC"),
+    (re.compile(r"°\s*F\b"), "degF"),
+    (re.compile(r"\bohm\s*[·*]?\s*cm\b", re.I), "ohm*cm"),
+    (re.compile(r"·"), "*"),
+    (re.compile(r"\^"), "**"),
+    (re.compile(r"³"), "**3"),
+    (re.compile(r"²"), "**2"),
+]
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+@functools.lru_cache(maxsize=1)
+def registry():
+    """The program's single pint registry (created on first call, cached on disk by pint)."""
+    import pint
+
+    try:
+        ureg = pint.UnitRegistry(cache_folder=":auto:", autoconvert_offset_to_baseunit=True)
+    except Exception:  # pragma: no cover - a read-only cache folder must not break the program
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    ureg.define("mil = 1e-3 inch")  # dielectric strength in V/mil, as US tables print it
+    return ureg
+
+
+def _normalise_unit_text(text: str) -> str:
+    for pattern, repl in _ALIASES:
+        text = pattern.sub(repl, text)
+    return text.strip()
+
+
+@functools.lru_cache(maxsize=512)
+def _unit_factor(unit_text: str, si_key: str) -> tuple[float, float]:
+    """(scale, offset) so that SI = value*scale + offset for ``unit_text`` in the dimension of ``si_key``."""
+    ureg = registry()
+    target = SI_UNITS[si_key]
+    try:
+        unit = ureg.Unit(unit_text) if unit_text else ureg.dimensionless
+    except Exception as exc:
+        raise UnitError(f"unknown unit '{unit_text}'") from exc
+    if unit.dimensionality != ureg.Unit(target).dimensionality:
+        raise UnitError(f"unit '{unit_text}' is not a {si_key} quantity")
+    q0 = ureg.Quantity(0.0, unit).to(target).magnitude
+    q1 = ureg.Quantity(1.0, unit).to(target).magnitude
+    return q1 - q0, q0
+
+
+def to_si(value: float, unit_text: str, si_key: str) -> float:
+    """Convert ``value`` in ``unit_text`` to the SI unit ``si_key`` (a key of :data:`SI_UNITS`)."""
+    scale, offset = _unit_factor(_normalise_unit_text(unit_text), si_key)
+    return value * scale + offset
+
+
+def from_si(value: float, unit_text: str, si_key: str) -> float:
+    """Inverse of :func:`to_si`: an SI value expressed in ``unit_text``."""
+    scale, offset = _unit_factor(_normalise_unit_text(unit_text), si_key)
+    return (value - offset) / scale
+
+
+def parse_quantity(text, *, si: str, default_unit: str | None = None, name: str = "value") -> float:
+    """Parse ``"800"``, ``"800V"`` or ``"0.8 kV"`` into an SI float of dimension ``si``.
+
+    A bare number takes ``default_unit``; with no default (and a dimensioned ``si``) a bare number is an error,
+    so that a breakdown field of 700 with no unit can never be read as 700 V/m.
+    """
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        number, unit = float(text), ""
+    else:
+        m = _NUMBER.match(str(text))
+        if not m:
+            raise UnitError(f"{name}: cannot read '{text}' as a number with an optional unit")
+        number, unit = float(m.group(1)), m.group(2)
+    if math.isnan(number) or math.isinf(number):
+        raise UnitError(f"{name}: '{text}' is not a finite number")
+    if not unit:
+        if si == "1":
+            return number
+        if default_unit is None:
+            raise UnitError(f"{name}: '{text}' has no unit (expected a {si} quantity)")
+        unit = default_unit
+    try:
+        return to_si(number, unit, si)
+    except UnitError as exc:
+        raise UnitError(f"{name}: {exc}") from None
+
+
+# Default units of CLI options (DESIGN.md): a bare number takes these.
+CLI_DEFAULTS = {
+    "voltage": ("V", "V"),
+    "temperature": ("degC", "K"),
+    "energy": ("J", "J"),
+    "energy_density": ("J/cm**3", "J/m3"),
+    "thickness": ("um", "m"),
+    "electrode_area": ("cm**2", "m2"),
+    "capacitor_area": ("m**2", "m2"),
+    "field": ("V/um", "V/m"),
+    "frequency": ("Hz", "Hz"),
+    "current": ("A", "A"),
+    "ramp": ("V/s", "V/s"),
+}
+
+
+def parse_option(text, kind: str, *, name: str | None = None) -> float:
+    """Parse a CLI option of ``kind`` (a key of :data:`CLI_DEFAULTS`) into SI."""
+    default, si = CLI_DEFAULTS[kind]
+    return parse_quantity(text, si=si, default_unit=default, name=name or kind)
+
+
+def kelvin_to_celsius(t_K: float) -> float:
+    return t_K - 273.15
+
+
+def celsius_to_kelvin(t_C: float) -> float:
+    return t_C + 273.15
