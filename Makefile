@@ -14,8 +14,8 @@ $(BIN)/holdoff: pyproject.toml
 install: $(BIN)/holdoff
 
 demo: install
-	HOLDOFF_DB=sqlite:///$(CURDIR)/.demo.sqlite $(BIN)/holdoff db init
-	HOLDOFF_DB=sqlite:///$(CURDIR)/.demo.sqlite $(BIN)/holdoff shortlist --target examples/dc-link-target.toml --top 8
+	$(BIN)/holdoff shortlist --target examples/dc-link-target.toml --top 10
+
 
 test: install
 	$(BIN)/python -m pytest

@@ -1,0 +1,131 @@
+"""``holdoff ceiling`` and ``holdoff size``: energy-density ceilings and part sizing at real conditions."""
+
+from __future__ import annotations
+
+from typing import Annotated, Optional
+
+import typer
+
+from cli import state
+from cli.output import JsonOpt
+
+TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
+                                                      "repeat for several. Default 25 °C.")]
+AreaOpt = Annotated[Optional[str], typer.Option("--area", help="Capacitor active area (m² unless a unit is given); "
+                                                "breakdown is scaled from the test area (weakest link).")]
+ProbOpt = Annotated[Optional[float], typer.Option("--failure-prob", help="Accepted short-term failure "
+                                                  "probability (e.g. 0.01); default: the Weibull scale (63.2 %).")]
+MarginOpt = Annotated[float, typer.Option("--margin", help="Divides the design field (≥ 1).")]
+ExtrapOpt = Annotated[bool, typer.Option("--extrapolate", help="Hold end values outside the data's temperature "
+                                         "range (flagged) instead of refusing.")]
+DefaultsOpt = Annotated[bool, typer.Option("--assume-defaults", help="Where the data lack a Weibull shape or a test "
+                                           "area, take common-practice β = 10 and 1 cm² (named in the answer).")]
+
+
+def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
+            temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
+            extrapolate: ExtrapOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+    """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
+    from db.query import load_materials
+    from materials.errors import InputError
+    from materials.sizing import CAUTION
+    from materials.units import parse_option
+    from ranking.ceiling import ceiling_at
+
+    temps = [parse_option(t, "temperature", name="--temp") for t in (temp or ["25"])]
+    a = parse_option(area, "capacitor_area", name="--area") if area else None
+    if failure_prob is not None and not 0 < failure_prob < 1:
+        raise InputError("--failure-prob must lie between 0 and 1")
+    if margin < 1:
+        raise InputError("--margin must be 1 or more")
+    with state.store().session() as s:
+        mats = {m.key: m for m in load_materials(s, keys)}
+    rows = [ceiling_at(mats[k], temperature_K=t, area_m2=a, failure_probability=failure_prob, margin=margin,
+                       extrapolate=extrapolate, assume_defaults=assume_defaults) for k in keys for t in temps]
+    if json_out:
+        from cli.output import print_json
+
+        print_json([{**r.to_dict(), "cautions": [CAUTION]} for r in rows])
+        return
+    from cli.fmt import celsius, display
+    from cli.output import caution, fmt, say, table
+
+    body = []
+    for r in rows:
+        body.append([r.key, celsius(r.temperature_K), fmt(r.relative_permittivity),
+                     display("breakdown_field", r.breakdown_field_V_per_m), f"{fmt(r.ceiling_J_per_m3 / 1e6)}",
+                     display("breakdown_field", r.design_field_V_per_m), f"{fmt(r.design_J_per_m3 / 1e6)}",
+                     ("extrapolated " if r.extrapolated else "") + r.method, ", ".join(r.sources)])
+    cond = []
+    cond.append(f"area {fmt(a)} m²" if a else "at the test area")
+    cond.append(f"failure probability {failure_prob:g}" if failure_prob is not None else "Weibull scale (63.2 %)")
+    cond.append(f"margin {margin:g}")
+    table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
+          right={2, 3, 4, 5, 6}, caption="design: " + ", ".join(cond))
+    for r in rows:
+        for n in r.notes:
+            say(f"note ({r.key}, {celsius(r.temperature_K)}): {n}")
+    caution([CAUTION])
+
+
+def size(key: Annotated[str, typer.Argument(help="Material key.")],
+         energy: Annotated[str, typer.Option("--energy", help="Energy to store (J unless a unit is given).")],
+         voltage: Annotated[str, typer.Option("--voltage", help="Working voltage (V unless a unit is given).")],
+         tmin: Annotated[str, typer.Option("--tmin", help="Lowest temperature (°C unless a unit).")] = "25",
+         tmax: Annotated[str, typer.Option("--tmax", help="Highest temperature (°C unless a unit).")] = "25",
+         failure_prob: Annotated[float, typer.Option("--failure-prob", help="Accepted short-term failure "
+                                                     "probability of the whole part.")] = 0.01,
+         margin: MarginOpt = 1.0,
+         ripple_current: Annotated[Optional[str], typer.Option("--ripple-current", help="RMS ripple current "
+                                                               "(A unless a unit) for the dissipated power.")] = None,
+         frequency: Annotated[Optional[str], typer.Option("--frequency", help="Ripple frequency (Hz unless a "
+                                                          "unit).")] = None,
+         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+    """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
+    from db.query import get_material
+    from materials.units import parse_option
+    from ranking.part import size_material
+
+    with state.store().session() as s:
+        m = get_material(s, key)
+    res = size_material(
+        m, energy_J=parse_option(energy, "energy", name="--energy"),
+        voltage_V=parse_option(voltage, "voltage", name="--voltage"),
+        tmin_K=parse_option(tmin, "temperature", name="--tmin"), tmax_K=parse_option(tmax, "temperature",
+                                                                                    name="--tmax"),
+        failure_probability=failure_prob, margin=margin,
+        ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
+        frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
+        assume_defaults=assume_defaults)
+    if json_out:
+        from cli.output import print_json
+
+        print_json(res)
+        return
+    from cli.fmt import celsius, quantity
+    from cli.output import caution, fmt, say, table
+
+    rows = [["thickness", quantity(res["thickness_m"], "um", "m")],
+            ["active area", quantity(res["area_m2"], "m**2", "m2")],
+            ["dielectric volume", quantity(res["volume_m3"], "cm**3", "m3")],
+            ["dielectric mass", quantity(res["mass_kg"], "g", "kg") if res["mass_kg"] is not None else "— (no density)"],
+            ["capacitance", quantity(res["capacitance_F"], "uF", "F")],
+            ["operating field", quantity(res["operating_field_V_per_m"], "V/um", "V/m")],
+            ["design field", quantity(res["design_field_V_per_m"], "V/um", "V/m")],
+            ["energy stored", quantity(res["energy_J"], "J", "J")],
+            ["failure probability", fmt(res["failure_probability"], 3)],
+            ["limited by", res["limited_by"]],
+            ["worst temperature", celsius(res["worst_temperature_K"])]]
+    if res.get("dissipated_power_W") is not None:
+        rows.append(["dissipated power", quantity(res["dissipated_power_W"], "W", "W")])
+    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {fmt(res['energy_J'])} J at "
+          f"{fmt(res['voltage_V'])} V, {celsius(res['tmin_K'])} … {celsius(res['tmax_K'])}")
+    for n in res["notes"]:
+        say(f"note: {n}")
+    say("sources: " + ", ".join(res["sources"]))
+    caution(res["cautions"])
+
+
+def register(app) -> None:
+    app.command("ceiling")(ceiling)
+    app.command("size")(size)

@@ -1,0 +1,173 @@
+"""``holdoff shortlist``: rank the store's dielectrics against a target and explain every verdict."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+from cli import state
+from cli.output import JsonOpt
+
+
+def build_target(*, target_file, voltage, tmin, tmax, energy_density, energy, frequency, max_loss, failure_prob,
+                 margin, area, family, weights, thickness, assume_defaults):
+    """A Target from a file and/or options (options override the file)."""
+    from materials.errors import InputError
+    from materials.units import parse_option
+    from ranking.target import Target, load_target, parse_thicknesses, parse_weights, with_overrides
+
+    opts = dict(
+        voltage_V=parse_option(voltage, "voltage", name="--voltage") if voltage else None,
+        tmin_K=parse_option(tmin, "temperature", name="--tmin") if tmin else None,
+        tmax_K=parse_option(tmax, "temperature", name="--tmax") if tmax else None,
+        energy_density_J_per_m3=(parse_option(energy_density, "energy_density", name="--energy-density")
+                                 if energy_density else None),
+        energy_J=parse_option(energy, "energy", name="--energy") if energy else None,
+        frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
+        max_loss_tangent=max_loss, failure_probability=failure_prob, margin=margin,
+        area_m2=parse_option(area, "capacitor_area", name="--area") if area else None,
+        families=tuple(f.strip() for f in family.split(",")) if family else None,
+        thicknesses_m=parse_thicknesses(thickness) if thickness else None,
+        assume_defaults=True if assume_defaults else None,
+    )
+    w = parse_weights(weights) if weights else None
+    if target_file:
+        t = with_overrides(load_target(target_file), **opts)
+        if w:
+            t = with_overrides(t, weights={**t.weights, **w})
+        return t
+    missing = [n for n, k in (("--voltage", "voltage_V"), ("--tmin", "tmin_K"), ("--tmax", "tmax_K"))
+               if opts[k] is None]
+    if missing:
+        raise InputError(f"{', '.join(missing)} needed (or a --target file)")
+    return Target(weights=w or {}, **{k: v for k, v in opts.items() if v is not None})
+
+
+def shortlist(
+    voltage: Annotated[Optional[str], typer.Option("--voltage", help="Working voltage (V unless a unit).")] = None,
+    tmin: Annotated[Optional[str], typer.Option("--tmin", help="Lowest temperature (°C unless a unit).")] = None,
+    tmax: Annotated[Optional[str], typer.Option("--tmax", help="Highest temperature (°C unless a unit).")] = None,
+    energy_density: Annotated[Optional[str], typer.Option("--energy-density", help="Required design energy "
+                                                          "density (J/cm³ unless a unit).")] = None,
+    energy: Annotated[Optional[str], typer.Option("--energy", help="Energy the part stores (J unless a unit); "
+                                                  "sizes each candidate.")] = None,
+    method: Annotated[str, typer.Option("--method", help="topsis, weighted or pareto.")] = "topsis",
+    weights: Annotated[Optional[str], typer.Option("--weights", help="e.g. energy=3,loss=1 (criteria: energy, "
+                                                   "volume, mass, loss, drift, healing, confidence).")] = None,
+    target: Annotated[Optional[Path], typer.Option("--target", help="Target TOML file (see README); options "
+                                                   "override it.")] = None,
+    top: Annotated[int, typer.Option("--top", help="Rows to show; also the k of p(top k).")] = 10,
+    export: Annotated[Optional[Path], typer.Option("--export", help="Also write the result to FILE "
+                                                   "(.csv, .xlsx, .md, .html, .json).")] = None,
+    force: Annotated[bool, typer.Option("--force", help="Overwrite the export file.")] = False,
+    frequency: Annotated[Optional[str], typer.Option("--frequency", help="Frequency for the loss tangent "
+                                                     "(Hz unless a unit; default 1 kHz).")] = None,
+    max_loss: Annotated[Optional[float], typer.Option("--max-loss", help="Exclude above this tan δ.")] = None,
+    failure_prob: Annotated[Optional[float], typer.Option("--failure-prob", help="Accepted short-term failure "
+                                                          "probability of the part (default 0.01).")] = None,
+    margin: Annotated[Optional[float], typer.Option("--margin", help="Divides the design field (default 1).")]
+    = None,
+    area: Annotated[Optional[str], typer.Option("--area", help="Active area (m² unless a unit); else derived "
+                                                "from --energy per candidate.")] = None,
+    family: Annotated[Optional[str], typer.Option("--family", help="Only these families (comma-separated).")]
+    = None,
+    thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
+                                                     "e.g. 2.5,3,4,6um.")] = None,
+    assume_defaults: Annotated[bool, typer.Option("--assume-defaults", help="Take common-practice β = 10 and "
+                                                  "1 cm² test area where the data lack them (flagged).")] = False,
+    draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws for p_top.")] = 1000,
+    seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
+    json_out: JsonOpt = False,
+):
+    """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason."""
+    from db.query import load_materials
+    from materials.errors import InputError
+    from ranking.shortlist import shortlist as run
+
+    if top < 1:
+        raise InputError("--top must be at least 1")
+    if export and export.exists() and not force:
+        raise InputError(f"{export} exists (use --force to overwrite)")
+    t = build_target(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy_density=energy_density,
+                     energy=energy, frequency=frequency, max_loss=max_loss, failure_prob=failure_prob,
+                     margin=margin, area=area, family=family, weights=weights, thickness=thickness,
+                     assume_defaults=assume_defaults)
+    with state.store().session() as s:
+        mats = load_materials(s)
+    result = run(mats, t, method=method, top_k=min(3, top), draws=draws, seed=seed)
+    if export:
+        from ranking.report import export_result
+
+        export_result(result, export, force=force)
+    if json_out:
+        from cli.output import print_json
+
+        print_json(result)
+        return
+    render(result, top=top)
+    if export:
+        from cli.output import say
+
+        say(f"wrote {export}")
+
+
+def render(result: dict, *, top: int) -> None:
+    from cli.fmt import celsius
+    from cli.output import caution, esc, fmt, say, table
+    from materials.units import from_si
+
+    t = result["target"]
+    head = [f"{fmt(t['voltage_V'])} V", f"{celsius(t['tmin_K'])} … {celsius(t['tmax_K'])}"]
+    if t.get("energy_J"):
+        head.append(f"{fmt(t['energy_J'])} J")
+    if t.get("energy_density_J_per_m3"):
+        head.append(f"≥ {fmt(t['energy_density_J_per_m3'] / 1e6)} J/cm³")
+    head.append(f"p_fail {t['failure_probability']:g}, margin {t['margin']:g}")
+    say(f"[bold]shortlist[/] ({result['method']}): " + esc(", ".join(head)) + (f" — {esc(t['name'])}" if t.get("name")
+                                                                             else ""))
+    crit = {c["name"]: c for c in result["criteria"]}
+    k = result["robustness"]["top_k"]
+
+    def show(name, v):
+        c = crit.get(name)
+        if c is None or v is None:
+            return "—"
+        if c["display_unit"] == "%":
+            return f"{v * 100:.3g}"
+        if c["display_unit"]:
+            return fmt(from_si(v, c["display_unit"], c["unit"]), 3)
+        return fmt(v, 3)
+
+    cols = ["#", "material", "score"]
+    names = [n for n in ("energy", "volume", "mass", "loss", "drift") if n in crit]
+    units = {"energy": "J/cm³", "volume": "cm³", "mass": "g", "loss": "tan δ", "drift": "ΔC %"}
+    per = "" if t.get("energy_J") else " per J"
+    cols += [f"{n} {units[n]}" + (per if n in ("volume", "mass") else "") for n in names]
+    cols += ["p_first", f"p_top{k}", "conf.", "binding"]
+    body = []
+    for r in result["ranked"][:top]:
+        flags = "!" if any(f in ("recollection", "invented") for f in r["flags"]) else ""
+        body.append([r["rank"], r["label"] + flags, f"{r['score']:.3f}",
+                     *[show(n, r["criteria"].get(n)) for n in names],
+                     f"{r['p_top']:.2f}", f"{r['p_top_k']:.2f}", f"{r['confidence']:.2f}", r["binding"]])
+    table(cols, body, right=set(range(2, 3 + len(names) + 3)),
+          title=f"{len(result['ranked'])} ranked, {len(result['excluded'])} excluded")
+    say("! rests partly on recollection or invented values. p_first / p_top: share of Monte Carlo draws "
+        f"({result['robustness']['draws']}, weights and value ranges varied) in which it ranks first / in the top "
+        f"{k}.")
+    if result["ranked"]:
+        win = result["ranked"][0]
+        parts = ", ".join(f"{n} {v:+.3f}" for n, v in sorted(win["contributions"].items(), key=lambda x: -x[1]))
+        say(f"winner {esc(win['label'])}: score {win['score']:.3f} from {parts}")
+        for r in result["ranked"][1:min(top, 4)]:
+            say(f"  {esc(r['label'])}: {esc(r['versus_winner'])}"
+                + (f"; dominated by {esc(r['dominated_by'])}" if r["dominated_by"] else ""))
+    if result["excluded"]:
+        table(["excluded", "reasons"], [[e["label"], "; ".join(e["reasons"])] for e in result["excluded"]])
+    caution(result["cautions"])
+
+
+def register(app) -> None:
+    app.command("shortlist")(shortlist)

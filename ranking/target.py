@@ -1,0 +1,180 @@
+"""The target a shortlist ranks against: from command options or a TOML file of our own form.
+
+Target file form (every quantity a number with a unit; bare numbers take the CLI defaults)::
+
+    [target]
+    name = "DC-link bank, 800 V traction inverter"   # free text
+    voltage = "800 V"
+    tmin = "-40 degC"
+    tmax = "125 degC"
+    energy = "50 J"                 # total energy …
+    # energy_density = "1 J/cm^3"  # … or a required design energy density (or both)
+    frequency = "10 kHz"            # for the loss tangent (default 1 kHz)
+    max_loss_tangent = 0.002
+    failure_probability = 0.001     # accepted short-term failure probability of the part
+    margin = 1.2                    # design field = Weibull quantile / margin
+    area = "0.5 m^2"                # active area; derived per material from the energy when absent
+    families = ["polymer-film", "ceramic-class-1"]
+    thicknesses = ["2.5 um", "3 um", "4 um"]   # optional design space of layer thicknesses
+    assume_defaults = false         # allow common-practice β and test area where the data lack them
+
+    [weights]                       # criterion = weight (see ranking.criteria.CRITERIA)
+    energy = 3
+    loss = 1
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+from materials.errors import InputError, UnitError
+from materials.properties import FAMILIES
+from materials.units import parse_option
+
+
+@dataclass(frozen=True)
+class Target:
+    voltage_V: float
+    tmin_K: float
+    tmax_K: float
+    energy_J: float | None = None
+    energy_density_J_per_m3: float | None = None
+    frequency_Hz: float | None = None
+    max_loss_tangent: float | None = None
+    failure_probability: float = 0.01
+    margin: float = 1.0
+    area_m2: float | None = None
+    families: tuple[str, ...] = ()
+    thicknesses_m: tuple[float, ...] = ()
+    weights: dict = field(default_factory=dict)
+    assume_defaults: bool = False
+    name: str = ""
+
+    def __post_init__(self):
+        if not self.voltage_V > 0:
+            raise InputError("voltage must be positive")
+        if self.tmin_K > self.tmax_K:
+            raise InputError("tmin is above tmax")
+        if not 0 < self.failure_probability < 1:
+            raise InputError("failure probability must lie between 0 and 1")
+        if not self.margin >= 1.0:
+            raise InputError("margin must be 1 or more (it divides the design field)")
+        for f in self.families:
+            if f not in FAMILIES:
+                raise InputError(f"family '{f}' is not one of {', '.join(FAMILIES)}")
+        if self.energy_J is not None and not self.energy_J > 0:
+            raise InputError("energy must be positive")
+        if self.energy_density_J_per_m3 is not None and not self.energy_density_J_per_m3 > 0:
+            raise InputError("energy density must be positive")
+
+    def to_dict(self) -> dict:
+        return {"name": self.name, "voltage_V": self.voltage_V, "tmin_K": self.tmin_K, "tmax_K": self.tmax_K,
+                "energy_J": self.energy_J, "energy_density_J_per_m3": self.energy_density_J_per_m3,
+                "frequency_Hz": self.frequency_Hz, "max_loss_tangent": self.max_loss_tangent,
+                "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
+                "families": list(self.families), "thicknesses_m": list(self.thicknesses_m),
+                "weights": dict(self.weights), "assume_defaults": self.assume_defaults}
+
+
+def parse_weights(text: str | None) -> dict:
+    """``"energy=3,loss=1"`` → {"energy": 3.0, "loss": 1.0}; names checked against the criteria."""
+    from ranking.criteria import CRITERIA
+
+    out = {}
+    if not text:
+        return out
+    for part in text.split(","):
+        if not part.strip():
+            continue
+        if "=" not in part:
+            raise InputError(f"--weights: '{part.strip()}' is not name=weight")
+        name, _, w = part.partition("=")
+        name = name.strip()
+        if name not in CRITERIA:
+            raise InputError(f"--weights: unknown criterion '{name}' (one of {', '.join(CRITERIA)})")
+        try:
+            out[name] = float(w)
+        except ValueError:
+            raise InputError(f"--weights: '{w.strip()}' is not a number") from None
+        if out[name] < 0:
+            raise InputError(f"--weights: weight of '{name}' is negative")
+    return out
+
+
+def parse_thicknesses(text) -> tuple[float, ...]:
+    """``"2.5,3,4,6um"`` (a trailing unit applies to bare numbers before it) → metres."""
+    if not text:
+        return ()
+    items = text if isinstance(text, (list, tuple)) else [t for t in str(text).split(",") if t.strip()]
+    import re
+
+    last_unit = None
+    for t in reversed(items):
+        m = re.match(r"^\s*[-+0-9.eE]+\s*([^\s0-9].*)$", str(t))
+        if m:
+            last_unit = m.group(1)
+            break
+    out = []
+    for t in items:
+        t = str(t).strip()
+        if last_unit and re.fullmatch(r"[-+0-9.eE]+", t):
+            t = f"{t} {last_unit}"
+        v = parse_option(t, "thickness", name="thickness")
+        if not v > 0:
+            raise InputError(f"thickness '{t}' must be positive")
+        out.append(v)
+    return tuple(sorted(set(out)))
+
+
+_FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
+              "failure_probability", "margin", "area", "families", "thicknesses", "assume_defaults"}
+
+
+def load_target(path: Path) -> Target:
+    """Read a target TOML file (see the module docstring); errors name the file and field."""
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError("no such file", file=str(path)) from None
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise InputError(f"not a valid TOML file: {exc}", file=str(path)) from None
+    t = data.get("target", {})
+    unknown = set(t) - _FILE_KEYS
+    if unknown:
+        raise InputError(f"unknown field '{sorted(unknown)[0]}'", file=str(path), field=sorted(unknown)[0])
+    for required in ("voltage", "tmin", "tmax"):
+        if required not in t:
+            raise InputError("missing", file=str(path), field=required)
+    try:
+        kw = dict(
+            voltage_V=parse_option(t["voltage"], "voltage"), tmin_K=parse_option(t["tmin"], "temperature"),
+            tmax_K=parse_option(t["tmax"], "temperature"),
+            energy_J=parse_option(t["energy"], "energy") if "energy" in t else None,
+            energy_density_J_per_m3=(parse_option(t["energy_density"], "energy_density")
+                                     if "energy_density" in t else None),
+            frequency_Hz=parse_option(t["frequency"], "frequency") if "frequency" in t else None,
+            max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
+            failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
+            area_m2=parse_option(t["area"], "capacitor_area") if "area" in t else None,
+            families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
+            assume_defaults=bool(t.get("assume_defaults", False)), name=str(t.get("name", "")),
+        )
+    except UnitError as exc:
+        raise InputError(str(exc), file=str(path)) from None
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"bad value: {exc}", file=str(path)) from None
+    weights = {}
+    for k, v in data.get("weights", {}).items():
+        weights.update(parse_weights(f"{k}={v}"))
+    try:
+        return Target(weights=weights, **kw)
+    except InputError as exc:
+        raise InputError(str(exc), file=str(path)) from None
+
+
+def with_overrides(target: Target, **changes) -> Target:
+    """A copy of ``target`` with the options given on the command line (None = keep the file's)."""
+    return replace(target, **{k: v for k, v in changes.items() if v is not None})
