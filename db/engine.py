@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 from pathlib import Path
@@ -36,6 +37,35 @@ def mask_url(url: str) -> str:
     return re.sub(r"(://[^:/@]*:)[^@]*@", r"\1***@", url)
 
 
+def _password(url: str) -> str | None:
+    m = re.search(r"://[^:/@]*:([^@]*)@", url)
+    return m.group(1) if m and m.group(1) else None
+
+
+def error_text(exc: BaseException, url: str) -> str:
+    """One line describing a driver error, with the URL's password (plain or URL-encoded) masked out."""
+    from urllib.parse import unquote
+
+    orig = getattr(exc, "orig", None) or exc
+    lines = [line for line in str(orig).splitlines() if line.strip()]
+    text = mask_url(lines[0] if lines else "")
+    pw = _password(url)
+    for secret in {pw, unquote(pw)} if pw else ():
+        text = text.replace(secret, "***")
+    return f"{type(orig).__name__}: {text}"
+
+
+@contextlib.contextmanager
+def connect_errors(url: str, what: str = "open store"):
+    """Turn a connection-level failure (server down, wrong password, locked file) into a one-line StoreError."""
+    from sqlalchemy.exc import InterfaceError, OperationalError
+
+    try:
+        yield
+    except (OperationalError, InterfaceError) as exc:
+        raise StoreError(f"cannot {what} {mask_url(url)}: {error_text(exc, url)}") from None
+
+
 def sqlite_file(url: str) -> Path | None:
     """The file of a SQLite URL, None for in-memory or other backends."""
     m = re.match(r"^sqlite(?:\+\w+)?:///(.*)$", url)
@@ -50,6 +80,9 @@ def make_engine(url: str, *, create_dirs: bool = True):
 
     is_sqlite = url.startswith("sqlite")
     kwargs = {}
+    if url.startswith("postgresql"):
+        # An unreachable server should fail in seconds, not hang a command.
+        kwargs["connect_args"] = {"connect_timeout": 10}
     if is_sqlite:
         path = sqlite_file(url)
         if path is not None and create_dirs:
@@ -63,8 +96,7 @@ def make_engine(url: str, *, create_dirs: bool = True):
     try:
         engine = create_engine(url, future=True, **kwargs)
     except Exception as exc:
-        raise StoreError(f"cannot open store {mask_url(url)}: {type(exc).__name__}: "
-                         f"{mask_url(str(exc)).splitlines()[0]}") from None
+        raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
     if is_sqlite:
         @event.listens_for(engine, "connect")
         def _pragmas(dbapi_conn, _record):  # pragma: no cover - exercised by every SQLite test

@@ -83,7 +83,7 @@ class BreakdownSet(Base):
 
     __tablename__ = "breakdown_set"
     __table_args__ = (CheckConstraint("waveform IN ('dc', 'ac')", name="waveform"),
-                      UniqueConstraint("material_id", "label", name="material_label"))
+                      UniqueConstraint("material_id", "label", name="uq_breakdown_set_material_label"))
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     material_id: Mapped[int] = mapped_column(ForeignKey("material.id", ondelete="CASCADE"))
     label: Mapped[str] = mapped_column(String(400))
@@ -119,7 +119,7 @@ class Loop(Base):
     """One measured polarisation–field loop."""
 
     __tablename__ = "loop"
-    __table_args__ = (UniqueConstraint("material_id", "label", name="material_label"),)
+    __table_args__ = (UniqueConstraint("material_id", "label", name="uq_loop_material_label"),)
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
     material_id: Mapped[int] = mapped_column(ForeignKey("material.id", ondelete="CASCADE"))
     label: Mapped[str] = mapped_column(String(400))
@@ -158,7 +158,8 @@ class PropertyValue(Base):
     __table_args__ = (
         CheckConstraint(_in("property", PROPERTIES), name="property"),
         CheckConstraint("low IS NULL OR high IS NULL OR low <= high", name="range"),
-        CheckConstraint("temperature_K IS NULL OR temperature_K > 0", name="temperature"),
+        # Quoted: PostgreSQL folds unquoted names to lower case, and the column is "temperature_K".
+        CheckConstraint('"temperature_K" IS NULL OR "temperature_K" > 0', name="temperature"),
         CheckConstraint("(retired_at IS NULL) = (retired_reason IS NULL)", name="retired"),
         Index("ix_property_value_lookup", "material_id", "property"),
     )
@@ -173,10 +174,12 @@ class PropertyValue(Base):
     field_V_per_m: Mapped[float | None] = mapped_column(Float)
     thickness_m: Mapped[float | None] = mapped_column(Float)
     area_m2: Mapped[float | None] = mapped_column(Float)
-    source_id: Mapped[int] = mapped_column(ForeignKey("source.id"), nullable=False)
+    # Indexed (revision 0002): joins by source, and cascading deletes of a set or loop, would scan otherwise.
+    source_id: Mapped[int] = mapped_column(ForeignKey("source.id"), nullable=False, index=True)
     note: Mapped[str] = mapped_column(Text, default="")
-    breakdown_set_id: Mapped[int | None] = mapped_column(ForeignKey("breakdown_set.id", ondelete="CASCADE"))
-    loop_id: Mapped[int | None] = mapped_column(ForeignKey("loop.id", ondelete="CASCADE"))
+    breakdown_set_id: Mapped[int | None] = mapped_column(ForeignKey("breakdown_set.id", ondelete="CASCADE"),
+                                                         index=True)
+    loop_id: Mapped[int | None] = mapped_column(ForeignKey("loop.id", ondelete="CASCADE"), index=True)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utcnow)
     retired_at: Mapped[dt.datetime | None] = mapped_column(DateTime)
     retired_reason: Mapped[str | None] = mapped_column(Text)

@@ -10,7 +10,7 @@ from pathlib import Path
 
 from materials.errors import StoreError
 
-SCHEMA_REVISION = "0001"
+SCHEMA_REVISION = "0002"  # the newest migration in db/migrations/versions
 
 
 @dataclass
@@ -27,8 +27,46 @@ class Store:
             with s.begin():
                 yield s
 
+    def write(self, fn, *, retries: int = 12):
+        """``fn(session)`` in its own transaction, re-run when another writer got in the way; its result.
+
+        Re-runs on SQLite 'database is locked' and on PostgreSQL serialization failures and deadlocks (the
+        transaction runs SERIALIZABLE there, so a read-then-insert such as get-or-create of a source is safe
+        against a concurrent writer). ``fn`` must therefore do nothing outside the session it is given.
+        """
+        import random
+        import time
+
+        from sqlalchemy.exc import DBAPIError
+        from sqlalchemy.orm import Session
+
+        bind = self.engine
+        if self.engine.dialect.name == "postgresql":
+            bind = self.engine.execution_options(isolation_level="SERIALIZABLE")
+        for attempt in range(retries + 1):
+            try:
+                with Session(bind, expire_on_commit=False) as s:
+                    with s.begin():
+                        return fn(s)
+            except DBAPIError as exc:
+                if attempt == retries or not is_transient(exc):
+                    raise
+            # Jittered exponential back-off so that colliding writers do not collide again.
+            time.sleep(min(0.02 * 2 ** attempt, 1.0) * random.uniform(0.5, 1.5))
+        raise AssertionError("unreachable")
+
     def dispose(self):
         self.engine.dispose()
+
+
+def is_transient(exc) -> bool:
+    """Whether a database error is a lock or serialization conflict that a re-run of the transaction can clear."""
+    orig = getattr(exc, "orig", exc)
+    state = getattr(orig, "sqlstate", None)
+    if state in ("40001", "40P01", "55P03"):  # serialization failure, deadlock, lock not available
+        return True
+    text = str(orig).lower()
+    return "database is locked" in text or "database is busy" in text or "database table is locked" in text
 
 
 def _has_schema(engine) -> bool:
@@ -59,7 +97,7 @@ def write_catalog(session, sources, materials) -> None:
                 thickness_m=v.thickness_m, area_m2=v.area_m2, source_id=src_ids[v.source].id, note=v.note))
 
 
-def _fill(engine, catalog_dir=None) -> None:
+def _fill(engine, catalog_dir=None, *, only_if_empty: bool = False) -> None:
     from sqlalchemy.orm import Session
 
     from db.models import Base, Meta
@@ -68,19 +106,26 @@ def _fill(engine, catalog_dir=None) -> None:
     catalog_dir = catalog_dir or default_dir()
     sources, materials = load_catalog(catalog_dir)
     with Session(engine) as s, s.begin():
+        if engine.dialect.name == "postgresql":
+            # Two commands opening the same empty server at once: the second waits here, then finds it built.
+            from sqlalchemy import text
+
+            s.execute(text("SELECT pg_advisory_xact_lock(7304117)"))
+            if only_if_empty and _has_schema(s.connection()):
+                return
         Base.metadata.create_all(s.connection())
         write_catalog(s, sources, materials)
         s.add(Meta(key="schema_revision", value=SCHEMA_REVISION))
         s.add(Meta(key="catalog_fingerprint", value=catalog_fingerprint(catalog_dir)))
-    _stamp_alembic(engine)
+        _stamp_alembic(s.connection())
 
 
-def _stamp_alembic(engine) -> None:
+def _stamp_alembic(conn) -> None:
     try:
         from db.migrate import stamp_head
     except ImportError:  # migrations not installed: nothing to stamp
         return
-    stamp_head(engine)
+    stamp_head(conn)
 
 
 def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
@@ -91,12 +136,13 @@ def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
     in one transaction. A store holding lab or user materials is only rebuilt with ``force``.
     """
     from materials.catalog_io import load_catalog
-    from db.engine import make_engine, sqlite_file
+    from db.engine import connect_errors, make_engine, sqlite_file
 
     load_catalog(catalog_dir)  # validate before touching anything
     path = sqlite_file(url)
     if not force:
-        _refuse_if_lab_data(url)
+        with connect_errors(url):
+            _refuse_if_lab_data(url)
     if path is not None:
         path.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=".holdoff-build-", suffix=".sqlite", dir=path.parent)
@@ -126,7 +172,7 @@ def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
 
         from db.models import Base
 
-        with Session(engine) as s, s.begin():
+        with connect_errors(url), Session(engine) as s, s.begin():
             Base.metadata.drop_all(s.connection())
             _drop_alembic_table(s.connection())
         _fill(engine, catalog_dir)
@@ -163,7 +209,7 @@ def _refuse_if_lab_data(url: str) -> None:
 
 def open_store(url: str | None = None, *, create: bool = True) -> Store:
     """Open the store at ``url`` (see :func:`db.engine.resolve_url`), building it from the catalog on first use."""
-    from db.engine import make_engine, mask_url, resolve_url, sqlite_file
+    from db.engine import error_text, make_engine, mask_url, resolve_url, sqlite_file
 
     url = resolve_url(url)
     path = sqlite_file(url)
@@ -176,14 +222,17 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
         fresh = not _has_schema(engine)
     except Exception as exc:
         engine.dispose()
-        raise StoreError(f"cannot open store {mask_url(url)}: {type(exc).__name__}: "
-                         f"{mask_url(str(exc)).splitlines()[0]}") from None
+        raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
     if fresh:
         if not create:
             engine.dispose()
             raise StoreError(f"the store at {mask_url(url)} is empty (run 'holdoff db init')")
         if path is None:
-            _fill(engine)
+            try:
+                _fill(engine, only_if_empty=True)
+            except BaseException:
+                engine.dispose()
+                raise
         else:
             engine.dispose()
             build(url, force=True)
