@@ -25,8 +25,9 @@ import math
 from dataclasses import dataclass, field
 
 from materials.errors import DataError
-from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, bias_curve, temperature_points, value_at
+from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, bias_curve, value_at
 from materials.records import MaterialData
+from ranking.worstcase import worst_case
 
 
 @dataclass(frozen=True)
@@ -86,11 +87,6 @@ def _c(t_K: float) -> str:
     return f"{t_K - 273.15:g} °C"
 
 
-def _grid(material: MaterialData, tmin: float, tmax: float) -> list[float]:
-    pts = temperature_points(material, ("relative_permittivity", "breakdown_field", "loss_tangent"))
-    return sorted({tmin, tmax, *[t for t in pts if tmin < t < tmax]})
-
-
 def _add(ev: Evaluation, name: str, *vals) -> None:
     lst = ev.sources.setdefault(name, [])
     for v in vals:
@@ -115,8 +111,9 @@ def _rated(material: MaterialData, target, ev: Evaluation) -> None:
 def evaluate(material: MaterialData, target, *, thickness_m: float | None = None) -> Evaluation:
     """Check the hard constraints and compute every criterion of ``material`` for ``target``."""
     from materials.energy import charge_density
-    from materials.sizing import design_field, size_linear
-    from ranking.ceiling import DEFAULT_TEST_AREA_M2, DEFAULT_WEIBULL_SHAPE, energy_density_at
+    from materials.sizing import design_field
+    from ranking.part import size_worst_case
+    from ranking.ceiling import energy_density_at
 
     ev = Evaluation(key=material.key, name=material.name, family=material.family, thickness_m=thickness_m)
     if target.families and material.family not in target.families:
@@ -126,52 +123,28 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
     for prop in ("relative_permittivity", "breakdown_field"):
         if not material.has(prop):
             ev.reasons.append(f"{prop} missing")
-    curve0 = bias_curve(material)
-    if (material.response == "nonlinear" and curve0 is None
+    if (material.response == "nonlinear" and bias_curve(material) is None
             and not any(r.field_V_per_m for r in material.rows("recoverable_energy_density"))):
         ev.reasons.append("nonlinear response but no DC-bias curve or loop data: its energy cannot be computed")
     if ev.reasons:
         return ev
-
-    grid = _grid(material, target.tmin_K, target.tmax_K)
-    eps_at = {t: value_at(material, "relative_permittivity", temperature_K=t, extrapolate=True) for t in grid}
-    ebd_at = {t: value_at(material, "breakdown_field", temperature_K=t, extrapolate=True) for t in grid}
-    if any(v.extrapolated for v in (*eps_at.values(), *ebd_at.values())):
-        ev.flags.append("extrapolated")
-    t_eps = min(grid, key=lambda t: eps_at[t].value)
-    t_ebd = min(grid, key=lambda t: ebd_at[t].value)
-    eps, ebd = eps_at[t_eps], ebd_at[t_ebd]
-    _add(ev, "energy", eps, ebd)
     try:
-        beta_v = value_at(material, "weibull_shape", temperature_K=t_ebd, extrapolate=True)
-        beta = beta_v.value
-        _add(ev, "energy", beta_v)
-    except DataError:
-        beta_v = None
-        if not target.assume_defaults:
-            ev.reasons.append("weibull_shape missing: breakdown cannot be scaled to the part's area "
-                              "(allow common-practice defaults to take β = 10)")
-            return ev
-        beta = DEFAULT_WEIBULL_SHAPE
-        ev.flags.append("assumed-shape")
-    test_area = next((r.area_m2 for r in ebd.rows if r.area_m2), None)
-    if test_area is None:
-        if not target.assume_defaults:
-            ev.reasons.append("breakdown test electrode area not stated: cannot scale to the part's area "
-                              "(allow common-practice defaults to take 1 cm²)")
-            return ev
-        test_area = DEFAULT_TEST_AREA_M2
-        ev.flags.append("assumed-test-area")
-    d_min = None
-    if material.has("min_thickness"):
-        dm = value_at(material, "min_thickness")
-        d_min = dm.value
-        _add(ev, "volume", dm)
-    density = None
-    if material.has("density"):
-        dv = value_at(material, "density", extrapolate=True)
-        density = dv.value
-        _add(ev, "mass", dv)
+        wc = worst_case(material, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
+                        assume_defaults=target.assume_defaults)
+    except DataError as exc:
+        ev.reasons.append(str(exc))
+        return ev
+    ev.flags += wc.flags
+    grid, eps_at, ebd_at, t_eps, t_ebd = wc.grid, wc.eps_at, wc.ebd_at, wc.t_eps, wc.t_ebd
+    eps, ebd, beta, beta_v, test_area = wc.eps, wc.ebd, wc.beta, wc.beta_v, wc.test_area_m2
+    curve0 = wc.bias_curve(material)
+    _add(ev, "energy", eps, ebd, *([beta_v] if beta_v else []))
+    d_min = wc.min_thickness.value if wc.min_thickness else None
+    if wc.min_thickness:
+        _add(ev, "volume", wc.min_thickness)
+    density = wc.density.value if wc.density else None
+    if wc.density:
+        _add(ev, "mass", wc.density)
     V, p = target.voltage_V, target.failure_probability
 
     def e_design(area):
@@ -181,7 +154,6 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
     def u_at(e):
         return energy_density_at(material, e, temperature_K=t_eps, eps=eps)[0]
 
-    linear = curve0 is None and material.response == "linear"
     area = target.area_m2
     if thickness_m is not None:
         d = thickness_m
@@ -198,10 +170,9 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
                               f"{ed / 1e6:.4g} V/µm (breakdown at {_c(t_ebd)}, β {beta:.3g}, p {p:g})")
             return ev
         ev.binding = f"fixed layer {d * 1e6:g} µm: {e_op / ed:.0%} of the design field"
-    elif target.energy_J is not None and linear:
-        res = size_linear(energy_J=target.energy_J, voltage_V=V, relative_permittivity=eps.value,
-                          scale_V_per_m=ebd.value, shape=beta, test_area_m2=test_area, failure_probability=p,
-                          margin=target.margin, density_kg_per_m3=density, min_thickness_m=d_min)
+    elif target.energy_J is not None and (curve0 is not None or material.response == "linear"):
+        res = size_worst_case(material, wc, energy_J=target.energy_J, voltage_V=V, failure_probability=p,
+                              margin=target.margin)
         d, area, ed, e_op = res.thickness_m, res.area_m2, res.design_field_V_per_m, res.operating_field_V_per_m
         u_op = u_at(e_op)
         ev.details["sizing"] = res
@@ -266,10 +237,8 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
         ev.details["failure_probability"] = _failure_probability(e_op, ebd.value, beta,
                                                                  test_area, area, scale_to_area)
     # Loss: the largest tan δ over the grid.
-    if material.has("loss_tangent"):
-        tl = [value_at(material, "loss_tangent", temperature_K=t, frequency_Hz=target.frequency_Hz,
-                       extrapolate=True) for t in grid]
-        worst = max(tl, key=lambda v: v.value)
+    if wc.loss is not None:
+        worst = wc.loss
         ev.values["loss"], ev.low["loss"], ev.high["loss"] = worst.value, worst.low, worst.high
         _add(ev, "loss", worst)
         if target.max_loss_tangent is not None and worst.value > target.max_loss_tangent:
@@ -330,5 +299,5 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
 
 def _failure_probability(field_V_per_m, scale, shape, test_area, area, scale_to_area) -> float:
     """Short-term failure probability of the part's whole area at a field (Weibull, weakest link)."""
-    scale_part = float(scale_to_area(scale, test_area, area, shape))
+    scale_part = float(scale_to_area(scale, area_from_m2=test_area, area_to_m2=area, shape=shape))
     return 1.0 - math.exp(-((field_V_per_m / scale_part) ** shape))

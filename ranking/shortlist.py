@@ -21,6 +21,15 @@ def weights_for(target) -> dict[str, float]:
 
 def _impute(evals: list[Evaluation], names: list[str]) -> None:
     """A missing criterion takes the worst value among the candidates (and is flagged), never a flattering one."""
+    if "mass" in names:
+        dens = [e.values["mass"] / e.values["volume"] for e in evals if "mass" in e.values and e.values["volume"]]
+        if dens:
+            rho = max(dens)
+            for e in evals:
+                if "mass" not in e.values:
+                    e.values["mass"] = e.values["volume"] * rho
+                    e.low["mass"], e.high["mass"] = e.low["volume"] * rho, e.high["volume"] * rho
+                    e.flags.append("density missing: the densest candidate's density assumed")
     for name in names:
         have = [e.values[name] for e in evals if name in e.values]
         if not have:
