@@ -1,0 +1,1 @@
+"""Targets, criteria, multi-criteria ranking methods, robustness, comparison tables and charts."""
