@@ -16,7 +16,7 @@ def check_store(store) -> list[Finding]:
     from sqlalchemy import func, select, text
 
     from db.models import BreakdownPoint, BreakdownSet, Loop, LoopPoint, Material, PropertyValue, Source
-    from materials.properties import PROPERTIES, check_plausible
+    from materials.properties import PROPERTIES, check_plausible, outside_range
 
     out: list[Finding] = []
     with store.engine.connect() as c:
@@ -48,7 +48,7 @@ def check_store(store) -> list[Finding]:
                 why = check_plausible(prop, v, mats.get(mid))
                 if why:
                     out.append(Finding("error", f"value #{vid} of {keys.get(mid)}: {label}: {why}"))
-            if low is not None and value < low * (1 - 1e-12) or high is not None and value > high * (1 + 1e-12):
+            if outside_range(value, low, high):
                 out.append(Finding("error", f"value #{vid} of {keys.get(mid)}: value outside its low…high range"))
         for label, model, pmodel, fk in (("breakdown set", BreakdownSet, BreakdownPoint, BreakdownPoint.set_id),
                                          ("loop", Loop, LoopPoint, LoopPoint.loop_id)):

@@ -28,12 +28,15 @@ _TOKEN = re.compile(r"""
   | (?P<lp>\() | (?P<rp>\))
   | (?P<op><=|>=|==|!=|=|<|>)
   | (?P<num>[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)
-  | (?P<word>[A-Za-z_°µμ%][A-Za-z0-9_°µμ%/*^.\-]*)
+  | (?P<word>[A-Za-z_°µμ℃Ω%][A-Za-z0-9_°µμ℃Ω%/*^.²³·\-]*)
 """, re.VERBOSE)
 _KEYWORDS = {"and", "or", "not", "has"}
 _OPS = {"<": operator.lt, "<=": operator.le, ">": operator.gt, ">=": operator.ge, "=": operator.eq,
         "==": operator.eq, "!=": operator.ne}
 _ATTRS = {"family": FAMILIES, "response": RESPONSES, "origin": ORIGINS}
+# Limits that keep parsing and evaluation far from Python's recursion limit: beyond them a filter is an error.
+MAX_TOKENS = 400
+MAX_DEPTH = 50
 
 
 @dataclass
@@ -66,6 +69,9 @@ class _Parser:
         self.expr = expr
         self.toks = _tokens(expr)
         self.i = 0
+        self.depth = 0
+        if len(self.toks) > MAX_TOKENS:
+            raise _error(expr, self.toks[MAX_TOKENS].pos, f"expression too long (more than {MAX_TOKENS} tokens)")
 
     def peek(self) -> _Tok:
         return self.toks[self.i]
@@ -104,6 +110,15 @@ class _Parser:
 
     def factor(self):
         t = self.peek()
+        self.depth += 1
+        try:
+            if self.depth > MAX_DEPTH:
+                raise _error(self.expr, t.pos, f"expression nested too deeply (more than {MAX_DEPTH} levels)")
+            return self._factor(t)
+        finally:
+            self.depth -= 1
+
+    def _factor(self, t: _Tok):
         if self.is_kw("not"):
             self.take()
             return ("not", self.factor())
@@ -152,8 +167,9 @@ class _Parser:
 
             value = parse_quantity(f"{n.text} {' '.join(unit_parts)}".strip(), si=si, name=key)
         except UnitError as exc:
-            raise _error(self.expr, unit_pos if unit_parts else n.pos,
-                         str(exc) + (" (add a unit, e.g. '400 V/um')" if not unit_parts else "")) from None
+            hint = (f" (add a unit, e.g. '{n.text} {PROPERTIES[key].display_unit}')"
+                    if not unit_parts and si != "1" else "")
+            raise _error(self.expr, unit_pos if unit_parts else n.pos, str(exc) + hint) from None
         return ("cmp", key, op.text, value)
 
 

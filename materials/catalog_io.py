@@ -40,7 +40,8 @@ import tomllib
 from pathlib import Path
 
 from materials.errors import InputError, UnitError
-from materials.properties import FAMILIES, ORIGINS, PROPERTIES, RESPONSES, SOURCE_KINDS, check_plausible
+from materials.properties import (FAMILIES, ORIGINS, PROPERTIES, RESPONSES, SOURCE_KINDS, check_plausible,
+                                  outside_range)
 from materials.records import MaterialRec, SourceRec, ValueRec
 from materials.units import parse_quantity
 
@@ -72,6 +73,8 @@ def _load_toml(path: Path) -> tuple[dict, list[str]]:
         text = path.read_bytes().decode("utf-8")
     except UnicodeDecodeError as exc:
         raise InputError(f"not UTF-8 text (byte {exc.start})", file=str(path)) from None
+    except OSError as exc:  # a missing sources.toml or a wrong HOLDOFF_CATALOG is the user's input, not a bug
+        raise InputError(f"cannot read: {exc.strerror or exc}", file=str(path)) from None
     try:
         return tomllib.loads(text), text.splitlines()
     except tomllib.TOMLDecodeError as exc:
@@ -143,6 +146,8 @@ def _conditions(body: dict) -> dict:
                 out[field] = _number(v, si=si, unit=None, name=tkey)
             except UnitError as exc:
                 raise _FieldError(tkey, str(exc)) from None
+            if tkey in ("frequency", "thickness", "area") and out[field] <= 0:
+                raise _FieldError(tkey, f"{tkey} must be positive")
     return out
 
 
@@ -181,7 +186,7 @@ def _value_rec(body: dict, *, family: str, sources: dict[str, SourceRec], allowe
     lo, hi = nums.get("low"), nums.get("high")
     if lo is not None and hi is not None and lo > hi:
         raise _FieldError("low", "low is above high")
-    if (lo is not None and nums["value"] < lo * (1 - 1e-12)) or (hi is not None and nums["value"] > hi * (1 + 1e-12)):
+    if outside_range(nums["value"], lo, hi):
         raise _FieldError("value", "value lies outside its own low…high range")
     return ValueRec(property=prop, value=nums["value"], low=lo, high=hi, source=src,
                     note=str(body.get("note", "")).strip(), **_conditions(body))
@@ -250,7 +255,10 @@ def load_material(path: Path, sources: dict[str, SourceRec], *, origin: str = "c
         for i, body in enumerate(items):
             line = _nth_table_line(lines, table, i)
             label = f"{key} {table} #{i + 1}"
-            if isinstance(body, dict) and body.get("property"):
+            if not isinstance(body, dict):
+                raise InputError(f"'{table}' must be an array of tables ([[{table}]])", file=str(path), line=line,
+                                 entry=label, field=table)
+            if body.get("property"):
                 label += f" ({body['property']})"
             try:
                 new = (_value_rec(body, family=family, sources=sources, allowed=_VALUE_KEYS) if table == "value"

@@ -136,6 +136,22 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
             want = temperature_K or REFERENCE_TEMPERATURE_K
             near = min((t for t in temps if t is not None), key=lambda t: abs(t - want))
             bias = [r for r in bias if r.temperature_K == near]
+        first = min(r.field_V_per_m for r in bias)
+        small = small_signal_rows(rows)
+        if 0 < field_V_per_m < first and small:
+            # Below the first bias point the curve runs to the small-signal value at zero field, which is data.
+            zero = value_at(material, prop, temperature_K=temperature_K, frequency_Hz=frequency_Hz,
+                            extrapolate=extrapolate)
+            end = _best([r for r in bias if r.field_V_per_m == first])
+            w = field_V_per_m / first
+
+            def lerp(a, b):
+                return a + (b - a) * w
+
+            return ValueAt(prop, lerp(zero.value, end.value),
+                           lerp(zero.low, end.low if end.low is not None else end.value),
+                           lerp(zero.high, end.high if end.high is not None else end.value), zero.extrapolated,
+                           zero.rows + (end,), (0.0, max(r.field_V_per_m for r in bias)))
         return _curve(bias, "field_V_per_m", field_V_per_m, prop=prop, extrapolate=extrapolate, what=_fmt_E)
     rows = small_signal_rows(rows) or rows
     return _curve(rows, "temperature_K", temperature_K, prop=prop, extrapolate=extrapolate, what=_fmt_T)

@@ -82,3 +82,10 @@ def check_plausible(prop: str, value: float, family: str | None = None) -> str |
     fam = f" for a {family} material" if prop == "relative_permittivity" and family else ""
     return (f"{prop} = {value:g} {unit} is outside the plausible range {lo:g}…{hi:g} {unit}{fam}"
             " (a unit slip?)")
+
+
+def outside_range(value: float, low: float | None, high: float | None) -> bool:
+    """True if ``value`` lies outside [low, high] by more than rounding (either bound may be None)."""
+    # The tolerance is on magnitudes: ``low * (1 - eps)`` moves a negative bound the wrong way.
+    return ((low is not None and value < low - 1e-12 * abs(low))
+            or (high is not None and value > high + 1e-12 * abs(high)))

@@ -37,7 +37,7 @@ SI_UNITS = {
 
 _ALIASES = [
     (re.compile(r"µ|μ"), "u"),
-    (re.compile(r"°\s*C\b|\bdegC\b|\bcelsius\b|\b℃"), "degC"),
+    (re.compile(r"°\s*C\b|\bdegC\b|\bcelsius\b|℃"), "degC"),
     (re.compile(r"°\s*F\b"), "degF"),
     (re.compile(r"\bohm\s*[·*]?\s*cm\b", re.I), "ohm*cm"),
     (re.compile(r"·"), "*"),
@@ -118,9 +118,14 @@ def parse_quantity(text, *, si: str, default_unit: str | None = None, name: str 
             raise UnitError(f"{name}: '{text}' has no unit (expected a {si} quantity)")
         unit = default_unit
     try:
-        return to_si(number, unit, si)
+        value = to_si(number, unit, si)
     except UnitError as exc:
         raise UnitError(f"{name}: {exc}") from None
+    if math.isinf(value):  # '1e308 kV' overflows on conversion
+        raise UnitError(f"{name}: '{text}' is too large to be a {si} quantity")
+    if si == "K" and value < 0:
+        raise UnitError(f"{name}: '{text}' is below absolute zero")
+    return value
 
 
 # Default units of CLI options (DESIGN.md): a bare number takes these.
