@@ -21,4 +21,4 @@ test: install
 	$(BIN)/python -m pytest
 
 bench: install
-	$(BIN)/python -m pytest tests/bench -p no:cacheprovider -s -o addopts=""
+	$(BIN)/python -m pytest tests/bench -p no:cacheprovider -s -o addopts="" -o python_files="bench_*.py"

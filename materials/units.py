@@ -81,12 +81,18 @@ def _unit_factor(unit_text: str, si_key: str) -> tuple[float, float]:
         raise UnitError(f"unit '{unit_text}' is not a {si_key} quantity")
     q0 = ureg.Quantity(0.0, unit).to(target).magnitude
     q1 = ureg.Quantity(1.0, unit).to(target).magnitude
-    return q1 - q0, q0
+    # pint composes factors in floating point (1 µm → 9.999999999999999e-07 m); 15 digits recover the exact one.
+    return float(f"{q1 - q0:.15g}"), float(f"{q0:.15g}")
 
 
 def to_si(value: float, unit_text: str, si_key: str) -> float:
     """Convert ``value`` in ``unit_text`` to the SI unit ``si_key`` (a key of :data:`SI_UNITS`)."""
     scale, offset = _unit_factor(_normalise_unit_text(unit_text), si_key)
+    if 0 < scale < 1:
+        inv = float(f"{1 / scale:.15g}")
+        if inv == round(inv):
+            # Dividing by an exact power (1e6) rounds correctly where multiplying by 1e-6 does not.
+            return value / inv + offset
     return value * scale + offset
 
 

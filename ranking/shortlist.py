@@ -76,6 +76,8 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
     if not names:
         raise InputError("every criterion has weight 0")
     _impute(ok, names)
+    # A criterion no candidate has cannot separate them: it is left out (and so shown in no table).
+    names = [n for n in names if not ok or all(n in e.values for e in ok)]
     ranked = []
     if ok:
         lo, typ, hi = _matrices(ok, names)
@@ -95,9 +97,12 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
         else:
             order = sorted(range(len(ok)), key=lambda i: (-score[i], ok[i].label))
         mc_method = "topsis" if method == "topsis" else "weighted"
-        rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, len(ok)),
-                          seed=seed)
-        p_first, p_top_k = _get(rob, "p_first"), _get(rob, "p_top_k")
+        if draws > 0:
+            rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, len(ok)),
+                              seed=seed)
+            p_first, p_top_k = rob.p_first, rob.p_top_k
+        else:
+            p_first = p_top_k = np.full(len(ok), np.nan)
         win = order[0]
         for rank, i in enumerate(order, 1):
             e = ok[i]
@@ -139,10 +144,6 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
         "sources": {k: srcs[k] for k in sorted(used) if k in srcs},
         "cautions": [CAUTION],
     }
-
-
-def _get(obj, name):
-    return obj[name] if isinstance(obj, dict) else getattr(obj, name)
 
 
 def _design(e: Evaluation) -> dict:

@@ -1,0 +1,275 @@
+"""Shortlist: constraints with reasons, worst-case criteria, methods, explanations, robustness, design space."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from ranking.shortlist import shortlist
+from ranking.target import Target, load_target, parse_thicknesses, parse_weights
+
+C = 273.15
+EPS0 = 8.8541878188e-12
+
+
+def film(make_material, key, *, eps=2.2, ebd=600e6, beta=12.0, tmax=105.0, tmin=-55.0, loss=2e-4, rho=905.0,
+         dmin=2e-6, heal=1.0, kind="handbook", curve=None):
+    rows = [("relative_permittivity", eps, kind, {"temperature_K": 25 + C}),
+            ("breakdown_field", ebd, kind, {"temperature_K": 25 + C, "area_m2": 1e-4}),
+            ("weibull_shape", beta, kind), ("max_temperature", tmax + C, kind), ("min_temperature", tmin + C, kind),
+            ("loss_tangent", loss, kind), ("density", rho, kind), ("min_thickness", dmin, kind),
+            ("self_healing", heal, kind)]
+    for t, e in (curve or []):
+        rows.append(("breakdown_field", e, kind, {"temperature_K": t + C, "area_m2": 1e-4}))
+    return make_material(key, rows)
+
+
+def target(**kw):
+    base = dict(voltage_V=800.0, tmin_K=-40 + C, tmax_K=85 + C, energy_J=80.0, failure_probability=1e-3)
+    base.update(kw)
+    return Target(**base)
+
+
+def test_every_material_ranked_or_excluded_with_reasons(mem_store):
+    from db.query import load_materials
+
+    with mem_store.session() as s:
+        mats = load_materials(s)
+    res = shortlist(mats, target(tmax_K=125 + C), draws=200)
+    keys = [r["key"] for r in res["ranked"]] + [e["key"] for e in res["excluded"]]
+    assert sorted(keys) == sorted(m.key for m in mats)
+    assert all(e["reasons"] for e in res["excluded"])
+
+
+def test_scenario_polypropylene_excluded_for_temperature_common_practice(mem_store):
+    """Common practice (Yang & Dang 2020): BOPP film capacitors are limited to 105 °C."""
+    from db.query import load_materials
+
+    with mem_store.session() as s:
+        mats = [m for m in load_materials(s) if "polypropylene" in m.key]
+    assert mats
+    res = shortlist(mats, target(tmax_K=125 + C), draws=50)
+    for e in res["excluded"]:
+        assert any("rated to 105 °C" in r for r in e["reasons"]), e
+    assert not res["ranked"]
+
+
+def test_scenario_pet_excluded_at_150C_common_practice(mem_store):
+    """Common practice: PET film is rated to about 100–125 °C, never 150 °C."""
+    from db.query import load_materials
+
+    with mem_store.session() as s:
+        mats = [m for m in load_materials(s) if m.key.startswith("pet")]
+    assert mats
+    res = shortlist(mats, target(tmax_K=150 + C, tmin_K=25 + C), draws=50)
+    assert not res["ranked"]
+    assert any("rated to" in r for r in res["excluded"][0]["reasons"])
+
+
+def test_scenario_class1_ceramic_shows_no_bias_drift(mem_store):
+    """EIA-198 class 1 (C0G): no DC-bias effect, so the drift criterion has no bias part."""
+    from db.query import load_materials
+    from ranking.criteria import evaluate
+
+    with mem_store.session() as s:
+        mats = [m for m in load_materials(s) if m.family == "ceramic-class-1"]
+    assert mats
+    for m in mats:
+        ev = evaluate(m, target(tmin_K=-55 + C, tmax_K=125 + C, assume_defaults=True))
+        if ev.ok:
+            assert ev.details["drift_bias"] == 0.0
+
+
+def test_class2_ceramic_shows_bias_drift(mem_store):
+    from db.query import load_materials
+    from ranking.criteria import evaluate
+
+    with mem_store.session() as s:
+        mats = [m for m in load_materials(s) if m.key == "mlcc-x7r"]
+    ev = evaluate(mats[0], target(tmin_K=-55 + C, tmax_K=125 + C, voltage_V=50.0, energy_J=0.01,
+                                  assume_defaults=True))
+    assert ev.ok, ev.reasons
+    assert ev.details["drift_bias"] > 0.05
+
+
+def test_reason_names_missing_property(make_material):
+    m = make_material("bare", [("relative_permittivity", 3.0, "handbook")])
+    res = shortlist([m], target(), draws=10)
+    reasons = " ".join(res["excluded"][0]["reasons"])
+    assert "breakdown_field missing" in reasons and "max_temperature missing" in reasons
+
+
+def test_missing_shape_needs_consent_for_defaults(make_material):
+    m = film(make_material, "f")
+    m.values = [v for v in m.values if v.property != "weibull_shape"]
+    assert "weibull_shape missing" in shortlist([m], target(), draws=10)["excluded"][0]["reasons"][0]
+    res = shortlist([m], target(assume_defaults=True), draws=10)
+    assert res["ranked"] and "assumed-shape" in res["ranked"][0]["flags"]
+
+
+def test_energy_density_target_excludes_with_reason(make_material):
+    a = film(make_material, "a")
+    res = shortlist([a], target(energy_density_J_per_m3=50e6), draws=10)
+    assert "below the target" in res["excluded"][0]["reasons"][0]
+
+
+def test_loss_limit_excludes(make_material):
+    res = shortlist([film(make_material, "lossy", loss=0.02)], target(max_loss_tangent=0.01), draws=10)
+    assert "above the limit" in res["excluded"][0]["reasons"][0]
+
+
+def test_worst_case_is_the_hot_end(make_material):
+    m = film(make_material, "hot", curve=[(85, 450e6), (105, 400e6)])
+    res = shortlist([m], target(), draws=10)
+    r = res["ranked"][0]
+    assert "85 °C" in r["binding"]
+    assert math.isclose(r["design"]["worst_temperature_K"], 85 + C)
+
+
+def test_linear_sizing_is_self_consistent(make_material):
+    """C = ε0·εr·A/d, W = ½·C·V², d = V/E for a linear material (textbook parallel-plate relations)."""
+    m = film(make_material, "pp", dmin=1e-7)
+    res = shortlist([m], target(), draws=10)
+    d = res["ranked"][0]["design"]
+    cap = EPS0 * 2.2 * d["area_m2"] / d["thickness_m"]
+    assert math.isclose(0.5 * cap * 800.0 ** 2, 80.0, rel_tol=1e-6)
+    assert math.isclose(800.0 / d["thickness_m"], d["operating_field_V_per_m"], rel_tol=1e-9)
+
+
+def test_min_thickness_binds_at_low_voltage(make_material):
+    m = film(make_material, "thin", dmin=3e-6)
+    res = shortlist([m], target(voltage_V=50.0, energy_J=0.1), draws=10)
+    r = res["ranked"][0]
+    assert "thinnest layer made" in r["binding"]
+    assert math.isclose(r["design"]["thickness_m"], 3e-6)
+
+
+def test_design_space_thinner_grade_can_win(make_material):
+    a = film(make_material, "a", ebd=650e6, dmin=2e-6)
+    b = film(make_material, "b", ebd=600e6, eps=2.3, dmin=2e-6)
+    res = shortlist([a, b], target(voltage_V=400.0, thicknesses_m=(2.5e-6, 6e-6), energy_J=1.0,
+                                   failure_probability=0.5), draws=50)
+    labels = [r["label"] for r in res["ranked"]] + [e["label"] for e in res["excluded"]]
+    assert sorted(labels) == sorted(["a @ 2.5 µm", "a @ 6 µm", "b @ 2.5 µm", "b @ 6 µm"])
+    # At fixed voltage, the thinner layer runs at a higher field and stores more per volume.
+    ranked = {r["label"]: r for r in res["ranked"]}
+    if "a @ 2.5 µm" in ranked and "a @ 6 µm" in ranked:
+        assert ranked["a @ 2.5 µm"]["criteria"]["energy"] > ranked["a @ 6 µm"]["criteria"]["energy"]
+
+
+def test_design_space_refuses_a_layer_over_its_design_field(make_material):
+    m = film(make_material, "a", ebd=300e6)
+    res = shortlist([m], target(voltage_V=800.0, thicknesses_m=(2.5e-6,)), draws=10)
+    assert "above the design field" in res["excluded"][0]["reasons"][0]
+
+
+def test_explanations_contributions_and_runner_up(make_material):
+    a = film(make_material, "a", ebd=700e6)
+    b = film(make_material, "b", ebd=500e6, loss=1e-3)
+    for method in ("topsis", "weighted", "pareto"):
+        res = shortlist([a, b], target(), method=method, draws=100)
+        win, second = res["ranked"]
+        assert win["key"] == "a"
+        assert set(win["contributions"]) == set(win["criteria"])
+        assert "behind on" in second["versus_winner"]
+        assert second["dominated_by"] == "a"
+        assert res["cautions"]
+
+
+def test_weighted_contributions_sum_to_score(make_material):
+    mats = [film(make_material, k, ebd=e, loss=l) for k, e, l in (("a", 700e6, 3e-4), ("b", 500e6, 1e-4),
+                                                                   ("c", 600e6, 2e-4))]
+    res = shortlist(mats, target(), method="weighted", draws=10)
+    for r in res["ranked"]:
+        assert math.isclose(sum(r["contributions"].values()), r["score"], rel_tol=1e-9, abs_tol=1e-12)
+
+
+def test_robustness_is_seeded_and_a_dominant_candidate_wins_always(make_material):
+    a = film(make_material, "a", ebd=800e6, loss=1e-4)
+    b = film(make_material, "b", ebd=500e6, loss=5e-4)
+    r1 = shortlist([a, b], target(), draws=300, seed=7)
+    r2 = shortlist([a, b], target(), draws=300, seed=7)
+    assert r1 == r2
+    assert r1["ranked"][0]["p_top"] == 1.0
+
+
+def test_lower_confidence_for_recollection(make_material):
+    a = film(make_material, "a", kind="handbook")
+    b = film(make_material, "b", kind="recollection")
+    res = shortlist([a, b], target(), draws=10)
+    conf = {r["key"]: r["confidence"] for r in res["ranked"]}
+    assert conf["a"] > conf["b"]
+    assert "recollection" in next(r for r in res["ranked"] if r["key"] == "b")["flags"]
+
+
+@settings(max_examples=15, deadline=None)
+@given(st.permutations(range(4)))
+def test_invariant_to_row_order(make_material, perm):
+    mats = [film(make_material, k, ebd=e, loss=l, eps=p) for k, e, l, p in
+            (("a", 700e6, 3e-4, 2.2), ("b", 500e6, 1e-4, 3.1), ("c", 600e6, 2e-4, 2.6), ("d", 550e6, 4e-4, 2.4))]
+    base = shortlist(mats, target(), draws=0)
+    shuffled = shortlist([mats[i] for i in perm], target(), draws=0)
+    assert [(r["key"], round(r["score"], 12)) for r in base["ranked"]] == \
+        [(r["key"], round(r["score"], 12)) for r in shuffled["ranked"]]
+
+
+def test_target_file_and_overrides(tmp_path):
+    p = tmp_path / "t.toml"
+    p.write_text('[target]\nvoltage = "0.8 kV"\ntmin = -40\ntmax = "125 degC"\nenergy = "80 J"\n'
+                 'thicknesses = ["2.5 um", "3 um"]\n[weights]\nenergy = 3\nloss = 2\n')
+    t = load_target(p)
+    assert t.voltage_V == 800.0 and math.isclose(t.tmin_K, 233.15) and t.thicknesses_m == (2.5e-6, 3e-6)
+    assert t.weights == {"energy": 3.0, "loss": 2.0}
+
+
+def test_target_file_errors_name_file_and_field(tmp_path):
+    from materials.errors import InputError
+
+    p = tmp_path / "t.toml"
+    p.write_text('[target]\nvoltage = "800 K"\ntmin = -40\ntmax = 125\n')
+    with pytest.raises(InputError, match="t.toml"):
+        load_target(p)
+    p.write_text('[target]\nvoltag = "800 V"\ntmin = -40\ntmax = 125\n')
+    with pytest.raises(InputError, match="voltag"):
+        load_target(p)
+
+
+def test_weights_and_thicknesses_parse():
+    from materials.errors import InputError
+
+    assert parse_weights("energy=3, loss=1") == {"energy": 3.0, "loss": 1.0}
+    with pytest.raises(InputError, match="unknown criterion"):
+        parse_weights("price=2")
+    assert parse_thicknesses("2.5,3,4,6um") == (2.5e-6, 3e-6, 4e-6, 6e-6)
+
+
+def test_shortlist_cli_table_and_json(cli):
+    import json
+
+    code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80",
+                          "--assume-defaults", "--draws", "100", "--top", "5"])
+    assert code == 0, err
+    assert "ranked" in out and "excluded" in out and "CAUTION" in out
+    assert "polypropylene" in out  # listed among the excluded, with its reason
+    code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80",
+                          "--assume-defaults", "--draws", "50", "--json"])
+    data = json.loads(out)
+    assert {"target", "method", "ranked", "excluded"} <= set(data)
+    assert {"rank", "key", "score", "criteria", "contributions", "p_top"} <= set(data["ranked"][0])
+    assert {"key", "reasons"} <= set(data["excluded"][0])
+
+
+def test_shortlist_cli_bad_option_is_one_line(cli):
+    code, out, err = cli(["shortlist", "--voltage", "800 K", "--tmin", "-40", "--tmax", "125"])
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "voltage" in err
+    code, out, err = cli(["shortlist", "--voltage", "800"])
+    assert code == 2 and "--tmin" in err
+
+
+def test_demo_target_runs(cli):
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--draws", "50"])
+    assert code == 0, err
+    assert "KR-8" in out
