@@ -95,7 +95,10 @@ def _strip_markup(text: str) -> str:
 def caution(lines: list[str]) -> None:
     """The safety caution, set apart on a terminal."""
     for line in lines:
-        say(f"[bold yellow]CAUTION[/]: {line}")
+        head, sep, rest = line.partition(":")
+        if sep and head.strip().lower() == "caution":
+            line = rest.strip()
+        say(f"[bold yellow]CAUTION[/]: {esc(line)}")
 
 
 def fmt(x, digits: int = 4) -> str:
