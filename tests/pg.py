@@ -9,6 +9,7 @@ Import the fixtures into a test module with ``from pg import backend_url, pg_url
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import os
 import uuid
@@ -31,12 +32,9 @@ def _admin_engine(url: str):
     return create_engine(url, isolation_level="AUTOCOMMIT")
 
 
-@pytest.fixture
-def pg_url():
-    """The URL of a fresh, empty schema on the test server (skips without ``HOLDOFF_TEST_PG_URL``)."""
-    base = pg_base_url()
-    if not base:
-        pytest.skip(f"no PostgreSQL server ({PG_ENV} unset; start one with 'source .ci/postgres.sh start')")
+@contextlib.contextmanager
+def fresh_schema(base: str):
+    """A URL selecting a new, empty schema on the server at ``base``; the schema is dropped on exit."""
     from sqlalchemy import text
 
     schema = f"t_{uuid.uuid4().hex[:12]}"
@@ -51,6 +49,20 @@ def pg_url():
             c.execute(text("SET lock_timeout = '20s'"))  # a connection left in a transaction fails the test, not CI
             c.execute(text(f"DROP SCHEMA {schema} CASCADE"))
         admin.dispose()
+
+
+def require_pg() -> str:
+    base = pg_base_url()
+    if not base:
+        pytest.skip(f"no PostgreSQL server ({PG_ENV} unset; start one with 'source .ci/postgres.sh start')")
+    return base
+
+
+@pytest.fixture
+def pg_url():
+    """The URL of a fresh, empty schema on the test server (skips without ``HOLDOFF_TEST_PG_URL``)."""
+    with fresh_schema(require_pg()) as url:
+        yield url
 
 
 @pytest.fixture(params=["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
