@@ -1,0 +1,306 @@
+"""Sizing a capacitor's dielectric for an energy at a voltage, limited by Weibull breakdown statistics.
+
+The design field is the Weibull quantile at the target failure probability, scaled by the weakest-link law from
+the test electrode area to the part's active area and divided by a margin. A larger part has a lower design
+field, so it needs a thicker layer, and so more area for the same energy: the sizing solves this loop
+self-consistently and reports the failure probability the design reaches.
+
+All inputs and outputs SI (J, V, V/m, m, m², kg/m³, A, Hz). Results are screening estimates (see CAUTION).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+
+import numpy as np
+
+from materials.energy import EPSILON_0, BiasCurve
+from materials.errors import DataError, InputError
+
+CAUTION = ("Caution: the stored energy and the voltage of a capacitor can kill, also after the supply is removed. "
+           "These figures are screening estimates, not a rating; follow the applicable standards and local codes, "
+           "and confirm any design by qualified testing.")
+
+#: Weibull shape assumed when none is known and defaults are allowed: a common-practice screening value for thin
+#: polymer films (an assumption, not a measurement; lower shapes give more area derating).
+DEFAULT_SHAPE = 10.0
+#: Test electrode area assumed when none is known: 1 cm², the usual small-electrode manual test area
+#: (as compared against by Rytöluoto et al., IEEE TDEI 2015).
+DEFAULT_TEST_AREA_M2 = 1e-4
+
+
+@dataclass(frozen=True)
+class SizingResult:
+    """A sized dielectric layer.
+
+    Attributes:
+        thickness_m: dielectric thickness d.
+        area_m2: active (electrode overlap) area A.
+        volume_m3: A·d, dielectric only.
+        mass_kg: density·volume, None without a density.
+        capacitance_F: C = Q/V (for a linear material ε0·εr·A/d).
+        operating_field_V_per_m: V/d.
+        design_field_V_per_m: the design field at this area (quantile scaled to A, divided by the margin).
+        energy_J: energy stored at the voltage (½CV² for a linear material).
+        failure_probability: Weibull failure probability at the operating field over the active area.
+        limited_by: "breakdown" or "min_thickness".
+        iterations: root-finder iterations (0 for the closed-form linear solution).
+        dissipated_power_W: I²·ESR with ESR = tanδ/(ωC), None without a ripple current.
+        notes: remarks on assumptions and limits.
+        small_signal_capacitance_F: ε0·εr,diff(V/d)·A/d (equal to capacitance_F for a linear material).
+        energy_density_J_per_m3: energy_J / volume_m3.
+    """
+
+    thickness_m: float
+    area_m2: float
+    volume_m3: float
+    mass_kg: float | None
+    capacitance_F: float
+    operating_field_V_per_m: float
+    design_field_V_per_m: float
+    energy_J: float
+    failure_probability: float
+    limited_by: str
+    iterations: int
+    dissipated_power_W: float | None
+    notes: tuple[str, ...]
+    small_signal_capacitance_F: float
+    energy_density_J_per_m3: float
+
+    def as_dict(self) -> dict:
+        """Plain numbers with SI-suffixed keys, plus the caution (the `size` JSON contract without `key`)."""
+        d = asdict(self)
+        d["notes"] = list(self.notes)
+        d["cautions"] = [CAUTION]
+        return d
+
+
+def _positive(name: str, value) -> float:
+    if value is None:
+        raise DataError(f"{name} is required")
+    v = float(value)
+    if not (math.isfinite(v) and v > 0):
+        raise InputError(f"{name} must be a positive number, got {value!r}", field=name)
+    return v
+
+
+def _probability(value) -> float:
+    if value is None:
+        raise DataError("failure_probability is required")
+    p = float(value)
+    if not 0 < p < 1:
+        raise InputError(f"failure probability must lie strictly between 0 and 1, got {value!r}",
+                         field="failure_probability")
+    return p
+
+
+def design_field(*, scale_V_per_m, shape, test_area_m2, area_m2, failure_probability, margin=1.0):
+    """Design field (V/m): the Weibull quantile at the failure probability, scaled to the area, over the margin.
+
+    ``E_d = α·(-ln(1-p))^(1/β)·(A_test/A)^(1/β) / margin`` (IEEE Std 930-2004 / IEC 62539 quantile and
+    weakest-link area law). The caller supplies α and β at the worst operating temperature. Arrays broadcast.
+    """
+    a, b, at, ar, p, m = (np.asarray(v, dtype=float) for v in
+                          (scale_V_per_m, shape, test_area_m2, area_m2, failure_probability, margin))
+    if np.any(~(a > 0)) or np.any(~(b > 0)) or np.any(~(at > 0)) or np.any(~(ar > 0)) or np.any(~(m > 0)):
+        raise InputError("scale, shape, areas and margin must be positive")
+    if np.any(~((p > 0) & (p < 1))):
+        raise InputError("failure probability must lie strictly between 0 and 1", field="failure_probability")
+    out = a * np.power(-np.log1p(-p) * at / ar, 1.0 / b) / m
+    return float(out) if out.ndim == 0 else out
+
+
+def _breakdown_inputs(scale, shape, test_area, assume_defaults):
+    notes = []
+    missing = [name for name, v in (("shape", shape), ("test_area_m2", test_area)) if v is None]
+    if missing and not assume_defaults:
+        raise DataError(f"missing breakdown data: {', '.join(missing)} (give them, or allow common-practice "
+                        "defaults with assume_defaults=True)")
+    if shape is None:
+        shape = DEFAULT_SHAPE
+        notes.append(f"Weibull shape not known: assumed {DEFAULT_SHAPE:g} (common-practice screening value)")
+    if test_area is None:
+        test_area = DEFAULT_TEST_AREA_M2
+        notes.append("breakdown test area not known: assumed 1 cm² (usual small-electrode test area)")
+    scale = _positive("scale_V_per_m", scale)
+    shape = _positive("shape", shape)
+    if shape <= 1:
+        raise InputError("Weibull shape must exceed 1 for sizing: at or below 1 a larger part is weaker faster "
+                         "than it stores more, and no self-consistent size exists", field="shape")
+    return scale, shape, _positive("test_area_m2", test_area), notes
+
+
+def _design_constant(scale, shape, test_area, p, margin):
+    """ln K with E_design(A) = K·A^(-1/β)."""
+    return math.log(scale) + (math.log(-math.log1p(-p)) + math.log(test_area)) / shape - math.log(margin)
+
+
+def _ripple_power(capacitance, loss_tangent, ripple_current, frequency):
+    if ripple_current is None:
+        return None
+    missing = [n for n, v in (("loss_tangent", loss_tangent), ("frequency_Hz", frequency)) if v is None]
+    if missing:
+        raise DataError(f"ripple current given but {', '.join(missing)} missing: cannot compute the dissipation")
+    i = float(ripple_current)
+    if not (math.isfinite(i) and i >= 0):
+        raise InputError("ripple current must be a non-negative number", field="ripple_current_A")
+    tand = float(loss_tangent)
+    if not (math.isfinite(tand) and tand >= 0):
+        raise InputError("loss tangent must be a non-negative number", field="loss_tangent")
+    esr = tand / (2.0 * math.pi * _positive("frequency_Hz", frequency) * capacitance)
+    return i * i * esr
+
+
+def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, shape, test_area, log_k,
+            limited_by, iterations, density, loss_tangent, ripple, frequency, notes) -> SizingResult:
+    e_op = voltage / d
+    volume = area * d
+    capacitance = charge_per_m2 * area / voltage
+    failure = -math.expm1(-(area / test_area) * (e_op / scale) ** shape)
+    if limited_by == "min_thickness":
+        notes.append(f"limited by the minimum thickness {d:.4g} m: the operating field is below the design field")
+    mass = None if density is None else _positive("density_kg_per_m3", density) * volume
+    return SizingResult(
+        thickness_m=d,
+        area_m2=area,
+        volume_m3=volume,
+        mass_kg=mass,
+        capacitance_F=capacitance,
+        operating_field_V_per_m=e_op,
+        design_field_V_per_m=math.exp(log_k - math.log(area) / shape),
+        energy_J=energy,
+        failure_probability=failure,
+        limited_by=limited_by,
+        iterations=iterations,
+        dissipated_power_W=_ripple_power(small_signal, loss_tangent, ripple, frequency),
+        notes=tuple(notes),
+        small_signal_capacitance_F=small_signal,
+        energy_density_J_per_m3=energy / volume,
+    )
+
+
+def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, shape=None, test_area_m2=None,
+                failure_probability, margin=1.0, density_kg_per_m3=None, min_thickness_m=None,
+                loss_tangent=None, ripple_current_A=None, frequency_Hz=None,
+                assume_defaults=False) -> SizingResult:
+    """Size a linear dielectric layer to store ``energy_J`` at ``voltage_V`` at the design field.
+
+    Derivation: ``W = ½CV²`` with ``C = ε0·εr·A/d`` fixes the area per thickness, ``A = c·d`` with
+    ``c = 2W/(ε0·εr·V²)``. Breakdown fixes ``d = V/E_d(A)`` with ``E_d(A) = K·A^(-1/β)`` (see
+    :func:`design_field`). Together ``A = (cV/K)·A^(1/β)``, whose solution is
+    ``A = (cV/K)^(β/(β-1))``: the limit of the fixed-point iteration ``A ← (cV/K)·A^(1/β)``, a contraction in
+    ln A with factor 1/β < 1, so it exists and is unique for β > 1. If ``d`` is below ``min_thickness_m`` the
+    layer is made that thick and ``A = c·d``; the operating field V/d then stays below E_d(A) (thicker than the
+    breakdown-limited solution is always safe), and the failure probability reached is lower than the target.
+
+    Args:
+        energy_J: energy to store (J); voltage_V: working voltage (V).
+        relative_permittivity: εr of the dielectric.
+        scale_V_per_m, shape, test_area_m2: Weibull breakdown data at the worst temperature and its test area.
+        failure_probability: target probability of breakdown of the part at the working voltage.
+        margin: divisor (>= 1 usually) applied to the area-scaled quantile.
+        density_kg_per_m3, min_thickness_m: optional material data.
+        loss_tangent, ripple_current_A (RMS), frequency_Hz: optional, for the dissipated power I²·ESR.
+        assume_defaults: use DEFAULT_SHAPE and DEFAULT_TEST_AREA_M2 where missing (with a note).
+
+    Raises:
+        DataError: missing breakdown data (named) without ``assume_defaults``; ripple without tanδ or frequency.
+        InputError: non-positive inputs, a probability outside (0, 1), a shape of 1 or less.
+    """
+    energy, voltage = _positive("energy_J", energy_J), _positive("voltage_V", voltage_V)
+    er = _positive("relative_permittivity", relative_permittivity)
+    scale, shape, test_area, notes = _breakdown_inputs(scale_V_per_m, shape, test_area_m2, assume_defaults)
+    p, margin = _probability(failure_probability), _positive("margin", margin)
+    log_k = _design_constant(scale, shape, test_area, p, margin)
+
+    log_c = math.log(2.0 * energy / (EPSILON_0 * er * voltage**2))
+    log_area = (log_c + math.log(voltage) - log_k) * shape / (shape - 1.0)
+    d = math.exp(log_area - log_c)
+    limited_by = "breakdown"
+    if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
+        d, limited_by = float(min_thickness_m), "min_thickness"
+    area = math.exp(log_c) * d
+    capacitance = EPSILON_0 * er * area / d
+    return _finish(d=d, area=area, voltage=voltage, charge_per_m2=EPSILON_0 * er * voltage / d,
+                   energy=0.5 * capacitance * voltage**2, small_signal=capacitance, scale=scale, shape=shape,
+                   test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=0,
+                   density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
+                   frequency=frequency_Hz, notes=notes)
+
+
+def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_permittivity, scale_V_per_m,
+                   shape=None, test_area_m2=None, failure_probability, margin=1.0, density_kg_per_m3=None,
+                   min_thickness_m=None, loss_tangent=None, ripple_current_A=None, frequency_Hz=None,
+                   extrapolate=False, assume_defaults=False) -> SizingResult:
+    """Size a nonlinear dielectric (given by a DC-bias curve) to store ``energy_J`` at ``voltage_V``.
+
+    The stored energy is ``W = A·d·u(V/d)`` with ``u(E) = ∫0^E e dD`` from
+    :func:`materials.energy.nonlinear_energy_density`, and breakdown fixes ``d = V·A^(1/β)/K`` as in
+    :func:`size_linear`. Then ``W(A) = (V/K)·A^(1+1/β)·u(K·A^(-1/β))`` is solved for A by Brent's method on ln A
+    (scipy.optimize.brentq) after bracketing from the small-signal linear estimate. W(A) increases, so the root is
+    unique, whenever u grows more slowly than E^(β+1) (always for a saturating or linear material).
+    The capacitance reported is the effective Q/V, ``D(V/d)·A/V``; the small-signal capacitance uses
+    εr,diff at the operating field and is the one used for the ripple dissipation.
+
+    Args:
+        bias_field_V_per_m, differential_permittivity: the DC-bias curve (see :mod:`materials.energy`).
+        extrapolate: allow an operating field beyond the curve (the last permittivity held constant).
+        Others as in :func:`size_linear`.
+
+    Raises:
+        DataError: an operating field beyond the curve without ``extrapolate``; missing data as in size_linear.
+    """
+    from scipy.optimize import brentq
+
+    energy, voltage = _positive("energy_J", energy_J), _positive("voltage_V", voltage_V)
+    curve = BiasCurve(bias_field_V_per_m, differential_permittivity)
+    scale, shape, test_area, notes = _breakdown_inputs(scale_V_per_m, shape, test_area_m2, assume_defaults)
+    p, margin = _probability(failure_probability), _positive("margin", margin)
+    log_k = _design_constant(scale, shape, test_area, p, margin)
+    log_v = math.log(voltage)
+
+    def log_energy(log_area):
+        log_d = log_v + log_area / shape - log_k
+        e = math.exp(log_k - log_area / shape)
+        return log_area + log_d + math.log(float(curve.energy(e, True))) - math.log(energy)
+
+    # start from the linear solution with the permittivity at zero field, then widen until the sign changes
+    er0 = float(curve.k[0])
+    x0 = (math.log(2.0 * energy / (EPSILON_0 * er0 * voltage**2)) + log_v - log_k) * shape / (shape - 1.0)
+    lo = hi = x0
+    f_lo = f_hi = log_energy(x0)
+    for _ in range(200):
+        if f_lo <= 0 <= f_hi:
+            break
+        if f_lo > 0:
+            lo -= math.log(10.0)
+            f_lo = log_energy(lo)
+        if f_hi < 0:
+            hi += math.log(10.0)
+            f_hi = log_energy(hi)
+    else:  # pragma: no cover - W(A) spans many decades for any physical curve
+        raise InputError("no area stores the energy at this voltage: check the DC-bias curve")
+    if f_lo == 0:
+        log_area, iterations = lo, 0
+    elif f_hi == 0:
+        log_area, iterations = hi, 0
+    else:
+        log_area, info = brentq(log_energy, lo, hi, xtol=1e-13, rtol=1e-14, full_output=True)
+        iterations = info.iterations
+    d = math.exp(log_v + log_area / shape - log_k)
+    limited_by = "breakdown"
+    if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
+        d, limited_by = float(min_thickness_m), "min_thickness"
+    e_op = voltage / d
+    u = float(curve.energy(e_op, extrapolate))  # raises DataError beyond the curve unless extrapolate
+    if e_op > curve.e[-1]:
+        notes.append(f"operating field {e_op:.4g} V/m beyond the DC-bias curve (ends at {curve.e[-1]:.4g} V/m): "
+                     "last permittivity held constant")
+    area = math.exp(log_area) if limited_by == "breakdown" else energy / (d * u)
+    small_signal = EPSILON_0 * float(curve.permittivity(e_op, True)) * area / d
+    return _finish(d=d, area=area, voltage=voltage, charge_per_m2=float(curve.charge(e_op, True)),
+                   energy=area * d * u, small_signal=small_signal, scale=scale, shape=shape,
+                   test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=iterations,
+                   density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
+                   frequency=frequency_Hz, notes=notes)
