@@ -237,7 +237,32 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
             engine.dispose()
             build(url, force=True)
             engine = make_engine(url)
+    elif path is not None and create and _stale_catalog_only(engine):
+        # A store that holds nothing but an older catalog is rebuilt from the current one (nothing is lost).
+        engine.dispose()
+        build(url)
+        engine = make_engine(url)
     return Store(url=url, engine=engine)
+
+
+def _stale_catalog_only(engine) -> bool:
+    """True if the store was built from another catalog version and holds no lab or user data."""
+    from sqlalchemy import text
+
+    from materials.catalog_io import catalog_fingerprint
+
+    try:
+        with engine.connect() as c:
+            fp = c.execute(text("SELECT value FROM meta WHERE key = 'catalog_fingerprint'")).scalar()
+            if fp is None or fp == catalog_fingerprint():
+                return False
+            others = c.execute(text("SELECT count(*) FROM material WHERE origin != 'catalog'")).scalar()
+            sets = c.execute(text("SELECT count(*) FROM breakdown_set")).scalar()
+            loops = c.execute(text("SELECT count(*) FROM loop")).scalar()
+            lab = c.execute(text("SELECT count(*) FROM source WHERE kind IN ('lab', 'invented')")).scalar()
+    except Exception:
+        return False
+    return not (others or sets or loops or lab)
 
 
 def memory_store(catalog_dir=None) -> Store:
