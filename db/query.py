@@ -11,17 +11,6 @@ from materials.lookup import ValueAt, value_at as _value_at
 from materials.records import MaterialData, SourceRef, StoredValue
 
 
-def _stored(pv, src, set_label=None, loop_label=None) -> StoredValue:
-    return StoredValue(
-        id=pv.id, property=pv.property, value=pv.value, low=pv.low, high=pv.high,
-        temperature_K=pv.temperature_K, frequency_Hz=pv.frequency_Hz, field_V_per_m=pv.field_V_per_m,
-        thickness_m=pv.thickness_m, area_m2=pv.area_m2, note=pv.note or "",
-        source=SourceRef(key=src.key, kind=src.kind, citation=src.citation),
-        breakdown_set=set_label, loop=loop_label,
-        retired_at=pv.retired_at.isoformat(sep=" ", timespec="seconds") if pv.retired_at else None,
-        retired_reason=pv.retired_reason)
-
-
 def load_materials(session, keys=None, *, family: str | None = None, include_retired: bool = False,
                    origin: str | None = None) -> list[MaterialData]:
     """Materials (all, or those with ``keys``, or of ``family``) with their values, in three queries."""
@@ -46,20 +35,31 @@ def load_materials(session, keys=None, *, family: str | None = None, include_ret
              for m in mats}
     if not by_id:
         return []
-    vq = (select(PropertyValue, Source, BreakdownSet.label, Loop.label)
-          .join(Source, PropertyValue.source_id == Source.id)
-          .outerjoin(BreakdownSet, PropertyValue.breakdown_set_id == BreakdownSet.id)
-          .outerjoin(Loop, PropertyValue.loop_id == Loop.id)
-          .order_by(PropertyValue.material_id, PropertyValue.property, PropertyValue.temperature_K,
-                    PropertyValue.field_V_per_m, PropertyValue.id))
+    # Column tuples, not ORM objects: ten times faster on a large store, and nothing here is written back.
+    srcs = {sid: SourceRef(key=k, kind=kind, citation=cit)
+            for sid, k, kind, cit in session.connection().execute(
+                select(Source.id, Source.key, Source.kind, Source.citation))}
+    pv = PropertyValue
+    vq = (select(pv.id, pv.material_id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K,
+                 pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.note, pv.source_id,
+                 BreakdownSet.label, Loop.label, pv.retired_at, pv.retired_reason)
+          .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
+          .outerjoin(Loop, pv.loop_id == Loop.id)
+          .order_by(pv.material_id, pv.property, pv.temperature_K, pv.field_V_per_m, pv.id))
     if len(by_id) < 500:
-        vq = vq.where(PropertyValue.material_id.in_(list(by_id)))
+        vq = vq.where(pv.material_id.in_(list(by_id)))
     if not include_retired:
-        vq = vq.where(PropertyValue.retired_at.is_(None))
-    for pv, src, set_label, loop_label in session.execute(vq):
-        md = by_id.get(pv.material_id)
+        vq = vq.where(pv.retired_at.is_(None))
+    for (vid, mid, prop, value, low, high, t, f, e, d, a, note, sid, set_label, loop_label, retired_at,
+         retired_reason) in session.connection().execute(vq):
+        md = by_id.get(mid)
         if md is not None:
-            md.values.append(_stored(pv, src, set_label, loop_label))
+            md.values.append(StoredValue(
+                id=vid, property=prop, value=value, low=low, high=high, temperature_K=t, frequency_Hz=f,
+                field_V_per_m=e, thickness_m=d, area_m2=a, note=note or "", source=srcs[sid],
+                breakdown_set=set_label, loop=loop_label,
+                retired_at=retired_at.isoformat(sep=" ", timespec="seconds") if retired_at else None,
+                retired_reason=retired_reason))
     return [by_id[m.id] for m in mats]
 
 

@@ -1,0 +1,117 @@
+"""Whole-command speed, each side by side with its reference in the same run (fresh processes).
+
+* ``holdoff --help`` against ``python -c "import typer"`` — goal within 1.5×;
+* ``holdoff shortlist`` end to end on the catalog against the bare import of the libraries it needs
+  (sqlalchemy, numpy, pint, scipy's optimiser) — goal within 1.5×;
+* ``holdoff shortlist`` on a synthetic store of 10,000 materials — goal under 2 s.
+
+Run as ``python tests/bench/bench_cli.py`` or ``make bench``.
+"""
+
+from __future__ import annotations
+
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+PY = sys.executable
+HOLDOFF = [PY, "-m", "cli.app"]
+REPEATS = 7
+
+
+def _median(cmd, env=None, repeats=REPEATS) -> float:
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        subprocess.run(cmd, cwd=ROOT, env=env, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def _env(db_url):
+    env = dict(os.environ, HOLDOFF_DB=db_url, COLUMNS="120")
+    env.pop("HOLDOFF_CATALOG", None)
+    return env
+
+
+def bench_help():
+    ref = _median([PY, "-c", "import typer"])
+    ours = _median(HOLDOFF + ["--help"])
+    print(f"holdoff --help: median {ours * 1e3:.0f} ms; python -c 'import typer' {ref * 1e3:.0f} ms; "
+          f"ratio {ours / ref:.2f} (goal ≤ 1.5)")
+    return ours, ref
+
+
+def bench_shortlist_catalog(tmp: Path):
+    url = f"sqlite:///{tmp / 'bench.sqlite'}"
+    env = _env(url)
+    subprocess.run(HOLDOFF + ["db", "init"], cwd=ROOT, env=env, check=True, stdout=subprocess.DEVNULL)
+    ref = _median([PY, "-c", "import sqlalchemy, sqlalchemy.orm, numpy, pint, scipy.optimize, rich, typer"])
+    ours = _median(HOLDOFF + ["shortlist", "--target", "examples/dc-link-target.toml"], env=env)
+    print(f"holdoff shortlist (catalog, 1,000 draws): median {ours * 1e3:.0f} ms; bare library imports "
+          f"{ref * 1e3:.0f} ms; ratio {ours / ref:.2f} (goal ≤ 1.5)")
+    return ours, ref
+
+
+def _synthetic_store(url: str, n: int) -> None:
+    """A store of ``n`` invented polymer films spread around the catalog's values (source kind invented)."""
+    import numpy as np
+
+    from db.models import Material, PropertyValue, Source
+    from db.store import empty_store
+    from sqlalchemy import insert
+
+    rng = np.random.default_rng(1)
+    st = empty_store(url)
+    with st.session() as s:
+        src = Source(key="bench-invented", kind="invented", citation="synthetic benchmark data (invented)")
+        s.add(src)
+        s.flush()
+        s.execute(insert(Material), [{"key": f"bench-{i:05d}", "name": f"benchmark film {i}",
+                                      "family": "polymer-film", "origin": "user", "response": "linear"}
+                                     for i in range(n)])
+        ids = [r[0] for r in s.execute(Material.__table__.select().with_only_columns(Material.id))]
+        rows = []
+        for mid in ids:
+            eps, ebd = rng.uniform(2.0, 4.0), rng.uniform(300e6, 750e6)
+            for prop, v, extra in (("relative_permittivity", eps, {"temperature_K": 298.15}),
+                                   ("relative_permittivity", eps * 0.97, {"temperature_K": 398.15}),
+                                   ("breakdown_field", ebd, {"temperature_K": 298.15, "area_m2": 1e-4,
+                                                             "low": 0.9 * ebd, "high": 1.1 * ebd}),
+                                   ("breakdown_field", 0.8 * ebd, {"temperature_K": 423.15, "area_m2": 1e-4}),
+                                   ("weibull_shape", rng.uniform(8, 20), {}),
+                                   ("max_temperature", rng.uniform(380, 480), {}),
+                                   ("min_temperature", 218.15, {}),
+                                   ("loss_tangent", rng.uniform(1e-4, 3e-3), {}),
+                                   ("density", rng.uniform(900, 1800), {}),
+                                   ("min_thickness", rng.uniform(1e-6, 5e-6), {}),
+                                   ("self_healing", float(rng.integers(0, 2)), {})):
+                rows.append({"material_id": mid, "property": prop, "value": float(v), "source_id": src.id,
+                             **{k: float(x) for k, x in extra.items()}})
+        s.execute(insert(PropertyValue), rows)
+    st.dispose()
+
+
+def bench_shortlist_10k(tmp: Path, n: int = 10_000):
+    url = f"sqlite:///{tmp / 'bench10k.sqlite'}"
+    _synthetic_store(url, n)
+    ours = _median(HOLDOFF + ["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "105", "--energy", "80",
+                              "--top", "10"], env=_env(url), repeats=3)
+    print(f"holdoff shortlist on {n:,} materials: median {ours:.2f} s (goal < 2 s)")
+    return ours
+
+
+def test_bench_cli():
+    with tempfile.TemporaryDirectory() as d:
+        bench_help()
+        bench_shortlist_catalog(Path(d))
+        bench_shortlist_10k(Path(d))
+
+
+if __name__ == "__main__":
+    test_bench_cli()
