@@ -72,7 +72,16 @@ def _bounds(low, typ, high):
 
 
 def _draw_values(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:
-    """``k`` matrices, triangular on (lo, ty, hi) per entry, uniform where ``ty`` is NaN (inverse CDF)."""
+    """``k`` matrices, triangular on (lo, ty, hi) per entry, uniform where ``ty`` is NaN (inverse CDF).
+
+    Columns without any range are not drawn (they are the same in every draw), which keeps big stores cheap.
+    """
+    varied = (hi > lo).any(axis=0)
+    if not varied.all():
+        out = np.broadcast_to(np.where(np.isnan(ty), lo, ty), (k,) + lo.shape).copy()
+        if varied.any():
+            out[:, :, varied] = _draw_values(rng, k, lo[:, varied], ty[:, varied], hi[:, varied])
+        return out
     u = rng.random((k,) + lo.shape)
     width = hi - lo
     uniform = np.isnan(ty)
