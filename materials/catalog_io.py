@@ -161,12 +161,12 @@ def _value_rec(body: dict, *, family: str, sources: dict[str, SourceRec], allowe
     if unknown:
         raise _FieldError(sorted(unknown)[0], f"unknown field '{sorted(unknown)[0]}'")
     prop = body.get("property")
-    if prop not in PROPERTIES:
+    if not isinstance(prop, str) or prop not in PROPERTIES:
         raise _FieldError("property", f"unknown property '{prop}' (see the vocabulary in DESIGN notes)")
     src = body.get("source")
     if not src:
         raise _FieldError("source", "every value needs a source")
-    if src not in sources:
+    if not isinstance(src, str) or src not in sources:
         raise _FieldError("source", f"source '{src}' is not in sources.toml")
     si = PROPERTIES[prop].si
     unit = body.get("unit")
@@ -258,7 +258,7 @@ def load_material(path: Path, sources: dict[str, SourceRec], *, origin: str = "c
             if not isinstance(body, dict):
                 raise InputError(f"'{table}' must be an array of tables ([[{table}]])", file=str(path), line=line,
                                  entry=label, field=table)
-            if body.get("property"):
+            if isinstance(body.get("property"), str) and body["property"]:
                 label += f" ({body['property']})"
             try:
                 new = (_value_rec(body, family=family, sources=sources, allowed=_VALUE_KEYS) if table == "value"

@@ -76,6 +76,12 @@ BREAKAGES = [
                                           '\n[[value]]\nproperty = "relative_permittivity"\nvalue = 7.0\n'
                                           'frequency = "60 Hz"\nsource = "callister-8e-t18-5"\n'),
      "mini-glass.toml", "mini-glass value #3 (relative_permittivity)", "property", "duplicates"),
+    ("source-not-text", lambda d: _sub(d / "mini-glass.toml", 'source = "callister-8e-t18-5"',
+                                       'source = ["callister-8e-t18-5"]'),
+     "mini-glass.toml", "mini-glass value #1 (relative_permittivity)", "source", "not in sources.toml"),
+    ("property-not-text", lambda d: _sub(d / "mini-air.toml", 'property = "relative_permittivity"',
+                                         'property = ["relative_permittivity"]'),
+     "mini-air.toml", "mini-air value #1", "property", "unknown property"),
     ("unknown-source-kind", lambda d: _sub(d / "sources.toml", 'kind = "handbook"', 'kind = "hearsay"'),
      "sources.toml", "callister-8e-t18-5", "kind", "kind 'hearsay' is not one of"),
     ("source-without-citation", lambda d: _sub(d / "sources.toml", 'citation = "Breakdown of air',
@@ -170,3 +176,77 @@ def test_the_intact_mini_catalog_builds(cli, mini_catalog, tmp_path):
     code, out, err = cli(["db", "init"], catalog=mini_catalog)
     assert (code, err) == (0, "")
     assert "4 materials, 27 values, 5 sources" in out
+
+
+def _toml(x) -> str:
+    """A TOML value (inline) for the few Python types the strategy below produces."""
+    import json
+    import math
+
+    if isinstance(x, bool):
+        return "true" if x else "false"
+    if isinstance(x, float) and not math.isfinite(x):
+        return "nan" if math.isnan(x) else ("inf" if x > 0 else "-inf")
+    if isinstance(x, (int, float)):
+        return repr(x)
+    if isinstance(x, str):
+        return json.dumps(x)
+    if isinstance(x, list):
+        return "[" + ", ".join(_toml(i) for i in x) + "]"
+    return "{" + ", ".join(f"{json.dumps(k)} = {_toml(v)}" for k, v in x.items()) + "}"
+
+
+def _strategy():
+    from hypothesis import strategies as st
+
+    from materials.properties import PROPERTIES
+
+    scalar = st.one_of(
+        st.integers(-10**6, 10**12), st.floats(), st.booleans(), st.text(max_size=8),
+        st.sampled_from(["600 V/um", "25 degC", "-300 degC", "1 kHz", "3 um", "1e999 V/m", "2.2", "5 %", "kg", ""]),
+        st.lists(st.integers(0, 3), max_size=2))
+    value = st.fixed_dictionaries(
+        {"property": st.one_of(st.sampled_from(sorted(PROPERTIES)), scalar),
+         "source": st.one_of(st.sampled_from(["fixture-invented", "callister-8e-t18-5", "nope"]), scalar)},
+        optional={k: scalar for k in ("value", "low", "high", "unit", "temperature", "frequency", "field",
+                                      "thickness", "area", "note", "bogus")})
+    curve = st.fixed_dictionaries(
+        {"property": st.sampled_from(["relative_permittivity", "breakdown_field"]), "source": st.just("fixture-invented"),
+         "over": st.one_of(st.sampled_from(["temperature", "field"]), scalar)},
+        optional={"points": st.one_of(st.lists(st.lists(st.one_of(st.floats(-300, 3000), scalar), max_size=3),
+                                               max_size=4), scalar),
+                  "at_unit": scalar, "unit": scalar, "frequency": scalar})
+    return st.fixed_dictionaries(
+        {"key": st.one_of(st.just("mini-fuzz"), st.just("mini-fuzz"), scalar),
+         "name": st.one_of(st.just("Fuzz"), scalar),
+         "family": st.one_of(st.sampled_from(["polymer-film", "gas", "ceramic-class-2"]),
+                             st.sampled_from(["polymer-film", "gas", "ceramic-class-2"]), scalar)},
+        optional={"value": st.one_of(st.lists(value, max_size=3), scalar),
+                  "curve": st.one_of(st.lists(curve, max_size=2), scalar),
+                  "response": scalar, "origin": scalar, "form": scalar})
+
+
+def test_any_material_file_loads_or_raises_input_error(mini_catalog):
+    # No catalog file, however malformed, may crash the reader: it loads, or it is one InputError.
+    from hypothesis import HealthCheck, given, settings
+
+    from materials.catalog_io import load_material, load_sources
+
+    sources = load_sources(mini_catalog / "sources.toml")
+
+    @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+    @given(_strategy())
+    def check(doc):
+        import tempfile
+
+        with tempfile.TemporaryDirectory() as d:
+            path = Path(d) / "fuzz.toml"
+            path.write_text("".join(f"{k} = {_toml(v)}\n" for k, v in doc.items()), encoding="utf-8")
+            try:
+                rec = load_material(path, sources)
+            except InputError as exc:
+                assert str(exc).startswith(str(path)) and exc.file == str(path)
+                return
+            assert rec.key == doc["key"] and rec.family == doc["family"]
+
+    check()
