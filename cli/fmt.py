@@ -21,6 +21,8 @@ def display(prop: str, value: float | None, *, with_unit: bool = True, digits: i
 
     p = PROPERTIES[prop]
     u = p.display_unit
+    if prop == "relative_permittivity" and 1.0 <= value < 1.1:
+        digits = max(digits, 6)  # a gas: 1.0006 must not print as 1.001
     if u == "%":
         v = value * 100
     elif u and u != p.si:

@@ -68,6 +68,13 @@ def test_catalog_family(run):
     assert "mini-air" in out and "mini-film" not in out
 
 
+def test_gas_permittivity_keeps_its_digits(run):
+    # εr of a gas differs from 1 in the fourth decimal: 1.0006 must not be shown as 1.001.
+    code, out, _ = run("catalog", "--family", "gas")
+    assert code == 0 and "1.0006" in _table_rows(out)["mini-air"]
+    assert "1.0006" in run("show", "mini-air")[1]
+
+
 def test_catalog_unknown_family(run):
     _one_line_error(*run("catalog", "--family", "plastic"), "--family", "plastic", "polymer-film")
 
