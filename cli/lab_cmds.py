@@ -237,14 +237,14 @@ def breakdown_fit(file: FileArg,
     """Fit a two-parameter Weibull distribution to a breakdown series file (nothing is stored)."""
     from materials.breakdown import fit_weibull
     from materials.errors import InputError
-    from materials.labfiles import read_breakdown
+    from materials.labfiles import in_file, read_breakdown
 
     conf = _confidence(confidence)
     data = _read(read_breakdown, file, {"thickness": _quantity(thickness, "thickness", "--thickness")})
     try:
         fit = fit_weibull(data.fields_V_per_m, data.censored, confidence=conf)
     except InputError as exc:
-        raise InputError(f"the Weibull fit failed: {exc}", file=str(file)) from None
+        raise in_file(exc, file, prefix="the Weibull fit failed: ", keep_field=False) from None
     if json_out:
         from cli.output import print_json
 
@@ -279,13 +279,13 @@ def loop_analyze(file: FileArg, json_out: JsonOpt = False):
     """Stored, recovered and lost energy density, efficiency and polarisations of a loop file."""
     from materials.energy import loop_energies
     from materials.errors import InputError
-    from materials.labfiles import read_loop
+    from materials.labfiles import in_file, read_loop
 
     data = _read(read_loop, file, {})
     try:
         en = loop_energies(data.fields_V_per_m, data.polarization_C_per_m2)
     except InputError as exc:
-        raise InputError(str(exc), file=str(file), field=exc.field) from None
+        raise in_file(exc, file) from None
     if json_out:
         from cli.output import print_json
 

@@ -341,7 +341,7 @@ def _source_for(session, what: str, data, *, file_name: str):
                    (c.citation.rstrip(".") + ". " if c.citation else "") + body
     else:
         citation = (c.citation.rstrip(".") + ". " if c.citation else "") + body
-    base = slugify(f"{c.kind}-{c.lab}-{c.label}")[:150] + f"-{data.sha256[:10]}"
+    base = slugify(f"{c.kind}-{c.label}")[:60].rstrip("-") + f"-{data.sha256[:10]}"
     key, n = base, 1
     while True:
         row = session.execute(select(Source).where(Source.key == key)).scalar_one_or_none()
@@ -460,7 +460,9 @@ def _fit_and_store(session, bset, mat, src, fields, censored, *, confidence: flo
     try:
         fit = fit_weibull(fields, censored, confidence=confidence)
     except InputError as exc:
-        raise InputError(f"the Weibull fit failed: {exc}", file=file) from None
+        from materials.labfiles import in_file
+
+        raise in_file(exc, file, prefix="the Weibull fit failed: ", keep_field=False) from None
     shape = fit.shape_unbiased if math.isfinite(fit.shape_unbiased) else fit.shape
     for prop, v in (("breakdown_field", fit.scale), ("weibull_shape", shape)):
         why = check_plausible(prop, v, mat.family)
@@ -562,7 +564,9 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
     try:
         en = loop_energies(data.fields_V_per_m, data.polarization_C_per_m2)
     except InputError as exc:
-        raise InputError(f"{exc}", file=data.path, field=exc.field) from None
+        from materials.labfiles import in_file
+
+        raise in_file(exc, data.path) from None
     for prop, v in (("recoverable_energy_density", en.recovered_J_per_m3), ("efficiency", en.efficiency)):
         why = check_plausible(prop, v)
         if why:

@@ -58,7 +58,7 @@ PROGRESS_EVERY = 4096
 
 _HEADER_LINE = re.compile(r"^#\s*([A-Za-z_][A-Za-z0-9_-]*)\s*:\s*(.*?)\s*$")
 _COLUMN = re.compile(r"^([^\[\]]*?)\s*(?:\[([^\[\]]*)\])?$")
-_NUMBER_WITH_UNIT = re.compile(r"^[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*[A-Za-zµμ°%/].*$")
+_NUMBER_WITH_UNIT = re.compile(r"^[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*([A-Za-zµμ°%/].*)$")
 _DECIMAL_COMMA = re.compile(r"^[-+]?\d+,\d+$")
 
 # header key -> (CLI option kind for quantities, or None for text)
@@ -188,6 +188,14 @@ class _Lines:
         return InputError(message, file=self.path, line=self.line if line is None else line, field=field)
 
 
+def in_file(exc: InputError, path, *, prefix: str = "", keep_field: bool = True) -> InputError:
+    """The error ``exc`` of a pure computation, located in the file ``path`` (message not repeated)."""
+    msg = str(exc)
+    if exc.field and msg.startswith(f"field '{exc.field}': "):
+        msg = msg[len(f"field '{exc.field}': "):]
+    return InputError(prefix + msg, file=str(path), line=exc.line, field=exc.field if keep_field else None)
+
+
 def file_sha256(path) -> str:
     """SHA-256 (hex) of a file's bytes, read in blocks."""
     h = hashlib.sha256()
@@ -276,11 +284,22 @@ def _unit_scale(unit: str | None, si: str, *, what: str, heading: str, lines: _L
     return scale
 
 
+def _is_unit(text: str) -> bool:
+    """Whether pint reads ``text`` as a unit (only asked on the error path, so the registry loads only then)."""
+    from materials.units import registry
+
+    try:
+        registry().Unit(text.replace("µ", "u").replace("μ", "u").replace("^", "**"))
+    except Exception:
+        return False
+    return True
+
+
 def _cell_error(cell: str, col: _Column, lines: _Lines) -> InputError:
     c = cell.strip()
     if not c:
         why = "empty cell"
-    elif _NUMBER_WITH_UNIT.match(c):
+    elif _NUMBER_WITH_UNIT.match(c) and _is_unit(_NUMBER_WITH_UNIT.match(c).group(1)):
         why = (f"mixed units: the cell '{c}' carries its own unit, but the column's unit is "
                f"{col.unit or 'given in its heading'}; write numbers only")
     elif _DECIMAL_COMMA.match(c):
