@@ -3,8 +3,9 @@
 Every function returns a matplotlib ``Figure`` (Agg backend, nothing is shown) so that tests can inspect it and
 callers can save it with :func:`save`. The look is deliberately plain: black and grey lines, default markers,
 labelled axes with units, a legend. Artists that tests look for carry a ``gid``: ``material:KEY`` for a material's
-marker, ``energy-line`` for a line of constant energy density, ``fit:LABEL`` / ``band:LABEL`` / ``data:LABEL`` on a
-Weibull plot, ``ceiling:KEY`` and ``target`` on a ceiling chart, ``recovered`` / ``lost`` on a loop chart.
+marker, ``energy-line:U`` for the line of constant energy density U (J/cm³), ``fit:LABEL`` / ``band:LABEL`` / ``data:LABEL`` on a
+Weibull plot, ``ceiling:KEY`` and ``target`` on a ceiling chart, ``recovered`` / ``lost`` on a loop chart, ``score:LABEL`` for a bar of the score chart. Gids become
+element ids in SVG, so each is unique within its figure.
 """
 
 from __future__ import annotations
@@ -203,7 +204,7 @@ def map_chart(materials, *, highlight=(), temperature_K: float | None = None, la
         ys = _eps_for(u, xs)
         (line,) = ax.plot(xs, ys, color="0.7", linewidth=0.8, linestyle="-", zorder=1,
                           label="constant energy density ½·ε0·εr·E²" if k == 0 else None)
-        line.set_gid("energy-line")
+        line.set_gid(f"energy-line:{u:g}")
         line.energy_J_per_cm3 = u
         _label_level(ax, u, x0=x0, x1=x1, y0=y0, y1=y1)
     if labels is None:
@@ -563,8 +564,8 @@ def score_chart(result: dict):
     scores = [float(r.get("score") or 0.0) for r in ranked]
     y = np.arange(len(ranked))[::-1]
     bars = ax.barh(y, scores, color="0.6", edgecolor="black", linewidth=0.6, height=0.6, label="score")
-    for b in bars:
-        b.set_gid("score")
+    for b, r in zip(bars, ranked):
+        b.set_gid(f"score:{r.get('label') or r['key']}")
     for yi, r, s in zip(y, ranked, scores):
         pt = r.get("p_top")
         if pt is not None:
