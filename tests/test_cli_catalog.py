@@ -343,3 +343,25 @@ def test_console_script_help():
     res = subprocess.run([str(exe), "--help"], capture_output=True, text=True, env={"COLUMNS": "120",
                                                                                       "PATH": "/usr/bin:/bin"})
     assert res.returncode == 0 and "Usage: holdoff" in res.stdout and res.stderr == ""
+
+
+def test_show_history_keeps_retired_values(cli, tmp_path):
+    import sqlite3
+
+    path = tmp_path / "holdoff.sqlite"
+    url = f"sqlite:///{path}"
+    assert cli(["db", "init"], db=url, catalog=MINI)[0] == 0
+    con = sqlite3.connect(path)
+    with con:
+        con.execute("UPDATE property_value SET retired_at = '2026-01-02 03:04:05', retired_reason = 'unit slip' "
+                    "WHERE property = 'density'")
+    con.close()
+    code, out, _ = cli(["show", "mini-film"], db=url, catalog=MINI)
+    assert code == 0 and "density" not in out
+    code, out, _ = cli(["show", "mini-film", "--history"], db=url, catalog=MINI)
+    line = next(line for line in out.splitlines() if line.startswith("density"))
+    assert "0.905 g/cm³" in line and "retired 2026-01-02 03:04:05: unit slip" in line
+    code, out, _ = cli(["show", "mini-film", "--history", "--json"], db=url, catalog=MINI)
+    density = next(v for v in json.loads(out)["values"] if v["property"] == "density")
+    assert (density["retired_at"], density["retired_reason"]) == ("2026-01-02 03:04:05", "unit slip")
+    assert cli(["catalog", "--where", "has density"], db=url, catalog=MINI)[1].splitlines()[0] == "0 materials"

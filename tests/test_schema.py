@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
+from pathlib import Path
 
 import pytest
 from sqlalchemy import insert, text
@@ -153,3 +154,15 @@ def test_every_physical_column_names_its_unit():
         for col in table.columns:
             if isinstance(col.type, Float) and col.name not in ("value", "low", "high"):
                 assert col.name.endswith(suffixes), f"{table.name}.{col.name}"
+
+
+def test_tests_never_touch_the_users_data_folder(tmp_path_factory):
+    # conftest points platformdirs at a temporary home; the default store must resolve inside it.
+    import os
+
+    from db.engine import resolve_url, sqlite_file
+
+    path = sqlite_file(resolve_url(None))
+    assert path is not None and path.name == "holdoff.sqlite"
+    assert Path(os.environ["XDG_DATA_HOME"]) in path.parents
+    assert tmp_path_factory.getbasetemp() in path.parents
