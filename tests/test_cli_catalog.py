@@ -250,7 +250,8 @@ def test_db_init_json(cli, tmp_path):
     assert info["values_by_kind"]["invented"] == 21
 
 
-def test_db_check_finds_a_broken_row(cli, tmp_path):
+def _store_edited_behind_our_back(cli, tmp_path, sql: str) -> str:
+    """A store built by 'db init' from the mini catalog, then changed with raw SQL; its URL."""
     import sqlite3
 
     path = tmp_path / "holdoff.sqlite"
@@ -258,9 +259,15 @@ def test_db_check_finds_a_broken_row(cli, tmp_path):
     assert cli(["db", "init"], db=url, catalog=MINI)[0] == 0
     con = sqlite3.connect(path)
     with con:
-        con.execute("UPDATE property_value SET value = 2200 WHERE property = 'relative_permittivity' AND "
-                    "material_id = (SELECT id FROM material WHERE key = 'mini-film')")
+        con.execute(sql)
     con.close()
+    return url
+
+
+def test_db_check_finds_a_broken_row(cli, tmp_path):
+    url = _store_edited_behind_our_back(
+        cli, tmp_path, "UPDATE property_value SET value = 2200 WHERE property = 'relative_permittivity' AND "
+        "material_id = (SELECT id FROM material WHERE key = 'mini-film')")
     code, out, _ = cli(["db", "check"], db=url, catalog=MINI)
     assert code == 1
     assert "error: " in out and "mini-film" in out and "plausible range" in out
@@ -346,16 +353,9 @@ def test_console_script_help():
 
 
 def test_show_history_keeps_retired_values(cli, tmp_path):
-    import sqlite3
-
-    path = tmp_path / "holdoff.sqlite"
-    url = f"sqlite:///{path}"
-    assert cli(["db", "init"], db=url, catalog=MINI)[0] == 0
-    con = sqlite3.connect(path)
-    with con:
-        con.execute("UPDATE property_value SET retired_at = '2026-01-02 03:04:05', retired_reason = 'unit slip' "
-                    "WHERE property = 'density'")
-    con.close()
+    url = _store_edited_behind_our_back(
+        cli, tmp_path, "UPDATE property_value SET retired_at = '2026-01-02 03:04:05', retired_reason = 'unit slip' "
+        "WHERE property = 'density'")
     code, out, _ = cli(["show", "mini-film"], db=url, catalog=MINI)
     assert code == 0 and "density" not in out
     code, out, _ = cli(["show", "mini-film", "--history"], db=url, catalog=MINI)
