@@ -288,12 +288,11 @@ class _Loader:
             self.flush()
 
     def flush(self) -> None:
-        from sqlalchemy import insert
+        from db.store import bulk_insert
 
         for table, rows in self.pending.items():  # dependency order: referenced rows are always sent first
-            if rows:
-                self.conn.execute(insert(self.tables[table]), rows)
-                rows.clear()
+            bulk_insert(self.conn, self.tables[table], rows)
+            rows.clear()
         self.size = 0
 
 
