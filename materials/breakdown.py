@@ -165,7 +165,8 @@ class _Sample:
         """Profile score of the shape (the scale eliminated), its derivative and the moment sums."""
         e = np.exp(beta * self.u)
         ue = self.u * e
-        s0, s1, s2 = float(e.sum()), float(ue.sum()), float(np.dot(self.u, ue))
+        # multiply-and-sum rather than a BLAS dot, whose threads stall badly on a busy machine
+        s0, s1, s2 = float(e.sum()), float(ue.sum()), float((self.u * ue).sum())
         m1 = s1 / s0
         var = max(s2 / s0 - m1 * m1, 0.0)
         g = 1.0 / beta + self.sum_uf / self.r - m1
@@ -195,7 +196,7 @@ class _Sample:
             scale = math.exp(c)
             we = w * e
             g = r / beta - r * a + self.sum_uf - scale * float(we.sum())
-            dg = -r / beta**2 - scale * float(np.dot(w, we))
+            dg = -r / beta**2 - scale * float((w * we).sum())
             return g, dg, scale * float(e.sum())
 
         return score
@@ -441,8 +442,8 @@ def _check_probability(p) -> np.ndarray:
 def _slope(y: np.ndarray, x: np.ndarray) -> float:
     """Least-squares slope of x on y."""
     yc = y - y.mean()
-    den = float(np.dot(yc, yc))
-    return float(np.dot(yc, x - x.mean())) / den if den > 0 else math.nan
+    den = float((yc * yc).sum())
+    return float((yc * (x - x.mean())).sum()) / den if den > 0 else math.nan
 
 
 def _expand(f, x0: float, factor: float) -> float:

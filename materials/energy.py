@@ -184,7 +184,8 @@ def _path_integral(x, y, start, stop):
     a, b = i0 + 1, i1  # whole samples strictly after the start, up to and including i1
     if b < a:
         return 0.5 * (xs + xe) * (ye - ys)
-    inner = 0.5 * float(np.dot(x[a:b] + x[a + 1:b + 1], y[a + 1:b + 1] - y[a:b]))
+    # multiply-and-sum rather than a BLAS dot, whose threads stall badly on a busy machine
+    inner = 0.5 * float(((x[a:b] + x[a + 1:b + 1]) * (y[a + 1:b + 1] - y[a:b])).sum())
     head = 0.5 * (xs + x[a]) * (y[a] - ys)
     tail = 0.5 * (x[b] + xe) * (ye - y[b]) if f1 else 0.0
     return head + inner + tail
