@@ -273,3 +273,21 @@ def test_demo_target_runs(cli):
     code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--draws", "50"])
     assert code == 0, err
     assert "KR-8" in out
+
+
+@settings(max_examples=12, deadline=None)
+@given(voltage=st.floats(10, 5000), tmin=st.floats(-60, 40), span=st.floats(0, 150),
+       energy=st.one_of(st.none(), st.floats(0.01, 500)), method=st.sampled_from(["topsis", "weighted", "pareto"]))
+def test_ranked_and_excluded_cover_the_catalog(mem_store, voltage, tmin, span, energy, method):
+    """Whatever the target, every catalog material ends ranked or excluded with a reason — none dropped."""
+    from db.query import load_materials
+
+    with mem_store.session() as s:
+        mats = load_materials(s)
+    t = Target(voltage_V=voltage, tmin_K=tmin + C, tmax_K=tmin + span + C, energy_J=energy, assume_defaults=True)
+    res = shortlist(mats, t, method=method, draws=20)
+    keys = [r["key"] for r in res["ranked"]] + [e["key"] for e in res["excluded"]]
+    assert sorted(keys) == sorted(m.key for m in mats)
+    assert all(e["reasons"] for e in res["excluded"])
+    for r in res["ranked"]:
+        assert all(math.isfinite(v) for v in r["criteria"].values())
