@@ -489,7 +489,7 @@ def to_json(obj) -> dict:
     if rep.kind == "shortlist" and rep.raw is not None:
         out = dict(rep.raw)
         out.setdefault("sources", rep.sources)
-        out["cautions"] = rep.cautions
+        out.setdefault("cautions", rep.cautions)
         return out
     return {
         "kind": rep.kind, "title": rep.title, "condition": rep.condition, "target": rep.target,
