@@ -1,8 +1,9 @@
 """Print the fingerprint of the shipped catalog, for ``EXPECTED`` in tests/test_catalog_integrity.py.
 
-Run after a deliberate catalog change, review the diff, and paste the output over ``EXPECTED``::
+Run after a deliberate catalog change and review the diff::
 
-    .venv/bin/python tests/data/make_fingerprint.py
+    .venv/bin/python tests/data/make_fingerprint.py            # print the dict
+    .venv/bin/python tests/data/make_fingerprint.py --write    # or rewrite EXPECTED in the test in place
 
 The fingerprint is counts (materials, values, sources; materials per family; values per property and per source
 kind) and, per property, the sum of log10|x| over every nonzero number in its rows (value, low, high and the
@@ -13,6 +14,7 @@ from __future__ import annotations
 
 import math
 import pprint
+import re
 import sys
 from collections import Counter
 from pathlib import Path
@@ -52,13 +54,26 @@ def fingerprint(sources: dict, materials: list) -> dict:
     }
 
 
-def main() -> None:
+TEST_FILE = Path(__file__).resolve().parents[1] / "test_catalog_integrity.py"
+BEGIN, END = "# BEGIN FINGERPRINT\n", "# END FINGERPRINT\n"
+
+
+def main(argv: list[str]) -> None:
     sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
     from materials.catalog_io import load_catalog
 
     sources, materials = load_catalog()
-    print("EXPECTED = " + pprint.pformat(fingerprint(sources, materials), width=116, sort_dicts=False))
+    block = "EXPECTED = " + pprint.pformat(fingerprint(sources, materials), width=116, sort_dicts=False) + "\n"
+    if "--write" not in argv:
+        sys.stdout.write(block)
+        return
+    text = TEST_FILE.read_text(encoding="utf-8")
+    new, n = re.subn(re.escape(BEGIN) + ".*?" + re.escape(END), lambda _m: BEGIN + block + END, text, flags=re.S)
+    if n != 1:
+        raise SystemExit(f"{TEST_FILE}: expected one {BEGIN.strip()} … {END.strip()} block, found {n}")
+    TEST_FILE.write_text(new, encoding="utf-8")
+    print(f"rewrote EXPECTED in {TEST_FILE}")
 
 
 if __name__ == "__main__":
-    main()
+    main(sys.argv[1:])
