@@ -100,7 +100,7 @@ def shortlist(
     if export:
         from ranking.report import export_result
 
-        export_result(result, export, force=force)
+        export_result(result, export, force=force, materials=mats)
     if json_out:
         from cli.output import print_json
 

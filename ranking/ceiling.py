@@ -111,8 +111,10 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
         test_area = DEFAULT_TEST_AREA_M2
         notes.append("breakdown test area not stated: common-practice 1 cm² assumed")
     if need_scaling:
-        e_design = float(design_field(scale_V_per_m=ebd.value, shape=shape, test_area_m2=test_area,
-                                      area_m2=area_m2 if area_m2 is not None else test_area,
+        # Without a part area there is no area scaling: any equal pair of areas gives the ratio 1.
+        ref_area = test_area if test_area is not None else 1.0
+        e_design = float(design_field(scale_V_per_m=ebd.value, shape=shape, test_area_m2=ref_area,
+                                      area_m2=area_m2 if area_m2 is not None else ref_area,
                                       failure_probability=failure_probability if failure_probability is not None
                                       else 1 - 2.718281828459045 ** -1, margin=margin))
     else:

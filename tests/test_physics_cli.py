@@ -112,3 +112,13 @@ def test_size_cli_missing_data_named_without_defaults(cli):
 def test_size_cli_wrong_unit_is_one_line(cli):
     code, out, err = cli(["size", "polypropylene-bopp", "--energy", "80 V", "--voltage", "800"])
     assert code == 2 and "--energy" in err and len(err.strip().splitlines()) == 1
+
+
+def test_ceiling_failure_probability_without_area_or_test_area(make_material):
+    """No part area: the quantile is taken at the test coupon, whatever its (unstated) area."""
+    from ranking.ceiling import ceiling_at
+
+    rows = [("relative_permittivity", 2.2, "handbook"), ("breakdown_field", 600e6, "handbook"),
+            ("weibull_shape", 10.0, "handbook")]
+    c = ceiling_at(make_material("m", rows), temperature_K=298.15, failure_probability=0.01)
+    assert c.design_field_V_per_m == pytest.approx(600e6 * (-math.log(0.99)) ** 0.1, rel=1e-9)
