@@ -16,10 +16,10 @@ Everything here works inside the caller's session (one transaction per command: 
 
 from __future__ import annotations
 
-import datetime as dt
 import math
 import re
 from dataclasses import dataclass, field
+from itertools import repeat
 from pathlib import Path
 
 from materials.errors import DataError, InputError
@@ -67,7 +67,7 @@ def slugify(text: str) -> str:
     return s[:120].rstrip("-")
 
 
-def _now() -> dt.datetime:
+def _now():
     from db.models import utcnow
 
     return utcnow()
@@ -323,6 +323,20 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
     return records, {k: v for k, v in new_sources.items() if k in used}
 
 
+def _bulk_insert(session, table, columns: tuple[str, ...], rows) -> None:
+    """Insert many rows (tuples in ``columns`` order) with one executemany in the session's transaction.
+
+    On SQLite the statement goes straight to the driver, which is as fast as bare ``sqlite3`` (the ORM and Core
+    bulk paths spend 1.5–3.5× as long converting 10⁵ rows); other backends take SQLAlchemy Core's executemany.
+    """
+    conn = session.connection()
+    if conn.dialect.name == "sqlite":
+        sql = f"INSERT INTO {table.name} ({', '.join(columns)}) VALUES ({', '.join('?' * len(columns))})"
+        conn.exec_driver_sql(sql, list(rows))
+    else:
+        conn.execute(table.insert(), [dict(zip(columns, r)) for r in rows])
+
+
 # --- provenance -------------------------------------------------------------------------------------------------
 
 def _source_for(session, what: str, data, *, file_name: str):
@@ -425,8 +439,6 @@ def import_breakdown(session, data, *, material_key: str | None = None, new_mate
         InputError: the file was imported before or the label is taken (unless ``force``), the material is
             unknown, or the fit is implausible.
     """
-    from sqlalchemy import insert
-
     from db.models import BreakdownPoint, BreakdownSet, PropertyValue
 
     mat, created, replaced, src, file_name = _prepare(
@@ -438,12 +450,10 @@ def import_breakdown(session, data, *, material_key: str | None = None, new_mate
                         source_id=src.id, file_name=file_name, sha256=data.sha256)
     session.add(bset)
     session.flush()
-    fields = data.fields_V_per_m.tolist()
-    cens = data.censored.tolist()
-    thick = data.thickness_m.tolist() if data.thickness_m is not None else [None] * len(fields)
-    session.execute(insert(BreakdownPoint), [
-        {"set_id": bset.id, "seq": i, "field_V_per_m": e, "censored": f, "thickness_m": d}
-        for i, (e, f, d) in enumerate(zip(fields, cens, thick))])
+    n = data.n
+    thick = data.thickness_m.tolist() if data.thickness_m is not None else repeat(None, n)
+    _bulk_insert(session, BreakdownPoint.__table__, ("set_id", "seq", "field_V_per_m", "censored", "thickness_m"),
+                 zip(repeat(bset.id, n), range(n), data.fields_V_per_m.tolist(), data.censored.tolist(), thick))
     fit, warnings = _fit_and_store(session, bset, mat, src, data.fields_V_per_m, data.censored,
                                    confidence=confidence, file=data.path)
     return ImportResult(what="breakdown set", material=mat.key, label=bset.label, id=bset.id, n=data.n,
@@ -556,8 +566,6 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
     ``recoverable_energy_density`` and ``efficiency`` rows that reference the loop, at its peak field,
     temperature, frequency and thickness. A new material made here has a nonlinear response.
     """
-    from sqlalchemy import insert
-
     from db.models import Loop, LoopPoint, PropertyValue
     from materials.energy import loop_energies
 
@@ -580,9 +588,9 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
                 thickness_m=c.thickness_m, source_id=src.id, file_name=file_name, sha256=data.sha256)
     session.add(loop)
     session.flush()
-    session.execute(insert(LoopPoint), [
-        {"loop_id": loop.id, "seq": i, "field_V_per_m": e, "polarization_C_per_m2": p}
-        for i, (e, p) in enumerate(zip(data.fields_V_per_m.tolist(), data.polarization_C_per_m2.tolist()))])
+    _bulk_insert(session, LoopPoint.__table__, ("loop_id", "seq", "field_V_per_m", "polarization_C_per_m2"),
+                 zip(repeat(loop.id, data.n), range(data.n), data.fields_V_per_m.tolist(),
+                     data.polarization_C_per_m2.tolist()))
     desc = (f"loop '{loop.label}' (stored {en.stored_J_per_m3:.4g} J/m³, lost {en.lost_J_per_m3:.4g} J/m³, "
             f"halves: {', '.join(en.halves)}; loop integration of E dD)")
     common = dict(material_id=mat.id, temperature_K=c.temperature_K, frequency_Hz=c.frequency_Hz,

@@ -53,8 +53,8 @@ MIN_LOOP_POINTS = 5
 RETURN_FRACTION = 0.2
 #: Largest plausible polarisation magnitude, C/m² (200 µC/cm²; the strongest ferroelectrics saturate below it).
 MAX_POLARIZATION_C_PER_M2 = 2.0
-#: How often (rows) the progress callback is called.
-PROGRESS_EVERY = 4096
+#: Files are read (hashed, decoded, and reported to the progress callback) in blocks of this many bytes.
+BLOCK_BYTES = 1 << 20
 
 _HEADER_LINE = re.compile(r"^#\s*([A-Za-z_][A-Za-z0-9_-]*)\s*:\s*(.*?)\s*$")
 _COLUMN = re.compile(r"^([^\[\]]*?)\s*(?:\[([^\[\]]*)\])?$")
@@ -157,28 +157,50 @@ class _Lines:
         self._on_progress = on_progress
 
     def __iter__(self) -> Iterator[str]:
+        # Blocks of 1 MiB are hashed and decoded whole (much faster than line by line); only complete lines are
+        # decoded, so a multi-byte character split across blocks is never cut.
         try:
             f = open(self.path, "rb")
         except OSError as exc:
             raise InputError(f"cannot read the file: {exc.strerror or exc}", file=self.path) from None
+        carry = b""
         with f:
-            for raw in f:
-                self.line += 1
-                self.bytes += len(raw)
-                self._sha.update(raw)
-                try:
-                    text = raw.decode("utf-8")
-                except UnicodeDecodeError as exc:
-                    col = len(raw[:exc.start].decode("utf-8", "replace")) + 1
-                    raise InputError(f"not UTF-8 text: byte 0x{raw[exc.start]:02x} at column {col} "
-                                     "(save the file as UTF-8)", file=self.path, line=self.line) from None
-                if self.line == 1 and text.startswith("\ufeff"):
-                    text = text[1:]
-                if self._on_progress is not None and self.line % PROGRESS_EVERY == 0:
+            while True:
+                block = f.read(BLOCK_BYTES)
+                if block:
+                    self._sha.update(block)
+                    self.bytes += len(block)
+                    data = carry + block
+                    cut = data.rfind(b"\n") + 1
+                    chunk, carry = data[:cut], data[cut:]
+                else:
+                    chunk, carry = carry, b""
+                if chunk:
+                    yield from self._decoded(chunk)
+                if self._on_progress is not None:
                     self._on_progress(self.bytes)
-                yield text
-        if self._on_progress is not None:
-            self._on_progress(self.bytes)
+                if not block:
+                    return
+
+    def _decoded(self, chunk: bytes) -> Iterator[str]:
+        try:
+            text = chunk.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            start = chunk.rfind(b"\n", 0, exc.start) + 1
+            col = len(chunk[start:exc.start].decode("utf-8", "replace")) + 1
+            raise InputError(f"not UTF-8 text: byte 0x{chunk[exc.start]:02x} at column {col} (save the file as "
+                             "UTF-8)", file=self.path, line=self.line + chunk.count(b"\n", 0, exc.start) + 1
+                             ) from None
+        parts = text.split("\n")
+        last = parts.pop()  # "" when the chunk ends with a newline
+        if self.line == 0 and parts and parts[0].startswith("\ufeff"):
+            parts[0] = parts[0][1:]
+        for part in parts:
+            self.line += 1
+            yield part + "\n"
+        if last:
+            self.line += 1
+            yield last[1:] if self.line == 1 and last.startswith("\ufeff") else last
 
     @property
     def sha256(self) -> str:
@@ -315,7 +337,7 @@ def _rows(rest: Iterator[str], header_row: str, lines: _Lines, ncols: int) -> It
 
     def data_lines():
         for text in rest:
-            if text.lstrip().startswith("#"):
+            if "#" in text and text.lstrip().startswith("#"):
                 raise lines.error("a '#' line after the column headings (two files joined together?)")
             yield text
 
@@ -327,12 +349,12 @@ def _rows(rest: Iterator[str], header_row: str, lines: _Lines, ncols: int) -> It
             return
         except csv.Error as exc:
             raise lines.error(f"not readable as CSV: {exc}") from None
-        if not cells or all(not c.strip() for c in cells):
-            continue
-        if len(cells) != ncols:
+        if len(cells) != ncols or not cells[0].strip():
+            if all(not c.strip() for c in cells):
+                continue  # a blank row
             if len(cells) > ncols and all(not c.strip() for c in cells[ncols:]):
                 cells = cells[:ncols]
-            else:
+            elif len(cells) != ncols:
                 raise lines.error(f"the row has {len(cells)} cells but there are {ncols} columns")
         yield cells
 
@@ -482,8 +504,16 @@ def read_breakdown(path, overrides: dict | None = None, *,
     cens = columns.get("censored")
     values, flags, thicknesses = [], [], []
     set_d = cond.thickness_m
+    mi, mscale, per_volt = main.index, main.scale, main.name == "voltage"
+    ci = cens.index if cens is not None else None
+    lo, hi = _FIELD_RANGE
+    # the common case stays on a short path; anything odd goes to the checks that say what is wrong
     for cells in _rows(rest, header_row, lines, len(cols)):
-        x = _positive(cells[main.index], main, lines) * main.scale
+        cell = cells[mi]
+        try:
+            x = float(cell) * mscale
+        except ValueError:
+            raise _cell_error(cell, main, lines) from None
         if thick is not None:
             d = _positive(cells[thick.index], thick, lines) * thick.scale
             if not 1e-9 <= d <= 1e-2:
@@ -492,19 +522,20 @@ def read_breakdown(path, overrides: dict | None = None, *,
             thicknesses.append(d)
         else:
             d = set_d
-        if main.name == "voltage":
+        if per_volt:
             x = x / d
-        if not _FIELD_RANGE[0] <= x <= _FIELD_RANGE[1]:
-            shown = f"{x / 1e6:g} V/µm"
-            raise lines.error(f"breakdown field {shown} is outside the plausible range "
-                              f"{_FIELD_RANGE[0] / 1e6:g}…{_FIELD_RANGE[1] / 1e6:g} V/µm (a unit slip?) "
-                              f"(column {main.index + 1})", field=main.heading)
+        if not lo <= x <= hi or "_" in cell:
+            _refuse_field(cell, x, main, lines)
         values.append(x)
-        if cens is not None:
-            c = cells[cens.index].strip()
-            if c not in ("0", "1"):
-                raise lines.error(f"censored must be 0 or 1, got '{c}' (column {cens.index + 1})", field=cens.heading)
-            flags.append(c == "1")
+        if ci is not None:
+            c = cells[ci]
+            if c == "0" or c == "1":
+                flags.append(c == "1")
+            elif c.strip() in ("0", "1"):
+                flags.append(c.strip() == "1")
+            else:
+                raise lines.error(f"censored must be 0 or 1, got '{c.strip()}' (column {ci + 1})",
+                                  field=cens.heading)
     if not values:
         raise InputError("the file has column headings but no data rows", file=path, line=hline)
     fields = np.asarray(values, dtype=float)
@@ -522,6 +553,14 @@ def read_breakdown(path, overrides: dict | None = None, *,
         cond.origin["thickness"] = "mean of the thickness column"
     return BreakdownFile(path=path, sha256=lines.sha256, conditions=cond, fields_V_per_m=fields,
                          censored=censored, thickness_m=thickness)
+
+
+def _refuse_field(cell: str, x: float, col: _Column, lines: _Lines) -> None:
+    """Raise the error for a field cell that failed the quick check (``x`` is its field in V/m)."""
+    _positive(cell, col, lines)
+    shown = f"{x / 1e6:g} V/µm"
+    raise lines.error(f"breakdown field {shown} is outside the plausible range {_FIELD_RANGE[0] / 1e6:g}…"
+                      f"{_FIELD_RANGE[1] / 1e6:g} V/µm (a unit slip?) (column {col.index + 1})", field=col.heading)
 
 
 def _number(cell: str, col: _Column, lines: _Lines) -> float:
