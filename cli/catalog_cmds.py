@@ -120,11 +120,10 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
                      (v.note + (" " + status if status else "")).strip()])
         cited[v.source.key] = v.source
     table(["property", "value", "range", "conditions", "source [kind]", "note"], body, right={1})
-    for label, rows in (("breakdown sets", sets["breakdown_sets"]), ("loops", sets["loops"])):
-        if rows:
-            say(f"{label}:")
-            for r in rows:
-                say(esc("  " + ", ".join(f"{k} {v}" for k, v in r.items() if v is not None)))
+    if sets["breakdown_sets"] or sets["loops"]:
+        from cli.lab_cmds import print_sets
+
+        print_sets(sets)
     say("sources:")
     for k, src in cited.items():
         say(esc(f"  {k} [{src.kind}]: {src.citation}"))

@@ -193,6 +193,36 @@ def _imported_lines(res) -> None:
         _say(f"warning: {w}")
 
 
+def print_sets(sets: dict) -> None:
+    """Tables of a material's breakdown sets and loops (what :func:`db.labdata.describe_sets` returns), for show."""
+    from cli.fmt import celsius, quantity
+    from cli.output import fmt, table
+
+    def um(x):
+        return quantity(x, "um", "m") if x is not None else "—"
+
+    if sets.get("breakdown_sets"):
+        rows = []
+        for r in sets["breakdown_sets"]:
+            rng = (f"{fmt(r['scale_low_V_per_m'] / 1e6)} … {fmt(r['scale_high_V_per_m'] / 1e6)}"
+                   if r["scale_low_V_per_m"] is not None else "")
+            rows.append([r["label"], r["n"], r["censored"], celsius(r["temperature_K"]), um(r["thickness_m"]),
+                         quantity(r["area_m2"], "cm**2", "m2") if r["area_m2"] is not None else "—",
+                         r["waveform"], quantity(r["scale_V_per_m"], "V/um", "V/m") if r["scale_V_per_m"] else "—",
+                         rng, fmt(r["shape"]), f"{r['source']} [{r['kind']}]"])
+        table(["breakdown set", "n", "cens.", "T", "d", "A", "wave", "scale α", "bounds V/µm", "β", "source [kind]"],
+              rows, right={1, 2, 7, 9}, caption="α: Weibull scale with its bounds; β: Ross-unbiased shape")
+    if sets.get("loops"):
+        rows = [[r["label"], r["n"], celsius(r["temperature_K"]),
+                 quantity(r["frequency_Hz"], "Hz", "Hz") if r["frequency_Hz"] else "—",
+                 quantity(r["max_field_V_per_m"], "V/um", "V/m") if r["max_field_V_per_m"] else "—",
+                 quantity(r["recovered_J_per_m3"], "J/cm**3", "J/m3") if r["recovered_J_per_m3"] is not None else "—",
+                 f"{fmt(r['efficiency'] * 100, 3)} %" if r["efficiency"] is not None else "—",
+                 f"{r['source']} [{r['kind']}]"] for r in sets["loops"]]
+        table(["loop", "n", "T", "f", "peak field", "recovered", "efficiency", "source [kind]"], rows,
+              right={1, 4, 5, 6})
+
+
 # --- commands ---------------------------------------------------------------------------------------------------
 
 def add(files: Annotated[list[Path], typer.Argument(help="Material records: catalog-form .toml files (with a "

@@ -350,11 +350,9 @@ def _source_for(session, what: str, data, *, file_name: str):
     where = c.lab or "lab not stated"
     when = c.date or "date not stated"
     body = f"{where}; {who}; {when}: {what} '{c.label}', file {file_name}, SHA-256 {data.sha256}"
-    if c.kind == "invented":
-        citation = "INVENTED DEMO DATA, not a measurement of any real material. " + \
-                   (c.citation.rstrip(".") + ". " if c.citation else "") + body
-    else:
-        citation = (c.citation.rstrip(".") + ". " if c.citation else "") + body
+    citation = (c.citation.rstrip(".") + ". " if c.citation else "") + body
+    if c.kind == "invented" and "invented" not in c.citation.lower():
+        citation = "INVENTED DEMO DATA, not a measurement of any real material. " + citation
     base = slugify(f"{c.kind}-{c.label}")[:60].rstrip("-") + f"-{data.sha256[:10]}"
     key, n = base, 1
     while True:
