@@ -218,3 +218,23 @@ def test_every_lab_command_has_help(cli):
         code, out, _ = cli(args + ["--help"])
         assert code == 0 and "Usage" in out
         assert len([line for line in out.splitlines() if line.strip()]) > 3
+
+
+def test_progress_bar_on_a_terminal_for_large_files(tmp_path, monkeypatch):
+    import io
+
+    from rich.console import Console
+
+    import cli.output
+    from cli import lab_cmds
+    from materials.labfiles import read_breakdown
+
+    buf = io.StringIO()
+    monkeypatch.setattr(cli.output, "console",
+                        lambda stderr=False: Console(file=buf, force_terminal=True, width=100))
+    small = write_set(tmp_path / "small.csv", [600, 610, 620])
+    lab_cmds._read(read_breakdown, small, {})
+    assert buf.getvalue() == ""
+    big = write_set(tmp_path / "big.csv", 640 * np.random.default_rng(6).weibull(12.0, 15_000))
+    assert lab_cmds._read(read_breakdown, big, {}).n == 15_000
+    assert "reading big.csv" in buf.getvalue()

@@ -7,7 +7,8 @@ import pytest
 from scipy.constants import epsilon_0
 
 from db.store import open_store
-from lab_support import EXAMPLES, build_store, logical_dump, write_loop, write_set
+from lab_support import EXAMPLES, LAB_CATALOG, build_store, logical_dump, write_loop, write_set
+from pg import pg_url  # noqa: F401  (fixture)
 from materials.errors import InputError
 from materials.labfiles import read_breakdown, read_loop
 
@@ -288,3 +289,32 @@ def test_read_add_files_uses_sibling_sources(store, tmp_path):
     assert [r.key for r in recs] == ["demo-ht-copolymer-film", "demo-relaxor-ceramic"]
     assert list(srcs) == ["demo-tallmere-invented"] and srcs["demo-tallmere-invented"].kind == "invented"
     assert recs[0].origin == "lab" and recs[1].origin == "user"
+
+
+@pytest.mark.postgres
+def test_import_round_trip_on_postgresql(pg_url, tmp_path):
+    """The same import on PostgreSQL (Core executemany instead of the SQLite driver path), in a retried write."""
+    from db.labdata import describe_sets, import_breakdown, import_loop, read_loop_points, read_points
+    from db.store import build
+
+    build(pg_url, catalog_dir=LAB_CATALOG, force=True)
+    st = open_store(pg_url, create=False)
+    try:
+        x = _weibull(5000, 640, 11.0, seed=9)
+        cens = np.random.default_rng(9).random(5000) < 0.05
+        data = read_breakdown(write_set(tmp_path / "pg.csv", x, cens, header={**HEADER, "temperature": "25"}))
+        res = st.write(lambda s: import_breakdown(s, data, material_key="fixture-film"))
+        lf = write_loop(tmp_path / "pgloop.csv", [0, 100.5, 200.25, 100.125, 0.0], [0, 2.5, 3.75, 2.875, 1.0625])
+        loop = read_loop(lf)
+        st.write(lambda s: import_loop(s, loop, material_key="fixture-ceramic"))
+        with st.session() as s:
+            fields, flags, _ = read_points(s, "fixture-film", "pg")
+            e, p = read_loop_points(s, "fixture-ceramic", "pgloop")
+            sets = describe_sets(s, "fixture-film")["breakdown_sets"]
+        assert np.array_equal(fields, data.fields_V_per_m) and np.array_equal(flags, data.censored)
+        assert np.array_equal(e, loop.fields_V_per_m) and np.array_equal(p, loop.polarization_C_per_m2)
+        assert sets[0]["n"] == 5000 and sets[0]["scale_V_per_m"] == pytest.approx(res.figures["scale_V_per_m"])
+        with pytest.raises(InputError, match="already imported"):
+            st.write(lambda s: import_breakdown(s, data, material_key="fixture-film"))
+    finally:
+        st.dispose()
