@@ -467,3 +467,11 @@ def test_films_and_capacitor_ceramics_have_a_weibull_shape(catalog):
     for m in mats.values():
         if m.family in ("polymer-film", "ceramic-class-1", "ceramic-class-2"):
             assert rows(catalog, m.key, "weibull_shape"), m.key
+
+
+def test_alumina_short_time_tests_mieller_2019(catalog):
+    """Mieller, J. Adv. Ceram. 8 (2019): 21.6-33.2 kV/mm by test procedure, short-time Weibull moduli around 30."""
+    for key in ("alumina-96", "alumina-99-5"):
+        v = one(catalog, key, "breakdown_field", "mieller-2019-jadvceram-alumina")
+        assert (v.low, v.high) == (pytest.approx(21.6e6), pytest.approx(33.2e6))
+        assert one(catalog, key, "weibull_shape", "mieller-2019-jadvceram-alumina").value == 30
