@@ -41,7 +41,7 @@ from typing import Callable, Iterator
 import numpy as np
 
 from materials.errors import InputError, UnitError
-from materials.properties import PROPERTIES, check_plausible
+from materials.properties import PROPERTIES
 from materials.units import parse_option, to_si
 
 #: Fewest specimens in a breakdown series (a fit needs at least two failures; three specimens is the least
@@ -216,15 +216,6 @@ def in_file(exc: InputError, path, *, prefix: str = "", keep_field: bool = True)
     if exc.field and msg.startswith(f"field '{exc.field}': "):
         msg = msg[len(f"field '{exc.field}': "):]
     return InputError(prefix + msg, file=str(path), line=exc.line, field=exc.field if keep_field else None)
-
-
-def file_sha256(path) -> str:
-    """SHA-256 (hex) of a file's bytes, read in blocks."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for block in iter(lambda: f.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
 
 
 # --- header block and column row ---------------------------------------------------------------------------------

@@ -11,7 +11,7 @@ from hypothesis import given, settings, strategies as st
 
 from lab_support import EXAMPLES, LAB_CATALOG, write_loop, write_set
 from materials.errors import InputError
-from materials.labfiles import (read_breakdown, read_loop, read_value_table, RETURN_FRACTION)
+from materials.labfiles import RETURN_FRACTION, read_breakdown, read_loop, read_value_table
 
 
 def test_header_block_and_units_to_si(tmp_path):
