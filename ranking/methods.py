@@ -135,6 +135,18 @@ def _vector_scale(x: np.ndarray, w: np.ndarray, hi: np.ndarray, lo: np.ndarray) 
     return np.divide(w, norm, out=np.zeros(norm.shape), where=norm > 0)
 
 
+def _safe_columns(x: np.ndarray) -> np.ndarray:
+    """Columns of extreme magnitude rescaled by their largest value (both methods are invariant to column scale).
+
+    Without this, ``w/||x||`` of a column of subnormal numbers overflows to infinity.
+    """
+    amax = np.max(np.abs(x), axis=-2)
+    odd = (amax > 0) & ((amax < 1e-100) | (amax > 1e100))
+    if not odd.any():
+        return x
+    return x / np.where(odd, amax, 1.0)[..., None, :]
+
+
 def _topsis_distances(x, w, b):
     """Column scale ``w_j/||x_j||``, ideal and anti-ideal points (raw units, broadcastable over the rows) and the
     weighted normalised ideal–anti-ideal gap ``g_j`` per criterion."""
@@ -162,6 +174,7 @@ def topsis(matrix: ArrayLike, weights: ArrayLike, benefit: ArrayLike) -> np.ndar
     x, w, b = _problem(matrix, weights, benefit)
     if x.shape[-2] == 0:
         return np.empty(x.shape[:-1])
+    x = _safe_columns(x)
     scale, ideal, anti, _ = _topsis_distances(x, w, b)
     # One work array reused for both distances; the einsum squares and sums in one pass.
     d = np.subtract(x, ideal)
@@ -202,6 +215,7 @@ def topsis_contributions(matrix: ArrayLike, weights: ArrayLike, benefit: ArrayLi
     x, w, b = _problem(matrix, weights, benefit)
     if x.shape[-2] == 0:
         return np.empty(x.shape)
+    x = _safe_columns(x)
     scale, ideal, anti, gap = _topsis_distances(x, w, b)
     p = (x - ideal) * scale
     p *= p
@@ -224,6 +238,7 @@ def _minmax_terms(matrix, weights, benefit):
     x, w, b = _problem(matrix, weights, benefit)
     if x.shape[-2] == 0:
         return np.empty(x.shape)
+    x = _safe_columns(x)
     hi, lo = _column_extremes(x)
     span = hi - lo
     if not np.isfinite(span).all():
