@@ -141,7 +141,7 @@ def _safe_columns(x: np.ndarray) -> np.ndarray:
     Without this, ``w/||x||`` of a column of subnormal numbers overflows to infinity.
     """
     amax = np.max(np.abs(x), axis=-2)
-    odd = (amax > 0) & ((amax < 1e-100) | (amax > 1e100))
+    odd = (amax > 0) & np.isfinite(amax) & ((amax < 1e-100) | (amax > 1e100))
     if not odd.any():
         return x
     return x / np.where(odd, amax, 1.0)[..., None, :]
