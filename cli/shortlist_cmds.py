@@ -149,12 +149,15 @@ def render(result: dict, *, top: int) -> None:
     body = []
     for r in result["ranked"][:top]:
         flags = "!" if any(f in ("recollection", "invented") for f in r["flags"]) else ""
+        if any("missing" in f or f.startswith("assumed") or f == "extrapolated" for f in r["flags"]):
+            flags += "*"
         body.append([r["rank"], r["label"] + flags, f"{r['score']:.3f}",
                      *[show(n, r["criteria"].get(n)) for n in names],
                      f"{r['p_top']:.2f}", f"{r['p_top_k']:.2f}", f"{r['confidence']:.2f}", r["binding"]])
     table(cols, body, right=set(range(2, 3 + len(names) + 3)),
           title=f"{len(result['ranked'])} ranked, {len(result['excluded'])} excluded")
-    say("! rests partly on recollection or invented values. p_first / p_top: share of Monte Carlo draws "
+    say("! rests partly on recollection or invented values; * uses an assumed default, an imputed (worst of the "
+        "field) criterion or an extrapolated value — see --json flags. p_first / p_top: share of Monte Carlo draws "
         f"({result['robustness']['draws']}, weights and value ranges varied) in which it ranks first / in the top "
         f"{k}.")
     if result["ranked"]:
