@@ -267,7 +267,39 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
         engine.dispose()
         build(url)
         engine = make_engine(url)
+    try:
+        _require_current_schema(engine, url)
+    except BaseException:
+        engine.dispose()
+        raise
     return Store(url=url, engine=engine)
+
+
+def _require_current_schema(engine, url: str) -> None:
+    """Refuse a store whose schema revision is not this program's: older needs 'holdoff db upgrade'.
+
+    Revision ids are four-digit sequence numbers (db/migrations/versions), so older and newer compare as numbers.
+    A store that records no revision (made by :func:`empty_store`) is taken as current.
+    """
+    from sqlalchemy import inspect, text
+
+    from db.engine import mask_url
+
+    with engine.connect() as c:
+        tables = set(inspect(c).get_table_names())
+        rev = None
+        if "alembic_version" in tables:
+            rev = c.execute(text("SELECT version_num FROM alembic_version")).scalar()
+        elif "meta" in tables:
+            rev = c.execute(text("SELECT value FROM meta WHERE key = 'schema_revision'")).scalar()
+    if rev is None or rev == SCHEMA_REVISION:
+        return
+    if rev.isdigit() and int(rev) < int(SCHEMA_REVISION):
+        raise StoreError(f"the store at {mask_url(url)} is at schema revision {rev}, this holdoff needs "
+                         f"{SCHEMA_REVISION}: run 'holdoff db upgrade' (dump it first with 'holdoff db dump FILE' "
+                         "if you want a copy)")
+    raise StoreError(f"the store at {mask_url(url)} is at schema revision {rev}, newer than this holdoff knows "
+                     f"({SCHEMA_REVISION}): upgrade holdoff")
 
 
 def _stale_catalog_only(engine) -> bool:

@@ -248,3 +248,18 @@ def test_upgrade_refuses_missing_empty_and_newer_stores(tmp_path):
     engine.dispose()
     with pytest.raises(StoreError, match="0999.*upgrade holdoff"):
         upgrade_store(url)
+
+
+def test_an_old_store_is_refused_until_upgraded(tmp_path):
+    from db.migrate import head_revision, upgrade_store
+    from db.store import SCHEMA_REVISION, open_store
+    from materials.errors import StoreError
+
+    assert SCHEMA_REVISION == head_revision()
+    url = f"sqlite:///{tmp_path / 's.sqlite'}"
+    _migrate(url, "0001")
+    _fill_at_first_revision(url)
+    with pytest.raises(StoreError, match="revision 0001.*holdoff db upgrade"):
+        open_store(url)
+    upgrade_store(url)
+    open_store(url, create=False).dispose()
