@@ -5,7 +5,7 @@ from __future__ import annotations
 from cli.output import fmt
 
 PRETTY = {"um": "µm", "degC": "°C", "g/cm**3": "g/cm³", "J/cm**3": "J/cm³", "V/um": "V/µm", "%": "%",
-          "ohm m": "Ω·m", "W/(m K)": "W/(m·K)", "J/(kg K)": "J/(kg·K)", "cm**2": "cm²", "m**2": "m²",
+          "ohm m": "Ω·m", "W/(m K)": "W/(m·K)", "J/(kg K)": "J/(kg·K)", "cm**2": "cm²", "m**2": "m²", "cm**3": "cm³", "uF": "µF",
           "": ""}
 
 

@@ -80,6 +80,9 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
                                                                "(A unless a unit) for the dissipated power.")] = None,
          frequency: Annotated[Optional[str], typer.Option("--frequency", help="Ripple frequency (Hz unless a "
                                                           "unit).")] = None,
+         segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
+                                                             "segmented electrodes: scale breakdown to one segment "
+                                                             "(cm² unless a unit); p is then per segment.")] = None,
          assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
     from db.query import get_material
@@ -96,7 +99,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         failure_probability=failure_prob, margin=margin,
         ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
-        assume_defaults=assume_defaults)
+        assume_defaults=assume_defaults,
+        segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None)
     if json_out:
         from cli.output import print_json
 

@@ -12,7 +12,7 @@ from cli.output import JsonOpt
 
 
 def build_target(*, target_file, voltage, tmin, tmax, energy_density, energy, frequency, max_loss, failure_prob,
-                 margin, area, family, weights, thickness, assume_defaults):
+                 margin, area, family, weights, thickness, assume_defaults, segment_area=None):
     """A Target from a file and/or options (options override the file)."""
     from materials.errors import InputError
     from materials.units import parse_option
@@ -28,6 +28,7 @@ def build_target(*, target_file, voltage, tmin, tmax, energy_density, energy, fr
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
         max_loss_tangent=max_loss, failure_probability=failure_prob, margin=margin,
         area_m2=parse_option(area, "capacitor_area", name="--area") if area else None,
+        segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None,
         families=tuple(f.strip() for f in family.split(",")) if family else None,
         thicknesses_m=parse_thicknesses(thickness) if thickness else None,
         assume_defaults=True if assume_defaults else None,
@@ -71,6 +72,9 @@ def shortlist(
     = None,
     area: Annotated[Optional[str], typer.Option("--area", help="Active area (m² unless a unit); else derived "
                                                 "from --energy per candidate.")] = None,
+    segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
+                                                        "segmented electrodes: scale breakdown to one segment "
+                                                        "(cm² unless a unit); p is then per segment.")] = None,
     family: Annotated[Optional[str], typer.Option("--family", help="Only these families (comma-separated).")]
     = None,
     thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
@@ -93,7 +97,7 @@ def shortlist(
     t = build_target(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy_density=energy_density,
                      energy=energy, frequency=frequency, max_loss=max_loss, failure_prob=failure_prob,
                      margin=margin, area=area, family=family, weights=weights, thickness=thickness,
-                     assume_defaults=assume_defaults)
+                     assume_defaults=assume_defaults, segment_area=segment_area)
     with state.store().session() as s:
         mats = load_materials(s)
     result = run(mats, t, method=method, top_k=min(3, top), draws=draws, seed=seed)

@@ -30,6 +30,10 @@ DEFAULT_SHAPE = 10.0
 DEFAULT_TEST_AREA_M2 = 1e-4
 
 
+_SEGMENT_NOTE = ("self-healing segmented electrode: weakest-link scaling over one segment; the failure probability "
+                 "is per segment (the expected share of segments that clear or disconnect), not of the whole part")
+
+
 @dataclass(frozen=True)
 class SizingResult:
     """A sized dielectric layer.
@@ -153,11 +157,13 @@ def _ripple_power(capacitance, loss_tangent, ripple_current, frequency):
 
 
 def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, shape, test_area, log_k,
-            limited_by, iterations, density, loss_tangent, ripple, frequency, notes) -> SizingResult:
+            limited_by, iterations, density, loss_tangent, ripple, frequency, notes,
+            segment_area=None) -> SizingResult:
     e_op = voltage / d
     volume = area * d
     capacitance = charge_per_m2 * area / voltage
-    failure = -math.expm1(-(area / test_area) * (e_op / scale) ** shape)
+    link = area if segment_area is None else segment_area
+    failure = -math.expm1(-(link / test_area) * (e_op / scale) ** shape)
     if limited_by == "min_thickness":
         notes.append(f"limited by the minimum thickness {d:.4g} m: the operating field is below the design field")
     mass = None if density is None else _positive("density_kg_per_m3", density) * volume
@@ -168,7 +174,7 @@ def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, sha
         mass_kg=mass,
         capacitance_F=capacitance,
         operating_field_V_per_m=e_op,
-        design_field_V_per_m=math.exp(log_k - math.log(area) / shape),
+        design_field_V_per_m=math.exp(log_k - math.log(link) / shape),
         energy_J=energy,
         failure_probability=failure,
         limited_by=limited_by,
@@ -183,7 +189,7 @@ def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, sha
 def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, shape=None, test_area_m2=None,
                 failure_probability, margin=1.0, density_kg_per_m3=None, min_thickness_m=None,
                 loss_tangent=None, ripple_current_A=None, frequency_Hz=None,
-                assume_defaults=False) -> SizingResult:
+                assume_defaults=False, segment_area_m2=None) -> SizingResult:
     """Size a linear dielectric layer to store ``energy_J`` at ``voltage_V`` at the design field.
 
     Derivation: ``W = ½CV²`` with ``C = ε0·εr·A/d`` fixes the area per thickness, ``A = c·d`` with
@@ -215,8 +221,12 @@ def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, sh
     log_k = _design_constant(scale, shape, test_area, p, margin)
 
     log_c = math.log(2.0 * energy / (EPSILON_0 * er * voltage**2))
-    log_area = (log_c + math.log(voltage) - log_k) * shape / (shape - 1.0)
-    d = math.exp(log_area - log_c)
+    if segment_area_m2 is not None:
+        d = voltage / math.exp(log_k - math.log(_positive("segment_area_m2", segment_area_m2)) / shape)
+        notes = notes + [_SEGMENT_NOTE]
+    else:
+        log_area = (log_c + math.log(voltage) - log_k) * shape / (shape - 1.0)
+        d = math.exp(log_area - log_c)
     limited_by = "breakdown"
     if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
         d, limited_by = float(min_thickness_m), "min_thickness"
@@ -226,13 +236,13 @@ def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, sh
                    energy=0.5 * capacitance * voltage**2, small_signal=capacitance, scale=scale, shape=shape,
                    test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=0,
                    density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
-                   frequency=frequency_Hz, notes=notes)
+                   frequency=frequency_Hz, notes=notes, segment_area=segment_area_m2)
 
 
 def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_permittivity, scale_V_per_m,
                    shape=None, test_area_m2=None, failure_probability, margin=1.0, density_kg_per_m3=None,
                    min_thickness_m=None, loss_tangent=None, ripple_current_A=None, frequency_Hz=None,
-                   extrapolate=False, assume_defaults=False) -> SizingResult:
+                   extrapolate=False, assume_defaults=False, segment_area_m2=None) -> SizingResult:
     """Size a nonlinear dielectric (given by a DC-bias curve) to store ``energy_J`` at ``voltage_V``.
 
     The stored energy is ``W = A·d·u(V/d)`` with ``u(E) = ∫0^E e dD`` from
@@ -265,29 +275,33 @@ def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_perm
         e = math.exp(log_k - log_area / shape)
         return log_area + log_d + math.log(float(curve.energy(e, True))) - math.log(energy)
 
-    # start from the linear solution with the permittivity at zero field, then widen until the sign changes
-    er0 = float(curve.k[0])
-    x0 = (math.log(2.0 * energy / (EPSILON_0 * er0 * voltage**2)) + log_v - log_k) * shape / (shape - 1.0)
-    lo = hi = x0
-    f_lo = f_hi = log_energy(x0)
-    for _ in range(200):
-        if f_lo <= 0 <= f_hi:
-            break
-        if f_lo > 0:
-            lo -= math.log(10.0)
-            f_lo = log_energy(lo)
-        if f_hi < 0:
-            hi += math.log(10.0)
-            f_hi = log_energy(hi)
-    else:  # pragma: no cover - W(A) spans many decades for any physical curve
-        raise InputError("no area stores the energy at this voltage: check the DC-bias curve")
-    if f_lo == 0:
-        log_area, iterations = lo, 0
-    elif f_hi == 0:
-        log_area, iterations = hi, 0
+    if segment_area_m2 is not None:
+        log_area, iterations = math.log(_positive("segment_area_m2", segment_area_m2)), 0
+        notes = notes + [_SEGMENT_NOTE]
     else:
-        log_area, info = brentq(log_energy, lo, hi, xtol=1e-13, rtol=1e-14, full_output=True)
-        iterations = info.iterations
+        # start from the linear solution with the permittivity at zero field, then widen until the sign changes
+        er0 = float(curve.k[0])
+        x0 = (math.log(2.0 * energy / (EPSILON_0 * er0 * voltage**2)) + log_v - log_k) * shape / (shape - 1.0)
+        lo = hi = x0
+        f_lo = f_hi = log_energy(x0)
+        for _ in range(200):
+            if f_lo <= 0 <= f_hi:
+                break
+            if f_lo > 0:
+                lo -= math.log(10.0)
+                f_lo = log_energy(lo)
+            if f_hi < 0:
+                hi += math.log(10.0)
+                f_hi = log_energy(hi)
+        else:  # pragma: no cover - W(A) spans many decades for any physical curve
+            raise InputError("no area stores the energy at this voltage: check the DC-bias curve")
+        if f_lo == 0:
+            log_area, iterations = lo, 0
+        elif f_hi == 0:
+            log_area, iterations = hi, 0
+        else:
+            log_area, info = brentq(log_energy, lo, hi, xtol=1e-13, rtol=1e-14, full_output=True)
+            iterations = info.iterations
     d = math.exp(log_v + log_area / shape - log_k)
     limited_by = "breakdown"
     if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
@@ -297,10 +311,11 @@ def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_perm
     if e_op > curve.e[-1]:
         notes.append(f"operating field {e_op:.4g} V/m beyond the DC-bias curve (ends at {curve.e[-1]:.4g} V/m): "
                      "last permittivity held constant")
-    area = math.exp(log_area) if limited_by == "breakdown" else energy / (d * u)
+    area = (math.exp(log_area) if limited_by == "breakdown" and segment_area_m2 is None
+            else energy / (d * u))
     small_signal = EPSILON_0 * float(curve.permittivity(e_op, True)) * area / d
     return _finish(d=d, area=area, voltage=voltage, charge_per_m2=float(curve.charge(e_op, True)),
                    energy=area * d * u, small_signal=small_signal, scale=scale, shape=shape,
                    test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=iterations,
                    density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
-                   frequency=frequency_Hz, notes=notes)
+                   frequency=frequency_Hz, notes=notes, segment_area=segment_area_m2)

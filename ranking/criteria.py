@@ -112,7 +112,7 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
     """Check the hard constraints and compute every criterion of ``material`` for ``target``."""
     from materials.energy import charge_density
     from materials.sizing import design_field
-    from ranking.part import size_worst_case
+    from ranking.part import self_heals, size_worst_case
     from ranking.ceiling import energy_density_at
 
     ev = Evaluation(key=material.key, name=material.name, family=material.family, thickness_m=thickness_m)
@@ -146,10 +146,13 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
     if wc.density:
         _add(ev, "mass", wc.density)
     V, p = target.voltage_V, target.failure_probability
+    seg = target.segment_area_m2 if target.segment_area_m2 and self_heals(material) else None
+    if seg:
+        ev.flags.append("segment-scaled")
 
     def e_design(area):
-        return float(design_field(scale_V_per_m=ebd.value, shape=beta, test_area_m2=test_area, area_m2=area,
-                                  failure_probability=p, margin=target.margin))
+        return float(design_field(scale_V_per_m=ebd.value, shape=beta, test_area_m2=test_area,
+                                  area_m2=seg or area, failure_probability=p, margin=target.margin))
 
     def u_at(e):
         return energy_density_at(material, e, temperature_K=t_eps, eps=eps)[0]
@@ -172,7 +175,7 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
         ev.binding = f"fixed layer {d * 1e6:g} µm: {e_op / ed:.0%} of the design field"
     elif target.energy_J is not None and (curve0 is not None or material.response == "linear"):
         res = size_worst_case(material, wc, energy_J=target.energy_J, voltage_V=V, failure_probability=p,
-                              margin=target.margin)
+                              margin=target.margin, segment_area_m2=seg)
         d, area, ed, e_op = res.thickness_m, res.area_m2, res.design_field_V_per_m, res.operating_field_V_per_m
         u_op = u_at(e_op)
         ev.details["sizing"] = res
@@ -235,7 +238,7 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
         from materials.breakdown import scale_to_area
 
         ev.details["failure_probability"] = _failure_probability(e_op, ebd.value, beta,
-                                                                 test_area, area, scale_to_area)
+                                                                 test_area, seg or area, scale_to_area)
     # Loss: the largest tan δ over the grid.
     if wc.loss is not None:
         worst = wc.loss

@@ -7,9 +7,19 @@ from materials.records import MaterialData
 from ranking.worstcase import WorstCase, worst_case
 
 
+def self_heals(material: MaterialData) -> bool:
+    from materials.lookup import value_at
+
+    return material.has("self_healing") and value_at(material, "self_healing").value >= 0.5
+
+
 def size_worst_case(material: MaterialData, wc: WorstCase, *, energy_J: float, voltage_V: float,
-                    failure_probability: float, margin: float, ripple_current_A=None, frequency_Hz=None):
-    """A :class:`materials.sizing.SizingResult` from worst-case inputs; linear or along the DC-bias curve."""
+                    failure_probability: float, margin: float, ripple_current_A=None, frequency_Hz=None,
+                    segment_area_m2=None):
+    """A :class:`materials.sizing.SizingResult` from worst-case inputs; linear or along the DC-bias curve.
+
+    A segment area applies only to a self-healing material (a breakdown clears or disconnects one segment).
+    """
     from materials.sizing import size_linear, size_nonlinear
 
     common = dict(energy_J=energy_J, voltage_V=voltage_V, scale_V_per_m=wc.ebd.value, shape=wc.beta,
@@ -17,7 +27,8 @@ def size_worst_case(material: MaterialData, wc: WorstCase, *, energy_J: float, v
                   density_kg_per_m3=wc.density.value if wc.density else None,
                   min_thickness_m=wc.min_thickness.value if wc.min_thickness else None,
                   loss_tangent=wc.loss.value if wc.loss else None, ripple_current_A=ripple_current_A,
-                  frequency_Hz=frequency_Hz)
+                  frequency_Hz=frequency_Hz,
+                  segment_area_m2=segment_area_m2 if segment_area_m2 and self_heals(material) else None)
     curve = wc.bias_curve(material)
     if curve is not None:
         fields, eps, _rows = curve
@@ -30,7 +41,7 @@ def size_worst_case(material: MaterialData, wc: WorstCase, *, energy_J: float, v
 
 def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, tmin_K: float, tmax_K: float,
                   failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
-                  frequency_Hz=None, assume_defaults: bool = False) -> dict:
+                  frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None) -> dict:
     """Size ``material`` for ``energy_J`` at ``voltage_V`` over ``tmin_K…tmax_K``: the ``size`` JSON contract."""
     from materials.sizing import CAUTION
 
@@ -54,7 +65,10 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
         raise DataError(f"{material.key}: {exc}") from None
     res = size_worst_case(material, wc, energy_J=energy_J, voltage_V=voltage_V,
                           failure_probability=failure_probability, margin=margin,
-                          ripple_current_A=ripple_current_A, frequency_Hz=frequency_Hz)
+                          ripple_current_A=ripple_current_A, frequency_Hz=frequency_Hz,
+                          segment_area_m2=segment_area_m2)
+    if segment_area_m2 and not self_heals(material):
+        notes.append("segment area ignored: the material is not self-healing, so the whole area counts")
     out = {"key": material.key, "name": material.name, "voltage_V": voltage_V, "tmin_K": tmin_K, "tmax_K": tmax_K,
            **res.as_dict(), "worst_temperature_K": wc.t_ebd, "worst_permittivity_temperature_K": wc.t_eps,
            "relative_permittivity": wc.eps.value, "breakdown_field_V_per_m": wc.ebd.value,

@@ -14,6 +14,9 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
     failure_probability = 0.001     # accepted short-term failure probability of the part
     margin = 1.2                    # design field = Weibull quantile / margin
     area = "0.5 m^2"                # active area; derived per material from the energy when absent
+    segment_area = "4 cm^2"         # self-healing films with segmented electrodes: the weakest-link area is one
+                                    # segment (a breakdown clears or disconnects only it); failure probability is
+                                    # then per segment
     families = ["polymer-film", "ceramic-class-1"]
     thicknesses = ["2.5 um", "3 um", "4 um"]   # optional design space of layer thicknesses
     assume_defaults = false         # allow common-practice β and test area where the data lack them
@@ -46,6 +49,7 @@ class Target:
     failure_probability: float = 0.01
     margin: float = 1.0
     area_m2: float | None = None
+    segment_area_m2: float | None = None
     families: tuple[str, ...] = ()
     thicknesses_m: tuple[float, ...] = ()
     weights: dict = field(default_factory=dict)
@@ -64,6 +68,8 @@ class Target:
         for f in self.families:
             if f not in FAMILIES:
                 raise InputError(f"family '{f}' is not one of {', '.join(FAMILIES)}")
+        if self.segment_area_m2 is not None and not self.segment_area_m2 > 0:
+            raise InputError("segment area must be positive")
         if self.energy_J is not None and not self.energy_J > 0:
             raise InputError("energy must be positive")
         if self.energy_density_J_per_m3 is not None and not self.energy_density_J_per_m3 > 0:
@@ -74,7 +80,7 @@ class Target:
                 "energy_J": self.energy_J, "energy_density_J_per_m3": self.energy_density_J_per_m3,
                 "frequency_Hz": self.frequency_Hz, "max_loss_tangent": self.max_loss_tangent,
                 "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
-                "families": list(self.families), "thicknesses_m": list(self.thicknesses_m),
+                "segment_area_m2": self.segment_area_m2, "families": list(self.families), "thicknesses_m": list(self.thicknesses_m),
                 "weights": dict(self.weights), "assume_defaults": self.assume_defaults}
 
 
@@ -129,7 +135,7 @@ def parse_thicknesses(text) -> tuple[float, ...]:
 
 
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
-              "failure_probability", "margin", "area", "families", "thicknesses", "assume_defaults"}
+              "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults"}
 
 
 def load_target(path: Path) -> Target:
@@ -159,6 +165,7 @@ def load_target(path: Path) -> Target:
             max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
             failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
             area_m2=parse_option(t["area"], "capacitor_area") if "area" in t else None,
+            segment_area_m2=parse_option(t["segment_area"], "electrode_area") if "segment_area" in t else None,
             families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
             assume_defaults=bool(t.get("assume_defaults", False)), name=str(t.get("name", "")),
         )

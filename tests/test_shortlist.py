@@ -291,3 +291,17 @@ def test_ranked_and_excluded_cover_the_catalog(mem_store, voltage, tmin, span, e
     assert all(e["reasons"] for e in res["excluded"])
     for r in res["ranked"]:
         assert all(math.isfinite(v) for v in r["criteria"].values())
+
+
+def test_segment_area_applies_to_self_healing_films_only(make_material):
+    """Weakest-link scaling over one electrode segment for self-healing film (IEC 62539 §12 area law)."""
+    healing = film(make_material, "heal", heal=1.0)
+    solid = film(make_material, "solid", heal=0.0)
+    whole = shortlist([healing, solid], target(), draws=10)
+    seg = shortlist([healing, solid], target(segment_area_m2=4e-4), draws=10)
+    e = {r["key"]: r["design"]["design_field_V_per_m"] for r in whole["ranked"]}
+    e_seg = {r["key"]: r["design"]["design_field_V_per_m"] for r in seg["ranked"]}
+    assert e_seg["solid"] == pytest.approx(e["solid"])
+    # 600 V/µm on 1 cm², β 12, p 1e-3 over one 4 cm² segment: 600·(1/4)^(1/12)·(−ln 0.999)^(1/12)
+    assert e_seg["heal"] == pytest.approx(600e6 * 0.25 ** (1 / 12) * (-math.log(0.999)) ** (1 / 12), rel=1e-9)
+    assert "segment-scaled" in next(r for r in seg["ranked"] if r["key"] == "heal")["flags"]
