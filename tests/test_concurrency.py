@@ -13,6 +13,8 @@ import sys
 import textwrap
 from pathlib import Path
 
+import pytest
+
 import pg
 from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
@@ -130,3 +132,32 @@ def test_write_reruns_a_transaction_that_met_a_lock(tmp_path):
     assert len(attempts) > 1
     store.dispose()
     holder.dispose()
+
+
+OPENER = textwrap.dedent("""
+    import sys
+    from sqlalchemy import func, select
+    from db.models import Material
+    from db.store import open_store
+
+    sys.stdin.readline()
+    store = open_store(sys.argv[1])
+    with store.session() as s:
+        print(s.execute(select(func.count()).select_from(Material)).scalar(), flush=True)
+    store.dispose()
+""")
+
+
+@pytest.mark.postgres
+def test_two_first_opens_of_an_empty_server_build_it_once(pg_url):
+    import os
+
+    env = dict(os.environ, HOLDOFF_CATALOG=str(pg.MINI_CATALOG))
+    procs = [subprocess.Popen([sys.executable, "-c", OPENER, pg_url], cwd=REPO, env=env, stdin=subprocess.PIPE,
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True) for _ in range(2)]
+    for p in procs:
+        p.stdin.write("go\n")
+        p.stdin.flush()
+    outs = [p.communicate(timeout=60) for p in procs]
+    assert [p.returncode for p in procs] == [0, 0], [err for _, err in outs]
+    assert [out.strip() for out, _ in outs] == ["4", "4"]
