@@ -261,7 +261,9 @@ class _Loader:
                 if (material, row["label"]) in self.ids[kind]:
                     raise self.error(f"{kind.replace('_', ' ')} '{row['label']}' appears twice", "label")
                 self.ids[kind][(material, row["label"])] = row["id"]
+                self._queue(table, row)  # before its points: a flush may come in the middle of them
                 self._points(kind, rec, row["id"])
+                return
         self._queue(table, row)
 
     def _new_id(self, kind: str) -> int:

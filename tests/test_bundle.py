@@ -79,9 +79,19 @@ def test_bundle_holds_everything(tmp_path):
 @pytest.mark.postgres
 def test_sqlite_to_postgres_and_back(pg_url, tmp_path):
     from db.bundle import load_bundle
+    from db.models import BreakdownPoint, BreakdownSet
+    from db.store import bulk_insert
 
     src = f"sqlite:///{tmp_path / 'src.sqlite'}"
-    pg.sample_store(src).dispose()
+    store = pg.sample_store(src)
+    with store.session() as s:  # a set larger than one load batch, so that batches split its points
+        big = BreakdownSet(material_id=1, label="big", source_id=1, file_name="", sha256="0" * 64)
+        s.add(big)
+        s.flush()
+        bulk_insert(s, BreakdownPoint.__table__, [{"set_id": big.id, "seq": i, "field_V_per_m": 4e8 + i / 7,
+                                                   "censored": i % 9 == 0, "thickness_m": None}
+                                                  for i in range(12_000)])
+    store.dispose()
     a = _dump(src, tmp_path / "a.jsonl")
     load_bundle(pg_url, tmp_path / "a.jsonl")
     assert _dump(pg_url, tmp_path / "b.jsonl") == a
