@@ -3,6 +3,11 @@
 A store built from the models (:func:`db.store.build`) is stamped at the newest revision; ``holdoff db upgrade``
 (:func:`upgrade_store`) brings an older store forward in one transaction. A store made before migrations existed
 carries its revision in the ``meta`` table and is stamped from it first.
+
+Changing the schema: edit ``db/models.py``, then ``python -c "from db.migrate import new_revision as n;
+n('what changed')"`` writes ``db/migrations/versions/NNNN_….py`` from the difference (review it: Alembic does not
+see CHECK constraints), and raise ``db.store.SCHEMA_REVISION`` to NNNN. Revision ids are four-digit sequence
+numbers; tests/test_migrations.py checks that models and migrations agree on SQLite and PostgreSQL.
 """
 
 from __future__ import annotations
@@ -100,3 +105,28 @@ def upgrade_store(url: str, revision: str = "head") -> str:
             return current_revision(conn)
     finally:
         engine.dispose()
+
+
+def new_revision(message: str) -> Path:
+    """Write the next revision script from the difference between the models and the newest revision; its path."""
+    import re
+    import tempfile
+
+    from alembic import command
+
+    from db.engine import make_engine
+
+    head = head_revision()
+    rev = f"{int(head) + 1:04d}" if head else "0001"
+    slug = re.sub(r"[^a-z0-9]+", "_", message.lower()).strip("_")[:40]
+    with tempfile.TemporaryDirectory() as tmp:
+        engine = make_engine(f"sqlite:///{tmp}/head.sqlite")
+        try:
+            with engine.begin() as conn:
+                cfg = config(connection=conn)
+                cfg.set_main_option("file_template", "%%(rev)s_" + slug)
+                command.upgrade(cfg, "head")
+                command.revision(cfg, message=message, autogenerate=True, rev_id=rev)
+        finally:
+            engine.dispose()
+    return MIGRATIONS_DIR / "versions" / f"{rev}_{slug}.py"
