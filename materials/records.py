@@ -87,9 +87,20 @@ class MaterialData:
     origin: str = "catalog"
     response: str = "linear"
     values: list[StoredValue] = field(default_factory=list)
+    _index: tuple | None = field(default=None, repr=False, compare=False)
+
+    def _by_property(self) -> dict[str, list[StoredValue]]:
+        # Built on first use and rebuilt if values were added or removed since (rankings call rows() often).
+        if self._index is None or self._index[0] != len(self.values) or self._index[1] is not self.values:
+            idx: dict[str, list[StoredValue]] = {}
+            for v in self.values:
+                if v.retired_at is None:
+                    idx.setdefault(v.property, []).append(v)
+            self._index = (len(self.values), self.values, idx)
+        return self._index[2]
 
     def rows(self, prop: str) -> list[StoredValue]:
-        return [v for v in self.values if v.property == prop and v.retired_at is None]
+        return list(self._by_property().get(prop, ()))
 
     def has(self, prop: str) -> bool:
-        return any(v.property == prop and v.retired_at is None for v in self.values)
+        return prop in self._by_property()

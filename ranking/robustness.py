@@ -108,7 +108,8 @@ def _draw_weights(rng: np.random.Generator, k: int, w: np.ndarray, concentration
 
 def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matrix_high: ArrayLike | None,
                 weights: ArrayLike, benefit: ArrayLike, *, method: str = "topsis", draws: int = 1000,
-                concentration: float = 50.0, top_k: int = 3, seed: int = 0) -> MonteCarloResult:
+                concentration: float = 50.0, top_k: int = 3, seed: int = 0,
+                rank_stats: bool = True) -> MonteCarloResult:
     """Monte Carlo rank statistics under uncertain weights and property values.
 
     Args:
@@ -123,6 +124,9 @@ def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matr
         concentration: Dirichlet concentration (sum of alphas) of the weights; ``inf`` keeps them fixed.
         top_k: size of the top group counted in ``p_top_k``.
         seed: seed of the numpy Generator (PCG64).
+        rank_stats: also compute every candidate's full rank in every draw (rank mean and percentiles); without
+            it only the top ``top_k`` of each draw are found (a partition, not a sort: much faster for big sets),
+            and the rank statistics are NaN.
 
     Returns:
         A :class:`MonteCarloResult`.
@@ -145,7 +149,10 @@ def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matr
     score = METHODS[method]
     rng = np.random.default_rng(seed)
 
-    ranks = np.empty((draws, m), dtype=np.int32)
+    ranks = np.empty((draws, m), dtype=np.int32) if rank_stats else None
+    first = np.zeros(m)
+    in_top = np.zeros(m)
+    kk = min(top_k, m)
     score_sum = np.zeros(m)
     chunk = max(1, _CHUNK_CELLS // (m * n))
     positions = np.broadcast_to(np.arange(1, m + 1, dtype=np.int32), (min(chunk, draws), m))
@@ -153,16 +160,37 @@ def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matr
         k = min(chunk, draws - start)
         wk = _draw_weights(rng, k, w, concentration)
         s = score(_draw_values(rng, k, lo, ty, hi), wk, b)
-        order = np.lexsort((rng.random((k, m)), -s), axis=-1)
-        np.put_along_axis(ranks[start:start + k], order, positions[:k], axis=-1)
+        tie = rng.random((k, m))
+        if rank_stats:
+            order = np.lexsort((tie, -s), axis=-1)
+            np.put_along_axis(ranks[start:start + k], order, positions[:k], axis=-1)
+            top = order[:, :kk]
+        else:
+            # The same order as the sort (score, then the random tie-break), found by a partition.
+            key = -s
+            part = np.argpartition(key, kk - 1, axis=-1)[:, :kk] if kk < m else np.tile(np.arange(m), (k, 1))
+            pk, pt = np.take_along_axis(key, part, -1), np.take_along_axis(tie, part, -1)
+            # A candidate tied with the k-th on score may sit outside the partition; add such ties back.
+            kth = pk.max(axis=-1, keepdims=True)
+            if ((key == kth).sum(axis=-1) > (pk == kth).sum(axis=-1)).any():
+                order = np.lexsort((tie, key), axis=-1)
+                top = order[:, :kk]
+            else:
+                top = np.take_along_axis(part, np.lexsort((pt, pk), axis=-1), -1)
+        rows = np.arange(k)[:, None]
+        np.add.at(first, top[:, 0], 1.0)
+        hit = np.zeros((k, m), dtype=bool)
+        hit[rows, top] = True
+        in_top += hit.sum(axis=0)
         score_sum += s.sum(axis=0)
 
+    nan = np.full(m, np.nan)
     return MonteCarloResult(
-        p_first=(ranks == 1).mean(axis=0),
-        p_top_k=(ranks <= top_k).mean(axis=0),
-        rank_mean=ranks.mean(axis=0),
-        rank_p05=np.percentile(ranks, 5, axis=0, method="inverted_cdf").astype(float),
-        rank_p95=np.percentile(ranks, 95, axis=0, method="inverted_cdf").astype(float),
+        p_first=first / draws,
+        p_top_k=in_top / draws,
+        rank_mean=ranks.mean(axis=0) if rank_stats else nan,
+        rank_p05=np.percentile(ranks, 5, axis=0, method="inverted_cdf").astype(float) if rank_stats else nan,
+        rank_p95=np.percentile(ranks, 95, axis=0, method="inverted_cdf").astype(float) if rank_stats else nan,
         score_mean=score_sum / draws,
         method=method, draws=draws, top_k=top_k, concentration=float(concentration), seed=seed,
     )

@@ -99,7 +99,7 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
         mc_method = "topsis" if method == "topsis" else "weighted"
         if draws > 0:
             rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, len(ok)),
-                              seed=seed)
+                              seed=seed, rank_stats=False)
             p_first, p_top_k = rob.p_first, rob.p_top_k
         else:
             p_first = p_top_k = np.full(len(ok), np.nan)

@@ -192,3 +192,17 @@ def test_nonlinear_refuses_an_operating_field_beyond_the_curve():
     res = size_nonlinear(energy_J=2.0, voltage_V=300.0, failure_probability=1e-3, extrapolate=True, **short,
                          **CERAMIC)
     assert any("beyond the DC-bias curve" in n for n in res.notes)
+
+
+def test_root_in_bracket_agrees_with_scipy_brentq():
+    """The hand-written bracketed solver against scipy.optimize.brentq on monotone functions."""
+    import math
+
+    from scipy.optimize import brentq
+
+    from materials.sizing import root_in_bracket
+
+    for f, lo, hi in ((lambda x: x ** 3 - 2.0, 0.0, 5.0), (lambda x: math.exp(x) - 1e6, -10.0, 40.0),
+                      (lambda x: math.log(x) + x - 3.0, 0.1, 10.0), (lambda x: math.tanh(x - 0.3), -5.0, 7.0)):
+        ours, _ = root_in_bracket(f, lo, hi, f_lo=f(lo), f_hi=f(hi))
+        assert ours == pytest.approx(brentq(f, lo, hi, xtol=1e-14), rel=1e-11, abs=1e-12)
