@@ -327,14 +327,17 @@ def _bulk_insert(session, table, columns: tuple[str, ...], rows) -> None:
     """Insert many rows (tuples in ``columns`` order) with one executemany in the session's transaction.
 
     On SQLite the statement goes straight to the driver, which is as fast as bare ``sqlite3`` (the ORM and Core
-    bulk paths spend 1.5–3.5× as long converting 10⁵ rows); other backends take SQLAlchemy Core's executemany.
+    bulk paths spend 1.5–3.5× as long converting 10⁵ rows); other backends take :func:`db.store.bulk_insert`
+    (COPY on PostgreSQL).
     """
     conn = session.connection()
     if conn.dialect.name == "sqlite":
         sql = f"INSERT INTO {table.name} ({', '.join(columns)}) VALUES ({', '.join('?' * len(columns))})"
         conn.exec_driver_sql(sql, list(rows))
     else:
-        conn.execute(table.insert(), [dict(zip(columns, r)) for r in rows])
+        from db.store import bulk_insert
+
+        bulk_insert(conn, table, [dict(zip(columns, r)) for r in rows])
 
 
 # --- provenance -------------------------------------------------------------------------------------------------

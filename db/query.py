@@ -45,7 +45,8 @@ def load_materials(session, keys=None, *, family: str | None = None, include_ret
                  BreakdownSet.label, Loop.label, pv.retired_at, pv.retired_reason)
           .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
           .outerjoin(Loop, pv.loop_id == Loop.id)
-          .order_by(pv.material_id, pv.property, pv.temperature_K, pv.field_V_per_m, pv.id))
+          .order_by(pv.material_id, pv.property, pv.temperature_K.nulls_first(), pv.field_V_per_m.nulls_first(),
+                    pv.id))
     if len(by_id) < 500:
         vq = vq.where(pv.material_id.in_(list(by_id)))
     if not include_retired:
