@@ -49,7 +49,11 @@ class ValueAt:
 
 
 def _best(rows: list[StoredValue]) -> StoredValue:
-    return min(rows, key=lambda r: (TIER.get(r.source.kind, 9), r.id))
+    """The row to trust among rows at one condition: the more direct evidence first; then a row that states no
+    thickness (a general figure), else the thickest specimen (breakdown falls with thickness, so the conservative
+    one); then the first entered."""
+    return min(rows, key=lambda r: (TIER.get(r.source.kind, 9), r.thickness_m is not None, -(r.thickness_m or 0.0),
+                                    r.id))
 
 
 def _pick_frequency(rows: list[StoredValue], frequency_Hz: float | None) -> list[StoredValue]:
