@@ -155,15 +155,22 @@ def _design(e: Evaluation) -> dict:
 
 
 def _versus(win: Evaluation, e: Evaluation, names, c_win, c_e) -> str:
-    """What separates a runner-up from the winner: the criteria where it loses most score."""
-    gaps = sorted(((c_win[j] - c_e[j], n) for j, n in enumerate(names)), reverse=True)
-    parts = []
-    for gap, n in gaps[:2]:
-        if gap <= 1e-12:
-            break
-        parts.append(f"{CRITERIA[n].label} {_fmt_criterion(n, e.values[n])} vs {_fmt_criterion(n, win.values[n])}")
-    ahead = [n for gap, n in gaps if gap < -1e-12]
-    text = "behind on " + "; ".join(parts) if parts else "level with the winner"
+    """What separates a runner-up from the winner.
+
+    Behind / ahead is judged on the criterion values themselves (a TOPSIS contribution also depends on the row's
+    distances, so it can favour a worse value); the criteria it is behind on are ordered by the score they cost.
+    """
+    def better(n, a, b):
+        tol = 1e-9 * max(abs(a), abs(b), 1e-300)
+        return a > b + tol if CRITERIA[n].benefit else a < b - tol
+
+    idx = {n: j for j, n in enumerate(names)}
+    behind = sorted((n for n in names if better(n, win.values[n], e.values[n])),
+                    key=lambda n: -(c_win[idx[n]] - c_e[idx[n]]))
+    ahead = [n for n in names if better(n, e.values[n], win.values[n])]
+    parts = [f"{CRITERIA[n].label} {_fmt_criterion(n, e.values[n])} vs {_fmt_criterion(n, win.values[n])}"
+             for n in behind[:2]]
+    text = "behind on " + "; ".join(parts) if parts else "level with the winner on every criterion"
     if ahead:
-        text += "; ahead on " + ", ".join(CRITERIA[n].label for n in ahead[:2])
+        text += "; ahead on " + ", ".join(CRITERIA[n].label for n in ahead[:3])
     return text
