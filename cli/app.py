@@ -1,6 +1,5 @@
 """The ``holdoff`` command: global options, command registration, and the one place errors become exit codes."""
 
-from __future__ import annotations
 
 from typing import Annotated, Optional
 

@@ -1,6 +1,5 @@
 """``holdoff catalog``, ``show`` and ``sources``: what the store knows and according to whom."""
 
-from __future__ import annotations
 
 from typing import Annotated, Optional
 

@@ -1,6 +1,5 @@
 """``holdoff db``: build, check, migrate, dump and load the store."""
 
-from __future__ import annotations
 
 from pathlib import Path
 from typing import Annotated

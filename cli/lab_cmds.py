@@ -4,7 +4,6 @@ Files are parsed and validated completely before the store is opened; each comma
 transaction (re-run if another writer holds the lock), so a failure leaves the store exactly as it was.
 """
 
-from __future__ import annotations
 
 import contextlib
 from pathlib import Path

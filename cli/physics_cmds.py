@@ -1,6 +1,5 @@
 """``holdoff ceiling`` and ``holdoff size``: energy-density ceilings and part sizing at real conditions."""
 
-from __future__ import annotations
 
 from typing import Annotated, Optional
 

@@ -4,7 +4,6 @@ The work is in :mod:`ranking.report` and :mod:`ranking.charts`; this module pars
 holds, and says what it wrote.
 """
 
-from __future__ import annotations
 
 from pathlib import Path
 from typing import Annotated, Optional

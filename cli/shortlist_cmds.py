@@ -1,6 +1,5 @@
 """``holdoff shortlist``: rank the store's dielectrics against a target and explain every verdict."""
 
-from __future__ import annotations
 
 from pathlib import Path
 from typing import Annotated, Optional
