@@ -67,41 +67,62 @@ def _pick_frequency(rows: list[StoredValue], frequency_Hz: float | None) -> list
 
 
 def _interp(xs, ys, x):
-    import numpy as np
+    """np.interp for short lists (ends held), in plain Python: a curve has a handful of points."""
+    import bisect
 
-    return float(np.interp(x, xs, ys))
+    if x <= xs[0]:
+        return float(ys[0])
+    if x >= xs[-1]:
+        return float(ys[-1])
+    j = bisect.bisect_right(xs, x)
+    x0, x1 = xs[j - 1], xs[j]
+    return float(ys[j - 1] + (ys[j] - ys[j - 1]) * (x - x0) / (x1 - x0))
+
+
+class _Curve:
+    """Rows of one property prepared once for interpolation over ``attr``; rows without it are one unstated point."""
+
+    __slots__ = ("rows", "attr", "with_x", "unstated", "xs", "pts", "vals", "lows", "highs")
+
+    def __init__(self, rows: list[StoredValue], attr: str):
+        self.rows, self.attr = rows, attr
+        self.with_x = [r for r in rows if getattr(r, attr) is not None]
+        pool = [r for r in rows if getattr(r, attr) is None] or rows
+        self.unstated = _best(pool)
+        by_x: dict[float, list[StoredValue]] = {}
+        for r in self.with_x:
+            by_x.setdefault(getattr(r, attr), []).append(r)
+        self.xs = sorted(by_x)
+        self.pts = [_best(by_x[k]) for k in self.xs]
+        self.vals = [p.value for p in self.pts]
+        self.lows = [p.low if p.low is not None else p.value for p in self.pts]
+        self.highs = [p.high if p.high is not None else p.value for p in self.pts]
+
+    def at(self, x: float | None, *, prop: str, extrapolate: bool, what) -> ValueAt:
+        if not self.with_x or x is None:
+            if x is None and self.with_x and self.attr == "temperature_K":
+                return self.at(REFERENCE_TEMPERATURE_K, prop=prop, extrapolate=True, what=what)
+            r = self.unstated
+            return ValueAt(prop, r.value, r.low if r.low is not None else r.value,
+                           r.high if r.high is not None else r.value, False, (r,), None)
+        xs, pts = self.xs, self.pts
+        lo_x, hi_x = xs[0], xs[-1]
+        tol = 1e-9 * max(1.0, abs(hi_x))
+        outside = x < lo_x - tol or x > hi_x + tol
+        if outside and not extrapolate:
+            raise DataError(f"{prop} is known only over {what(lo_x)}…{what(hi_x)}; {what(x)} is outside the data "
+                            "(ask for extrapolation to hold the end value)")
+        # The rows that bracket x are the evidence for the answer.
+        i = max(0, min(len(xs) - 1, sum(1 for k in xs if k <= x) - 1))
+        used = (pts[i],) if (x <= lo_x or x >= hi_x or abs(xs[i] - x) <= tol) else (pts[i], pts[i + 1])
+        return ValueAt(prop, _interp(xs, self.vals, x), _interp(xs, self.lows, x), _interp(xs, self.highs, x),
+                       bool(outside), used, (lo_x, hi_x))
 
 
 def _curve(rows: list[StoredValue], attr: str, x: float | None, *, prop: str, extrapolate: bool,
-           what: str) -> ValueAt:
+           what) -> ValueAt:
     """Interpolate ``rows`` over ``attr`` at ``x``; rows without the attribute count as one unstated point."""
-    with_x = [r for r in rows if getattr(r, attr) is not None]
-    if not with_x or x is None:
-        pool = [r for r in rows if getattr(r, attr) is None] or rows
-        if x is None and with_x and attr == "temperature_K":
-            return _curve(rows, attr, REFERENCE_TEMPERATURE_K, prop=prop, extrapolate=True, what=what)
-        r = _best(pool)
-        return ValueAt(prop, r.value, r.low if r.low is not None else r.value,
-                       r.high if r.high is not None else r.value, False, (r,), None)
-    by_x: dict[float, list[StoredValue]] = {}
-    for r in with_x:
-        by_x.setdefault(getattr(r, attr), []).append(r)
-    xs = sorted(by_x)
-    pts = [_best(by_x[k]) for k in xs]
-    lo_x, hi_x = xs[0], xs[-1]
-    tol = 1e-9 * max(1.0, abs(hi_x))
-    outside = x < lo_x - tol or x > hi_x + tol
-    if outside and not extrapolate:
-        raise DataError(f"{prop} is known only over {what(lo_x)}…{what(hi_x)}; {what(x)} is outside the data "
-                        "(ask for extrapolation to hold the end value)")
-    vals = [p.value for p in pts]
-    lows = [p.low if p.low is not None else p.value for p in pts]
-    highs = [p.high if p.high is not None else p.value for p in pts]
-    # The rows that bracket x are the evidence for the answer.
-    i = max(0, min(len(xs) - 1, sum(1 for k in xs if k <= x) - 1))
-    used = (pts[i],) if (x <= lo_x or x >= hi_x or abs(xs[i] - x) <= tol) else (pts[i], pts[i + 1])
-    return ValueAt(prop, _interp(xs, vals, x), _interp(xs, lows, x), _interp(xs, highs, x), bool(outside), used,
-                   (lo_x, hi_x))
+    return _Curve(rows, attr).at(x, prop=prop, extrapolate=extrapolate, what=what)
 
 
 def _fmt_T(t):
@@ -125,6 +146,11 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
     Lab rows, where there are any, stand alone: a lab's own measurement of its own material supersedes the
     catalog's generic value. Raises DataError if the property is missing or the condition is outside the data.
     """
+    if not field_V_per_m:
+        curve = _temperature_curve(material, prop, frequency_Hz)
+        if curve is None:
+            raise DataError(f"{material.key} has no {prop}")
+        return curve.at(temperature_K, prop=prop, extrapolate=extrapolate, what=_fmt_T)
     rows = material.rows(prop)
     if not rows:
         raise DataError(f"{material.key} has no {prop}")
@@ -159,6 +185,20 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
         return _curve(bias, "field_V_per_m", field_V_per_m, prop=prop, extrapolate=extrapolate, what=_fmt_E)
     rows = small_signal_rows(rows) or rows
     return _curve(rows, "temperature_K", temperature_K, prop=prop, extrapolate=extrapolate, what=_fmt_T)
+
+
+def _temperature_curve(material: MaterialData, prop: str, frequency_Hz: float | None) -> _Curve | None:
+    """The small-signal temperature curve of ``prop``, prepared once per material, property and frequency."""
+    cache = material.cache()
+    key = ("T", prop, frequency_Hz)
+    if key not in cache:
+        rows = material.rows(prop)
+        if rows:
+            rows = [r for r in rows if r.source.kind == "lab"] or rows
+            rows = _pick_frequency(rows, frequency_Hz)
+            rows = small_signal_rows(rows) or rows
+        cache[key] = _Curve(rows, "temperature_K") if rows else None
+    return cache[key]
 
 
 def bias_curve(material: MaterialData, *, temperature_K: float | None = None):

@@ -53,7 +53,7 @@ class SourceRef:
     citation: str = ""
 
 
-@dataclass(frozen=True)
+@dataclass(slots=True)
 class StoredValue:
     """A property value as read back from the store, with its source and (if retired) its history."""
 
@@ -96,8 +96,13 @@ class MaterialData:
             for v in self.values:
                 if v.retired_at is None:
                     idx.setdefault(v.property, []).append(v)
-            self._index = (len(self.values), self.values, idx)
+            self._index = (len(self.values), self.values, idx, {})
         return self._index[2]
+
+    def cache(self) -> dict:
+        """Scratch space for prepared lookups; emptied whenever the values change (see materials.lookup)."""
+        self._by_property()
+        return self._index[3]
 
     def rows(self, prop: str) -> list[StoredValue]:
         return list(self._by_property().get(prop, ()))

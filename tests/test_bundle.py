@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import math
 import struct
+from dataclasses import fields
 
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
@@ -39,7 +40,8 @@ def _everything(url):
         store.dispose()
     # Values sorted here: the query layer's ORDER BY puts NULL conditions first on SQLite, last on PostgreSQL.
     return ([(m.key, m.name, m.family, m.form, m.description, m.origin, m.response,
-              sorted(({k: v for k, v in vars(x).items() if k != "id"} for x in m.values), key=repr))
+              sorted(({f.name: getattr(x, f.name) for f in fields(x) if f.name != "id"} for x in m.values),
+                     key=repr))
              for m in mats], srcs)
 
 
