@@ -68,9 +68,42 @@ def _normalise_unit_text(text: str) -> str:
     return text.strip()
 
 
-@functools.lru_cache(maxsize=512)
+# The units every command line and target file uses, as (si_key, unit text) -> (scale, offset). Looking these up
+# here spares most commands the import of pint (a quarter of a second); tests/test_units.py checks every entry
+# against pint itself. Anything else goes to pint.
+_COMMON = {
+    ("V", "V"): (1.0, 0.0), ("V", "kV"): (1e3, 0.0), ("V", "mV"): (1e-3, 0.0), ("V", "MV"): (1e6, 0.0),
+    ("K", "K"): (1.0, 0.0), ("K", "degC"): (1.0, 273.15),
+    ("J", "J"): (1.0, 0.0), ("J", "kJ"): (1e3, 0.0), ("J", "mJ"): (1e-3, 0.0),
+    ("J/m3", "J/m**3"): (1.0, 0.0), ("J/m3", "J/cm**3"): (1e6, 0.0), ("J/m3", "J/cm^3"): (1e6, 0.0),
+    ("m", "m"): (1.0, 0.0), ("m", "mm"): (1e-3, 0.0), ("m", "um"): (1e-6, 0.0), ("m", "nm"): (1e-9, 0.0),
+    ("m", "cm"): (1e-2, 0.0),
+    ("m2", "m**2"): (1.0, 0.0), ("m2", "cm**2"): (1e-4, 0.0), ("m2", "mm**2"): (1e-6, 0.0),
+    ("V/m", "V/m"): (1.0, 0.0), ("V/m", "V/um"): (1e6, 0.0), ("V/m", "kV/mm"): (1e6, 0.0),
+    ("V/m", "MV/m"): (1e6, 0.0), ("V/m", "kV/cm"): (1e5, 0.0),
+    ("Hz", "Hz"): (1.0, 0.0), ("Hz", "kHz"): (1e3, 0.0), ("Hz", "MHz"): (1e6, 0.0),
+    ("A", "A"): (1.0, 0.0), ("A", "mA"): (1e-3, 0.0),
+    ("V/s", "V/s"): (1.0, 0.0), ("V/s", "kV/s"): (1e3, 0.0),
+    ("kg/m3", "g/cm**3"): (1e3, 0.0), ("kg/m3", "kg/m**3"): (1.0, 0.0),
+    ("m3", "m**3"): (1.0, 0.0), ("m3", "cm**3"): (1e-6, 0.0),
+    ("kg", "kg"): (1.0, 0.0), ("kg", "g"): (1e-3, 0.0),
+    ("F", "F"): (1.0, 0.0), ("F", "uF"): (1e-6, 0.0), ("F", "nF"): (1e-9, 0.0),
+    ("W", "W"): (1.0, 0.0),
+    ("1", "%"): (1e-2, 0.0),
+}
+
+
 def _unit_factor(unit_text: str, si_key: str) -> tuple[float, float]:
     """(scale, offset) so that SI = value*scale + offset for ``unit_text`` in the dimension of ``si_key``."""
+    if not unit_text and si_key == "1":
+        return 1.0, 0.0
+    common = _COMMON.get((si_key, unit_text))
+    return common if common is not None else _pint_factor(unit_text, si_key)
+
+
+@functools.lru_cache(maxsize=512)
+def _pint_factor(unit_text: str, si_key: str) -> tuple[float, float]:
+    """:func:`_unit_factor` through pint (every unit pint knows, dimension checked)."""
     ureg = registry()
     target = SI_UNITS[si_key]
     try:

@@ -167,3 +167,25 @@ def test_importing_units_does_not_import_pint():
     code = "import sys, materials.units; print('pint' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "False"
+
+
+def test_common_unit_table_agrees_with_pint():
+    """Every unit looked up without pint converts exactly as pint itself does (pint as the reference)."""
+    from materials.units import _COMMON, _pint_factor
+
+    for (si_key, text), (scale, offset) in _COMMON.items():
+        p_scale, p_offset = _pint_factor(text, si_key)
+        assert scale == pytest.approx(p_scale, rel=1e-12), (si_key, text)
+        assert offset == pytest.approx(p_offset, rel=1e-12, abs=1e-12), (si_key, text)
+
+
+def test_a_shortlist_target_parses_without_pint():
+    import subprocess
+    import sys
+
+    code = ("import sys; from materials.units import parse_option as p; "
+            "[p(x, k) for x, k in (('800 V', 'voltage'), ('-40', 'temperature'), ('125 degC', 'temperature'), "
+            "('80 J', 'energy'), ('1 J/cm^3', 'energy_density'), ('2.5 um', 'thickness'), ('4 cm^2', "
+            "'electrode_area'), ('10 kHz', 'frequency'))]; print('pint' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "False"
