@@ -2,7 +2,7 @@
 
 * ``holdoff --help`` against ``python -c "import typer"`` — goal within 1.5×;
 * ``holdoff shortlist`` end to end on the catalog against the bare import of the libraries it needs
-  (sqlalchemy, numpy, pint, rich, typer and the pydantic that typer loads to run a command) — goal
+  (sqlalchemy, numpy, rich, typer and the pydantic that typer loads to run a command) — goal
   within 1.5×;
 * ``holdoff shortlist`` on a synthetic store of 10,000 materials — goal under 2 s.
 
@@ -53,12 +53,13 @@ def bench_shortlist_catalog(tmp: Path):
     env = _env(url)
     subprocess.run(HOLDOFF + ["db", "init"], cwd=ROOT, env=env, check=True, stdout=subprocess.DEVNULL)
     # typer ≥ 0.2x coerces every option through pydantic, so running any command imports it too.
-    ref = _median([PY, "-c", "import sqlalchemy, sqlalchemy.orm, numpy, pint, rich, typer, pydantic"])
+    # pint is no longer imported by a shortlist (its everyday units come from a checked table), so it is not counted.
+    ref = _median([PY, "-c", "import sqlalchemy, sqlalchemy.orm, numpy, rich, typer, pydantic"])
     ours = _median(HOLDOFF + ["shortlist", "--target", "examples/dc-link-target.toml"], env=env)
-    typer_only = _median([PY, "-c", "import sqlalchemy, sqlalchemy.orm, numpy, pint, rich, typer"])
+    with_pint = _median([PY, "-c", "import sqlalchemy, sqlalchemy.orm, numpy, pint, rich, typer, pydantic"])
     print(f"holdoff shortlist (catalog, 1,000 draws): median {ours * 1e3:.0f} ms; bare library imports "
-          f"{ref * 1e3:.0f} ms ({typer_only * 1e3:.0f} ms without pydantic); ratio {ours / ref:.2f} "
-          f"({ours / typer_only:.2f}) (goal ≤ 1.5)")
+          f"{ref * 1e3:.0f} ms ({with_pint * 1e3:.0f} ms with pint as well); ratio {ours / ref:.2f} "
+          f"({ours / with_pint:.2f}) (goal ≤ 1.5)")
     return ours, ref
 
 
