@@ -41,19 +41,13 @@ def _root(db: Annotated[Optional[str], typer.Option(
 
 
 def _register() -> None:
-    from cli import catalog_cmds, db_cmds
+    from cli import catalog_cmds, db_cmds, lab_cmds, physics_cmds, report_cmds, shortlist_cmds
 
     app.add_typer(db_cmds.db_app, name="db")
     app.command("catalog")(catalog_cmds.catalog)
     app.command("show")(catalog_cmds.show)
     app.command("sources")(catalog_cmds.sources)
-    for mod in ("physics_cmds", "lab_cmds", "shortlist_cmds", "report_cmds"):
-        try:
-            module = __import__(f"cli.{mod}", fromlist=["register"])
-        except ModuleNotFoundError as exc:
-            if exc.name != f"cli.{mod}":
-                raise
-            continue
+    for module in (physics_cmds, lab_cmds, shortlist_cmds, report_cmds):
         module.register(app)
 
 

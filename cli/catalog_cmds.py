@@ -132,10 +132,8 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
 
 def _sets(session, key: str) -> dict:
     """Breakdown sets and loops of a material, with their fitted figures, for ``show``."""
-    try:
-        from db.labdata import describe_sets
-    except ImportError:
-        return {"breakdown_sets": [], "loops": []}
+    from db.labdata import describe_sets
+
     return describe_sets(session, key)
 
 

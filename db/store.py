@@ -146,10 +146,8 @@ def _fill(engine, catalog_dir=None, *, only_if_empty: bool = False) -> None:
 
 
 def _stamp_alembic(conn) -> None:
-    try:
-        from db.migrate import stamp_head
-    except ImportError:  # migrations not installed: nothing to stamp
-        return
+    from db.migrate import stamp_head
+
     stamp_head(conn)
 
 
