@@ -9,6 +9,9 @@ import typer
 from cli import state
 from cli.output import JsonOpt
 
+# Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
+EXCLUDED_SHOWN = 40
+
 
 def build_target(*, target_file, voltage, tmin, tmax, energy_density, energy, frequency, max_loss, failure_prob,
                  margin, area, family, weights, thickness, assume_defaults, segment_area=None):
@@ -85,7 +88,7 @@ def shortlist(
     json_out: JsonOpt = False,
 ):
     """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason."""
-    from db.query import load_materials
+    from db.query import load_table
     from materials.errors import InputError
     from ranking.shortlist import shortlist as run
 
@@ -98,12 +101,15 @@ def shortlist(
                      margin=margin, area=area, family=family, weights=weights, thickness=thickness,
                      assume_defaults=assume_defaults, segment_area=segment_area)
     with state.store().session() as s:
-        mats = load_materials(s)
-    result = run(mats, t, method=method, top_k=min(3, top), draws=draws, seed=seed)
+        table = load_table(s)
+    # The text view explains only the rows it shows; --json and --export carry every row in full.
+    whole = bool(json_out or export)
+    result = run(table, t, method=method, top_k=min(3, top), draws=draws, seed=seed,
+                 rows=None if whole else top, excluded_rows=None if whole else EXCLUDED_SHOWN)
     if export:
         from ranking.report import export_result
 
-        export_result(result, export, force=force, materials=mats)
+        export_result(result, export, force=force, materials=table.materials())
     if json_out:
         from cli.output import print_json
 
@@ -157,8 +163,9 @@ def render(result: dict, *, top: int) -> None:
         body.append([r["rank"], r["label"] + flags, f"{r['score']:.3f}",
                      *[show(n, r["criteria"].get(n)) for n in names],
                      f"{r['p_top']:.2f}", f"{r['p_top_k']:.2f}", f"{r['confidence']:.2f}", r["binding"]])
+    counts = result.get("counts") or {"ranked": len(result["ranked"]), "excluded": len(result["excluded"])}
     table(cols, body, right=set(range(2, 3 + len(names) + 3)),
-          title=f"{len(result['ranked'])} ranked, {len(result['excluded'])} excluded")
+          title=f"{counts['ranked']} ranked, {counts['excluded']} excluded")
     say("! rests partly on recollection or invented values; * uses an assumed default, an imputed (worst of the "
         "field) criterion or an extrapolated value — see --json flags. p_first / p_top: share of Monte Carlo draws "
         f"({result['robustness']['draws']}, weights and value ranges varied) in which it ranks first / in the top "
@@ -172,6 +179,9 @@ def render(result: dict, *, top: int) -> None:
                 + (f"; dominated by {esc(r['dominated_by'])}" if r["dominated_by"] else ""))
     if result["excluded"]:
         table(["excluded", "reasons"], [[e["label"], "; ".join(e["reasons"])] for e in result["excluded"]])
+        more = counts["excluded"] - len(result["excluded"])
+        if more > 0:
+            say(f"… and {more} more excluded (every one with its reasons in --json)")
     caution(result["cautions"])
 
 

@@ -8,60 +8,87 @@ from __future__ import annotations
 
 from materials.errors import DataError
 from materials.lookup import ValueAt, value_at as _value_at
-from materials.records import MaterialData, SourceRef, StoredValue
+from materials.records import MaterialData
+from materials.table import ValueTable
 
 
 def load_materials(session, keys=None, *, family: str | None = None, include_retired: bool = False,
                    origin: str | None = None) -> list[MaterialData]:
     """Materials (all, or those with ``keys``, or of ``family``) with their values, in three queries."""
+    return load_table(session, keys, family=family, include_retired=include_retired, origin=origin).materials()
+
+
+def load_table(session, keys=None, *, family: str | None = None, include_retired: bool = False,
+               origin: str | None = None) -> ValueTable:
+    """Materials (all, or those with ``keys``, or of ``family``) and their values as a :class:`ValueTable`.
+
+    The values are read through the driver's own cursor (a compiled SQLAlchemy statement, parameters bound by the
+    driver): building a result row per value costs more than the query itself on a store of 10⁵ values.
+    """
+    import datetime as dt
+
     from sqlalchemy import select
 
     from db.models import BreakdownSet, Loop, Material, PropertyValue, Source
 
-    q = select(Material).order_by(Material.key)
+    conn = session.connection()
+    q = select(Material.id, Material.key, Material.name, Material.family, Material.form, Material.description,
+               Material.origin, Material.response).order_by(Material.key)
     if keys is not None:
         q = q.where(Material.key.in_(list(keys)))
     if family:
         q = q.where(Material.family == family)
     if origin:
         q = q.where(Material.origin == origin)
-    mats = session.execute(q).scalars().all()
+    mats = conn.execute(q).all()
     if keys is not None:
-        missing = sorted(set(keys) - {m.key for m in mats})
+        missing = sorted(set(keys) - {m[1] for m in mats})
         if missing:
             raise DataError(f"no material '{missing[0]}' in the store (see 'holdoff catalog')")
-    by_id = {m.id: MaterialData(key=m.key, name=m.name, family=m.family, form=m.form or "",
-                                description=m.description or "", origin=m.origin, response=m.response)
-             for m in mats}
-    if not by_id:
-        return []
-    # Column tuples, not ORM objects: ten times faster on a large store, and nothing here is written back.
-    srcs = {sid: SourceRef(key=k, kind=kind, citation=cit)
-            for sid, k, kind, cit in session.connection().execute(
-                select(Source.id, Source.key, Source.kind, Source.citation))}
+    mcols = {"keys": [m[1] for m in mats], "names": [m[2] for m in mats], "families": [m[3] for m in mats],
+             "forms": [m[4] or "" for m in mats], "descriptions": [m[5] or "" for m in mats],
+             "origins": [m[6] for m in mats], "responses": [m[7] for m in mats]}
+    srcs = conn.execute(select(Source.id, Source.key, Source.kind, Source.citation).order_by(Source.id)).all()
+    scols = {"keys": [s[1] for s in srcs], "kinds": [s[2] for s in srcs], "citations": [s[3] for s in srcs]}
+    src_pos = {s[0]: i for i, s in enumerate(srcs)}
     pv = PropertyValue
-    vq = (select(pv.id, pv.material_id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K,
-                 pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.note, pv.source_id,
-                 BreakdownSet.label, Loop.label, pv.retired_at, pv.retired_reason)
+    vq = (select(pv.material_id, pv.id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K, pv.frequency_Hz,
+                 pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.source_id, pv.note, BreakdownSet.label,
+                 Loop.label, pv.retired_at, pv.retired_reason)
           .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
-          .outerjoin(Loop, pv.loop_id == Loop.id)
-          .order_by(pv.material_id, pv.property, pv.temperature_K.nulls_first(), pv.field_V_per_m.nulls_first(),
-                    pv.id))
-    if len(by_id) < 500:
-        vq = vq.where(pv.material_id.in_(list(by_id)))
+          .outerjoin(Loop, pv.loop_id == Loop.id))
+    if len(mats) < 500:
+        vq = vq.where(pv.material_id.in_([m[0] for m in mats] or [-1]))
     if not include_retired:
         vq = vq.where(pv.retired_at.is_(None))
-    for (vid, mid, prop, value, low, high, t, f, e, d, a, note, sid, set_label, loop_label, retired_at,
-         retired_reason) in session.connection().execute(vq):
-        md = by_id.get(mid)
-        if md is not None:
-            md.values.append(StoredValue(
-                id=vid, property=prop, value=value, low=low, high=high, temperature_K=t, frequency_Hz=f,
-                field_V_per_m=e, thickness_m=d, area_m2=a, note=note or "", source=srcs[sid],
-                breakdown_set=set_label, loop=loop_label,
-                retired_at=retired_at.isoformat(sep=" ", timespec="seconds") if retired_at else None,
-                retired_reason=retired_reason))
-    return [by_id[m.id] for m in mats]
+    compiled = vq.compile(dialect=conn.dialect, compile_kwargs={"render_postcompile": True})
+    params = ([compiled.params[k] for k in compiled.positiontup] if compiled.positional else compiled.params)
+    cur = conn.connection.cursor()
+    try:
+        cur.execute(str(compiled), params)
+        rows = cur.fetchall()
+    finally:
+        cur.close()
+    mat_pos = {m[0]: i for i, m in enumerate(mats)}
+    if len(mats) >= 500 and (keys is not None or family or origin):
+        rows = [r for r in rows if r[0] in mat_pos]
+    cols = list(zip(*rows)) if rows else [()] * 17
+
+    def stamp(x):
+        if x is None:
+            return None
+        if isinstance(x, str):
+            x = dt.datetime.fromisoformat(x)
+        return x.isoformat(sep=" ", timespec="seconds")
+
+    vals = {"material": [mat_pos[i] for i in cols[0]], "id": cols[1], "property": cols[2],
+            "value": cols[3], "low": cols[4], "high": cols[5], "temperature_K": cols[6], "frequency_Hz": cols[7],
+            "field_V_per_m": cols[8], "thickness_m": cols[9], "area_m2": cols[10],
+            "source": [src_pos[i] for i in cols[11]], "note": [n or "" for n in cols[12]],
+            "breakdown_set": list(cols[13]), "loop": list(cols[14]),
+            "retired_at": [stamp(x) for x in cols[15]] if include_retired else list(cols[15]),
+            "retired_reason": list(cols[16])}
+    return ValueTable.from_columns(mcols, vals, scols)
 
 
 def get_material(session, key: str, *, include_retired: bool = False) -> MaterialData:

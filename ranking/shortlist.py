@@ -19,33 +19,28 @@ def weights_for(target) -> dict[str, float]:
     return w
 
 
-def _impute(evals: list[Evaluation], names: list[str]) -> None:
-    """A missing criterion takes the worst value among the candidates (and is flagged), never a flattering one."""
+def _impute(typ: dict, lo: dict, hi: dict, names: list[str], flags: list[list[str]]) -> None:
+    """A missing criterion (NaN) takes the worst value among the candidates (and is flagged), never a flattering
+    one; a missing mass takes the densest candidate's density."""
     if "mass" in names:
-        dens = [e.values["mass"] / e.values["volume"] for e in evals if "mass" in e.values and e.values["volume"]]
-        if dens:
-            rho = max(dens)
-            for e in evals:
-                if "mass" not in e.values:
-                    e.values["mass"] = e.values["volume"] * rho
-                    e.low["mass"], e.high["mass"] = e.low["volume"] * rho, e.high["volume"] * rho
-                    e.flags.append("density missing: the densest candidate's density assumed")
+        have = np.isfinite(typ["mass"]) & (typ["volume"] != 0)
+        miss = ~np.isfinite(typ["mass"])
+        if have.any() and miss.any():
+            rho = float(np.max(typ["mass"][have] / typ["volume"][have]))
+            for d, src in ((typ, typ), (lo, lo), (hi, hi)):
+                d["mass"] = np.where(miss, src["volume"] * rho, d["mass"])
+            for i in np.flatnonzero(miss):
+                flags[i].append("density missing: the densest candidate's density assumed")
     for name in names:
-        have = [e.values[name] for e in evals if name in e.values]
-        if not have:
+        v = typ[name]
+        have = np.isfinite(v)
+        if not have.any() or have.all():
             continue
-        worst = max(have) if not CRITERIA[name].benefit else min(have)
-        for e in evals:
-            if name not in e.values:
-                e.values[name] = e.low[name] = e.high[name] = worst
-                e.flags.append(f"{name} missing: worst of the field assumed")
-
-
-def _matrices(evals, names):
-    typ = np.array([[e.values[n] for n in names] for e in evals], dtype=float)
-    lo = np.array([[e.low.get(n, e.values[n]) for n in names] for e in evals], dtype=float)
-    hi = np.array([[e.high.get(n, e.values[n]) for n in names] for e in evals], dtype=float)
-    return np.minimum(lo, typ), typ, np.maximum(hi, typ)
+        worst = float(v[have].max() if not CRITERIA[name].benefit else v[have].min())
+        for d in (typ, lo, hi):
+            d[name] = np.where(have, d[name], worst)
+        for i in np.flatnonzero(~have):
+            flags[i].append(f"{name} missing: worst of the field assumed")
 
 
 def _fmt_criterion(name: str, value: float) -> str:
@@ -59,28 +54,81 @@ def _fmt_criterion(name: str, value: float) -> str:
     return f"{value:.3g}"
 
 
-def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", top_k: int = 3,
-              draws: int = 1000, seed: int = 0) -> dict:
-    """Rank ``materials`` against ``target``; the result follows the shortlist JSON contract (see README)."""
+def _label(key: str, thickness_m: float | None) -> str:
+    return key if thickness_m is None else f"{key} @ {thickness_m * 1e6:g} µm"
+
+
+def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draws: int = 1000, seed: int = 0,
+              rows: int | None = None, excluded_rows: int | None = None) -> dict:
+    """Rank ``materials`` against ``target``; the result follows the shortlist JSON contract (see README).
+
+    ``materials`` is a list of :class:`MaterialData` or a :class:`materials.table.ValueTable`. Criteria are computed
+    column-wise for the materials :mod:`ranking.columnar` covers and per material for the rest. ``rows`` and
+    ``excluded_rows`` build only the first so many entries of ``ranked`` and ``excluded`` (their explanations
+    are written per material); ``counts`` always gives the full numbers.
+    """
+    from materials.table import ValueTable
     from ranking import methods as M
+    from ranking.columnar import evaluate_columns
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:
         raise InputError(f"method '{method}' is not one of {', '.join(METHODS)}")
+    table = materials if isinstance(materials, ValueTable) else ValueTable.from_materials(list(materials))
     thicknesses = list(target.thicknesses_m) or [None]
-    evals = [evaluate(m, target, thickness_m=t) for m in materials for t in thicknesses]
-    ok = [e for e in evals if e.ok]
-    excluded = [e for e in evals if not e.ok]
     weights = weights_for(target)
     names = [n for n in CRITERIA if weights.get(n, 0) > 0]
     if not names:
         raise InputError("every criterion has weight 0")
-    _impute(ok, names)
+    loaded: dict[int, MaterialData] = {}
+    evals: dict[tuple[int, int], Evaluation] = {}
+
+    def full(i: int, ti: int) -> Evaluation:
+        if (i, ti) not in evals:
+            if i not in loaded:
+                loaded[i] = table.material(i)
+            evals[i, ti] = evaluate(loaded[i], target, thickness_m=thicknesses[ti])
+        return evals[i, ti]
+
+    cols = [evaluate_columns(table, target, thickness_m=t) for t in thicknesses]
+    for i in sorted({int(i) for c in cols for i in np.flatnonzero(c.slow)}):
+        loaded[i] = table.material(i)
+    # Candidates in material-major order, as the per-material loop would visit them.
+    cand_ok, cand_bad = [], []
+    parts = {n: ([], [], []) for n in CRITERIA}
+    for i in range(len(table)):
+        for ti, c in enumerate(cols):
+            if c.slow[i]:
+                e = full(i, ti)
+                if not e.ok:
+                    cand_bad.append((i, ti))
+                    continue
+                for n in CRITERIA:
+                    v = e.values.get(n, np.nan)
+                    for lst, val in zip(parts[n], (v, e.low.get(n, v), e.high.get(n, v))):
+                        lst.append(val)
+            elif c.ok[i]:
+                for n in CRITERIA:
+                    for lst, d in zip(parts[n], (c.values, c.low, c.high)):
+                        lst.append(d[n][i] if n in d else np.nan)
+            else:
+                cand_bad.append((i, ti))
+                continue
+            cand_ok.append((i, ti))
+    typ_d = {n: np.asarray(parts[n][0], dtype=float) for n in names}
+    lo_d = {n: np.asarray(parts[n][1], dtype=float) for n in names}
+    hi_d = {n: np.asarray(parts[n][2], dtype=float) for n in names}
+    extra_flags: list[list[str]] = [[] for _ in cand_ok]
+    _impute(typ_d, lo_d, hi_d, names, extra_flags)
     # A criterion no candidate has cannot separate them: it is left out (and so shown in no table).
-    names = [n for n in names if not ok or all(n in e.values for e in ok)]
+    names = [n for n in names if not cand_ok or np.isfinite(typ_d[n]).all()]
+    labels = [_label(table.keys[i], thicknesses[ti]) for i, ti in cand_ok]
     ranked = []
-    if ok:
-        lo, typ, hi = _matrices(ok, names)
+    n_ok = len(cand_ok)
+    if n_ok:
+        typ = np.column_stack([typ_d[n] for n in names])
+        lo = np.minimum(np.column_stack([lo_d[n] for n in names]), typ)
+        hi = np.maximum(np.column_stack([hi_d[n] for n in names]), typ)
         w = np.array([weights[n] for n in names], dtype=float)
         benefit = np.array([CRITERIA[n].benefit for n in names])
         front = M.pareto_front(typ, benefit)
@@ -93,39 +141,47 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
             contrib = M.weighted_sum_contributions(typ, w, benefit)
         if method == "pareto":
             # Non-dominated first; within each group by the min–max weighted score.
-            order = sorted(range(len(ok)), key=lambda i: (not front[i], -score[i], ok[i].label))
+            order = sorted(range(n_ok), key=lambda i: (not front[i], -score[i], labels[i]))
         else:
-            order = sorted(range(len(ok)), key=lambda i: (-score[i], ok[i].label))
+            order = sorted(range(n_ok), key=lambda i: (-score[i], labels[i]))
         mc_method = "topsis" if method == "topsis" else "weighted"
         if draws > 0:
-            rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, len(ok)),
+            rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, n_ok),
                               seed=seed, rank_stats=False)
             p_first, p_top_k = rob.p_first, rob.p_top_k
         else:
-            p_first = p_top_k = np.full(len(ok), np.nan)
+            p_first = p_top_k = np.full(n_ok, np.nan)
         win = order[0]
-        for rank, i in enumerate(order, 1):
-            e = ok[i]
+        win_values = {n: float(typ[win, j]) for j, n in enumerate(names)}
+        for rank, c in enumerate(order[:rows] if rows is not None else order, 1):
+            i, ti = cand_ok[c]
+            e = full(i, ti)
+            values = {n: float(typ[c, j]) for j, n in enumerate(names)}
             row = {
                 "rank": rank, "key": e.key, "name": e.name, "family": e.family, "thickness_m": e.thickness_m,
-                "label": e.label, "score": float(score[i]),
-                "criteria": {n: float(typ[i, j]) for j, n in enumerate(names)},
-                "criteria_low": {n: float(lo[i, j]) for j, n in enumerate(names)},
-                "criteria_high": {n: float(hi[i, j]) for j, n in enumerate(names)},
-                "contributions": {n: float(contrib[i, j]) for j, n in enumerate(names)},
-                "p_top": float(p_first[i]), "p_top_k": float(p_top_k[i]),
-                "pareto": bool(front[i]), "dominated_by": ok[dom[i]].label if dom[i] >= 0 else None,
-                "binding": e.binding, "confidence": float(e.values.get("confidence", 0.0)),
+                "label": labels[c], "score": float(score[c]),
+                "criteria": values,
+                "criteria_low": {n: float(lo[c, j]) for j, n in enumerate(names)},
+                "criteria_high": {n: float(hi[c, j]) for j, n in enumerate(names)},
+                "contributions": {n: float(contrib[c, j]) for j, n in enumerate(names)},
+                "p_top": float(p_first[c]), "p_top_k": float(p_top_k[c]),
+                "pareto": bool(front[c]), "dominated_by": labels[dom[c]] if dom[c] >= 0 else None,
+                "binding": e.binding,
+                "confidence": float(values["confidence"] if "confidence" in values
+                                    else e.values.get("confidence", 0.0)),
                 "sources": {n: e.sources.get(n, []) for n in names},
-                "flags": sorted(set(e.flags)),
+                "flags": sorted(set(e.flags) | set(extra_flags[c])),
                 "design": _design(e),
-                "versus_winner": "" if i == win else _versus(ok[win], e, names, contrib[win], contrib[i]),
+                "versus_winner": "" if c == win else _versus(win_values, values, names, contrib[win], contrib[c]),
             }
             ranked.append(row)
-    srcs = {}
-    for m in materials:
-        for v in m.values:
-            srcs.setdefault(v.source.key, {"kind": v.source.kind, "citation": v.source.citation})
+    excluded = []
+    for i, ti in (cand_bad[:excluded_rows] if excluded_rows is not None else cand_bad):
+        e = full(i, ti)
+        excluded.append({"key": e.key, "name": e.name, "family": e.family, "label": e.label,
+                         "thickness_m": e.thickness_m, "reasons": e.reasons})
+    srcs = {k: {"kind": kind, "citation": cit} for k, kind, cit in
+            zip(table.source_keys, table.source_kinds, table.source_citations)}
     used = {k for r in ranked for lst in r["sources"].values() for k in lst}
     from materials.sizing import CAUTION
 
@@ -136,9 +192,9 @@ def shortlist(materials: list[MaterialData], target, *, method: str = "topsis", 
                       "display_unit": CRITERIA[n].display_unit, "benefit": CRITERIA[n].benefit,
                       "weight": weights[n], "formula": CRITERIA[n].formula} for n in names],
         "ranked": ranked,
-        "excluded": [{"key": e.key, "name": e.name, "family": e.family, "label": e.label,
-                      "thickness_m": e.thickness_m, "reasons": e.reasons} for e in excluded],
-        "robustness": {"draws": draws, "seed": seed, "top_k": min(top_k, len(ok)) if ok else 0,
+        "excluded": excluded,
+        "counts": {"ranked": n_ok, "excluded": len(cand_bad)},
+        "robustness": {"draws": draws, "seed": seed, "top_k": min(top_k, n_ok) if n_ok else 0,
                        "weights": "Dirichlet around the given weights",
                        "values": "triangular within each value's low…high range"},
         "sources": {k: srcs[k] for k in sorted(used) if k in srcs},
@@ -154,8 +210,8 @@ def _design(e: Evaluation) -> dict:
     return out
 
 
-def _versus(win: Evaluation, e: Evaluation, names, c_win, c_e) -> str:
-    """What separates a runner-up from the winner.
+def _versus(win: dict, e: dict, names, c_win, c_e) -> str:
+    """What separates a runner-up (criterion values ``e``) from the winner (``win``).
 
     Behind / ahead is judged on the criterion values themselves (a TOPSIS contribution also depends on the row's
     distances, so it can favour a worse value); the criteria it is behind on are ordered by the score they cost.
@@ -165,11 +221,9 @@ def _versus(win: Evaluation, e: Evaluation, names, c_win, c_e) -> str:
         return a > b + tol if CRITERIA[n].benefit else a < b - tol
 
     idx = {n: j for j, n in enumerate(names)}
-    behind = sorted((n for n in names if better(n, win.values[n], e.values[n])),
-                    key=lambda n: -(c_win[idx[n]] - c_e[idx[n]]))
-    ahead = [n for n in names if better(n, e.values[n], win.values[n])]
-    parts = [f"{CRITERIA[n].label} {_fmt_criterion(n, e.values[n])} vs {_fmt_criterion(n, win.values[n])}"
-             for n in behind[:2]]
+    behind = sorted((n for n in names if better(n, win[n], e[n])), key=lambda n: -(c_win[idx[n]] - c_e[idx[n]]))
+    ahead = [n for n in names if better(n, e[n], win[n])]
+    parts = [f"{CRITERIA[n].label} {_fmt_criterion(n, e[n])} vs {_fmt_criterion(n, win[n])}" for n in behind[:2]]
     text = "behind on " + "; ".join(parts) if parts else "level with the winner on every criterion"
     if ahead:
         text += "; ahead on " + ", ".join(CRITERIA[n].label for n in ahead[:3])

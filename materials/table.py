@@ -1,0 +1,163 @@
+"""A store's materials and values as columns (numpy arrays), for ranking thousands of materials at once.
+
+One row per stored value, grouped by material (``start[i]:start[i + 1]`` are material ``i``'s rows) and, within a
+material, ordered by property, temperature (unstated first), field (unstated first) and id. Conditions that are
+not stated are NaN. :meth:`ValueTable.materials` turns rows back into the plain records of
+:mod:`materials.records`, so the per-material code reads exactly what the column-wise code reads.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from materials.records import MaterialData, SourceRef, StoredValue
+
+FLOAT_COLUMNS = ("value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m", "thickness_m", "area_m2")
+
+
+@dataclass
+class ValueTable:
+    # per material (length M)
+    keys: list[str]
+    names: list[str]
+    families: list[str]
+    forms: list[str]
+    descriptions: list[str]
+    origins: list[str]
+    responses: list[str]
+    # per value (length N)
+    start: np.ndarray              # (M + 1,) offsets of each material's rows
+    ids: np.ndarray                # int64 value ids
+    prop: np.ndarray               # int codes into ``prop_names``
+    prop_names: list[str]
+    value: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    temperature_K: np.ndarray
+    frequency_Hz: np.ndarray
+    field_V_per_m: np.ndarray
+    thickness_m: np.ndarray
+    area_m2: np.ndarray
+    source: np.ndarray             # int index into ``source_keys``
+    source_keys: list[str]
+    source_kinds: list[str]
+    source_citations: list[str]
+    notes: list[str]
+    breakdown_sets: list
+    loops: list
+    retired_at: list
+    retired_reason: list
+    _py: dict = field(default_factory=dict, repr=False)
+
+    def __len__(self) -> int:
+        return len(self.keys)
+
+    @property
+    def material_of_row(self) -> np.ndarray:
+        """Material index of every row."""
+        return np.repeat(np.arange(len(self.keys)), np.diff(self.start))
+
+    def code(self, prop: str) -> int:
+        """The code of ``prop`` in this table, -1 if no row holds it."""
+        try:
+            return self.prop_names.index(prop)
+        except ValueError:
+            return -1
+
+    def material(self, i: int) -> MaterialData:
+        return self.materials([i])[0]
+
+    def materials(self, indices=None) -> list[MaterialData]:
+        """Materials ``indices`` (all by default) as :class:`MaterialData` with their values."""
+        if not self._py:
+            self._py.update({c: getattr(self, c).tolist() for c in FLOAT_COLUMNS})
+            self._py["ids"] = self.ids.tolist()
+            self._py["prop"] = [self.prop_names[c] for c in self.prop.tolist()]
+            self._py["source"] = self.source.tolist()
+            self._py["refs"] = [SourceRef(key=k, kind=t, citation=c) for k, t, c in
+                                zip(self.source_keys, self.source_kinds, self.source_citations)]
+        py = self._py
+        cols = [py[c] for c in FLOAT_COLUMNS]
+        ids, props, srcs, refs = py["ids"], py["prop"], py["source"], py["refs"]
+        out = []
+        for i in (range(len(self.keys)) if indices is None else indices):
+            values = []
+            for r in range(int(self.start[i]), int(self.start[i + 1])):
+                v, lo, hi, t, f, e, d, a = (c[r] for c in cols)
+                values.append(StoredValue(
+                    id=ids[r], property=props[r], value=v, source=refs[srcs[r]],
+                    low=None if lo != lo else lo, high=None if hi != hi else hi,
+                    temperature_K=None if t != t else t, frequency_Hz=None if f != f else f,
+                    field_V_per_m=None if e != e else e, thickness_m=None if d != d else d,
+                    area_m2=None if a != a else a, note=self.notes[r], breakdown_set=self.breakdown_sets[r],
+                    loop=self.loops[r], retired_at=self.retired_at[r], retired_reason=self.retired_reason[r]))
+            out.append(MaterialData(key=self.keys[i], name=self.names[i], family=self.families[i],
+                                    form=self.forms[i], description=self.descriptions[i], origin=self.origins[i],
+                                    response=self.responses[i], values=values))
+        return out
+
+    @classmethod
+    def from_columns(cls, materials: dict, values: dict, sources: dict) -> ValueTable:
+        """Build from plain columns, in any row order.
+
+        ``materials``: lists ``keys, names, families, forms, descriptions, origins, responses`` (the table's
+        material order). ``values``: per row ``material`` (index into those lists), ``id``, ``property`` (str),
+        the float columns (None or NaN = not stated), ``source`` (index into ``sources``), ``note``,
+        ``breakdown_set``, ``loop``, ``retired_at``, ``retired_reason``. ``sources``: ``keys, kinds, citations``.
+        """
+        m = len(materials["keys"])
+        mat = np.asarray(values["material"], dtype=np.int64)
+        n = mat.size
+        ids = np.asarray(values["id"], dtype=np.int64)
+        names = sorted(set(values["property"]))
+        index = {p: i for i, p in enumerate(names)}
+        code = np.fromiter((index[p] for p in values["property"]), dtype=np.int64, count=n)
+        floats = {c: np.asarray(values[c], dtype=float).reshape(n) for c in FLOAT_COLUMNS}
+
+        def nulls_first(a):
+            return np.where(np.isnan(a), -np.inf, a)
+
+        order = np.lexsort((ids, nulls_first(floats["field_V_per_m"]), nulls_first(floats["temperature_K"]),
+                            code, mat))
+
+        def pick(seq):
+            return [seq[i] for i in order.tolist()] if n else []
+
+        return cls(
+            keys=list(materials["keys"]), names=list(materials["names"]), families=list(materials["families"]),
+            forms=list(materials["forms"]), descriptions=list(materials["descriptions"]),
+            origins=list(materials["origins"]), responses=list(materials["responses"]),
+            start=np.searchsorted(mat[order], np.arange(m + 1)), ids=ids[order], prop=code[order].astype(np.int64),
+            prop_names=names, **{c: floats[c][order] for c in FLOAT_COLUMNS},
+            source=np.asarray(values["source"], dtype=np.int64).reshape(n)[order],
+            source_keys=list(sources["keys"]), source_kinds=list(sources["kinds"]),
+            source_citations=list(sources["citations"]),
+            notes=pick(values["note"]), breakdown_sets=pick(values["breakdown_set"]), loops=pick(values["loop"]),
+            retired_at=pick(values["retired_at"]), retired_reason=pick(values["retired_reason"]))
+
+    @classmethod
+    def from_materials(cls, materials: list[MaterialData]) -> ValueTable:
+        """A table of ``materials`` (as loaded by :func:`db.query.load_materials`), in their order."""
+        src_index: dict[tuple, int] = {}
+        src_cols = {"keys": [], "kinds": [], "citations": []}
+        vals = {c: [] for c in ("material", "id", "property", "source", "note", "breakdown_set", "loop",
+                                "retired_at", "retired_reason", *FLOAT_COLUMNS)}
+        for i, md in enumerate(materials):
+            for v in md.values:
+                s = (v.source.key, v.source.kind, v.source.citation)
+                if s not in src_index:
+                    src_index[s] = len(src_cols["keys"])
+                    for col, x in zip(("keys", "kinds", "citations"), s):
+                        src_cols[col].append(x)
+                vals["material"].append(i)
+                vals["source"].append(src_index[s])
+                for c in ("id", "property", "note", "breakdown_set", "loop", "retired_at", "retired_reason",
+                          *FLOAT_COLUMNS):
+                    vals[c].append(getattr(v, c))
+        mats = {"keys": [m.key for m in materials], "names": [m.name for m in materials],
+                "families": [m.family for m in materials], "forms": [m.form for m in materials],
+                "descriptions": [m.description for m in materials], "origins": [m.origin for m in materials],
+                "responses": [m.response for m in materials]}
+        return cls.from_columns(mats, vals, src_cols)

@@ -1,0 +1,187 @@
+"""The column-wise criteria (ranking.columnar) against the per-material rules (ranking.criteria.evaluate).
+
+Both paths must reach the same verdict and the same numbers (to rounding) for every material the column-wise
+path covers; a shortlist run on a table must equal one that evaluates every material on its own.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from materials.records import MaterialData, SourceRef, StoredValue
+from materials.table import ValueTable
+from ranking.columnar import evaluate_columns
+from ranking.criteria import CRITERIA, evaluate
+from ranking.target import Target
+
+C = 273.15
+KINDS = ("handbook", "paper", "web", "recollection", "invented", "standard", "common-practice")
+
+
+def _random_material(rng, i: int) -> MaterialData:
+    """An invented material with the irregularities stores hold: duplicates, unstated conditions, gaps."""
+    rows = []
+
+    def add(prop, value, **cond):
+        kind = KINDS[rng.integers(len(KINDS))]
+        rows.append((prop, float(value), kind, cond))
+
+    eps = rng.uniform(2, 12)
+    if rng.random() > 0.05:
+        temps = np.sort(rng.choice([-55, -40, 0, 25, 60, 85, 105, 125, 150], size=rng.integers(1, 5), replace=False))
+        for t in temps:
+            lo, hi = (eps * rng.uniform(0.85, 1), eps * rng.uniform(1, 1.15)) if rng.random() < 0.6 else (None, None)
+            add("relative_permittivity", eps * rng.uniform(0.9, 1.1), temperature_K=t + C, low=lo, high=hi)
+        if rng.random() < 0.2:  # a duplicate at one temperature, from another source
+            add("relative_permittivity", eps * rng.uniform(0.9, 1.1), temperature_K=temps[0] + C)
+        if rng.random() < 0.15:  # a figure with no temperature
+            add("relative_permittivity", eps)
+    ebd = rng.uniform(100e6, 800e6)
+    if rng.random() > 0.05:
+        for t in np.sort(rng.choice([-40, 25, 70, 85, 100, 125], size=rng.integers(1, 4), replace=False)):
+            cond = {"temperature_K": t + C}
+            if rng.random() < 0.7:
+                cond["area_m2"] = float(rng.choice([1e-5, 1e-4, 2e-4]))
+            if rng.random() < 0.3:
+                cond["thickness_m"] = float(rng.choice([3e-6, 10e-6, 50e-6]))
+            if rng.random() < 0.5:
+                cond["low"], cond["high"] = 0.9 * ebd, 1.1 * ebd
+            add("breakdown_field", ebd * rng.uniform(0.6, 1.1), **cond)
+        if rng.random() < 0.25:
+            add("breakdown_field", ebd * rng.uniform(0.8, 1.2), temperature_K=25 + C,
+                thickness_m=float(rng.choice([5e-6, 20e-6])), area_m2=1e-4)
+        if rng.random() < 0.1:
+            add("breakdown_field", ebd)
+    if rng.random() < 0.7:
+        add("weibull_shape", rng.uniform(1.5, 25), **({"temperature_K": 25 + C} if rng.random() < 0.3 else {}))
+    if rng.random() < 0.2:
+        add("weibull_shape", rng.uniform(4, 15), temperature_K=100 + C)
+    if rng.random() > 0.05:
+        add("max_temperature", C + rng.choice([70, 85, 105, 125, 150, 200]))
+    if rng.random() > 0.05:
+        add("min_temperature", C + rng.choice([-65, -55, -40, -25, 0]))
+    if rng.random() < 0.8:
+        for t in rng.choice([-40, 25, 85, 125], size=rng.integers(1, 3), replace=False):
+            add("loss_tangent", rng.uniform(1e-4, 2e-2), temperature_K=t + C,
+                **({"low": 5e-5, "high": 3e-2} if rng.random() < 0.3 else {}))
+    if rng.random() < 0.8:
+        add("density", rng.uniform(800, 6000))
+    if rng.random() < 0.7:
+        add("min_thickness", rng.uniform(0.5e-6, 30e-6))
+    if rng.random() < 0.8:
+        add("self_healing", float(rng.integers(0, 2)))
+    values = []
+    order = rng.permutation(len(rows))
+    for rid, j in enumerate(order, 1):
+        prop, value, kind, cond = rows[j]
+        src = SourceRef(key=f"{kind}-{rng.integers(3)}", kind=kind, citation=f"an invented {kind} source")
+        values.append(StoredValue(id=int(rid), property=prop, value=value, source=src, **cond))
+    fam = ("polymer-film", "ceramic-class-1", "glass")[i % 3]
+    return MaterialData(key=f"m{i:03d}", name=f"invented {i}", family=fam, values=values)
+
+
+def _targets():
+    yield Target(voltage_V=800.0, tmin_K=-40 + C, tmax_K=105 + C, energy_J=80.0, failure_probability=1e-3,
+                 assume_defaults=True)
+    yield Target(voltage_V=800.0, tmin_K=-40 + C, tmax_K=105 + C, energy_J=80.0, failure_probability=1e-3,
+                 assume_defaults=True, segment_area_m2=4e-4, margin=1.2)
+    yield Target(voltage_V=450.0, tmin_K=-55 + C, tmax_K=85 + C, failure_probability=0.01)
+    yield Target(voltage_V=1200.0, tmin_K=0 + C, tmax_K=125 + C, area_m2=0.5, max_loss_tangent=5e-3,
+                 assume_defaults=True)
+    yield Target(voltage_V=600.0, tmin_K=25 + C, tmax_K=25 + C, energy_density_J_per_m3=1.5e6, energy_J=5.0,
+                 assume_defaults=True, families=("polymer-film", "glass"))
+    yield Target(voltage_V=400.0, tmin_K=-40 + C, tmax_K=85 + C, energy_J=1.0, thicknesses_m=(2.5e-6, 6e-6),
+                 assume_defaults=True)
+
+
+def _compare(materials, target):
+    table = ValueTable.from_materials(materials)
+    covered = 0
+    for t in list(target.thicknesses_m) or [None]:
+        cols = evaluate_columns(table, target, thickness_m=t)
+        for i, md in enumerate(materials):
+            if cols.slow[i]:
+                continue
+            covered += 1
+            e = evaluate(md, target, thickness_m=t)
+            assert bool(cols.ok[i]) == e.ok, (md.key, t, e.reasons)
+            if not e.ok:
+                continue
+            for name in CRITERIA:
+                got = cols.values[name][i]
+                if name not in e.values:
+                    assert np.isnan(got), (md.key, name)
+                    continue
+                for d_cols, d_e in ((cols.values, e.values), (cols.low, e.low), (cols.high, e.high)):
+                    assert d_cols[name][i] == pytest.approx(d_e[name], rel=1e-12, abs=1e-300), (md.key, name)
+    return covered
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_random_materials_same_verdicts_and_numbers(seed):
+    rng = np.random.default_rng(seed)
+    mats = [_random_material(rng, i) for i in range(60)]
+    for target in _targets():
+        assert _compare(mats, target) == 60 * max(1, len(target.thicknesses_m))
+
+
+def test_catalog_materials_same_verdicts_and_numbers(mem_store):
+    from db.query import load_table
+
+    with mem_store.session() as s:
+        table = load_table(s)
+    mats = table.materials()
+    covered = sum(_compare(mats, t) for t in _targets())
+    assert covered > 0
+
+
+def test_lab_rows_bias_curves_and_frequencies_go_per_material(make_material):
+    base = [("relative_permittivity", 3.0, "handbook", {"temperature_K": 298.15}),
+            ("breakdown_field", 5e8, "handbook", {"temperature_K": 298.15})]
+    mats = [make_material("plain", base),
+            make_material("lab", base + [("breakdown_field", 4e8, "lab", {"temperature_K": 298.15})]),
+            make_material("bias", base + [("relative_permittivity", 2.5, "paper", {"field_V_per_m": 1e7})]),
+            make_material("freq", base + [("loss_tangent", 1e-3, "paper", {"frequency_Hz": 1e3})]),
+            make_material("nonlinear", base, response="nonlinear")]
+    cols = evaluate_columns(ValueTable.from_materials(mats), next(_targets()))
+    assert cols.slow.tolist() == [False, True, True, True, True]
+
+
+def test_shortlist_on_a_table_equals_the_per_material_run(mem_store):
+    """The ranking from the column-wise path equals the one from evaluating each material on its own."""
+    from db.query import load_table
+    from ranking import shortlist as S
+
+    rng = np.random.default_rng(7)
+    mats = [_random_material(rng, i) for i in range(80)]
+    with mem_store.session() as s:
+        mats += load_table(s).materials()
+    for target in _targets():
+        fast = S.shortlist(mats, target, draws=0)
+        table = ValueTable.from_materials(mats)
+        every = np.ones(len(mats), dtype=bool)
+        orig = S.evaluate_columns if hasattr(S, "evaluate_columns") else None
+        import ranking.columnar as col
+
+        real = col.evaluate_columns
+
+        def all_slow(tab, tgt, *, thickness_m=None):
+            out = real(tab, tgt, thickness_m=thickness_m)
+            out.slow = every.copy()
+            out.ok = ~every
+            return out
+
+        col.evaluate_columns = all_slow
+        try:
+            slow = S.shortlist(table, target, draws=0)
+        finally:
+            col.evaluate_columns = real
+        assert orig is None
+        assert [r["label"] for r in fast["ranked"]] == [r["label"] for r in slow["ranked"]]
+        assert [e["label"] for e in fast["excluded"]] == [e["label"] for e in slow["excluded"]]
+        for a, b in zip(fast["ranked"], slow["ranked"]):
+            assert a["score"] == pytest.approx(b["score"], rel=1e-9)
+            assert a["flags"] == b["flags"] and a["binding"] == b["binding"] and a["sources"] == b["sources"]
+            for n, v in a["criteria"].items():
+                assert v == pytest.approx(b["criteria"][n], rel=1e-12)
