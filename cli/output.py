@@ -32,8 +32,17 @@ def _clean(obj):
     return obj
 
 
+# Above this size JSON is printed compact: indenting runs in pure Python (json's C encoder does no indents), which
+# costs seconds on a shortlist of 10,000 materials.
+INDENT_LIMIT = 2_000_000
+
+
 def print_json(data) -> None:
-    sys.stdout.write(json.dumps(_clean(data), indent=2, ensure_ascii=False, allow_nan=False) + "\n")
+    clean = _clean(data)
+    text = json.dumps(clean, ensure_ascii=False, allow_nan=False)
+    if len(text) <= INDENT_LIMIT:
+        text = json.dumps(clean, indent=2, ensure_ascii=False, allow_nan=False)
+    sys.stdout.write(text + "\n")
 
 
 def is_terminal() -> bool:

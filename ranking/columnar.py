@@ -2,13 +2,14 @@
 
 The same rules as :func:`ranking.criteria.evaluate` and the lookups of :mod:`materials.lookup`, written as numpy
 over every material of a table. They cover the common case: a linear dielectric whose values are small-signal
-(no DC-bias rows), come from no lab set (lab rows supersede the catalog's) and state no frequency, with no
-``capacitance_change`` rows and positive inputs to the sizing. Every other material is marked ``slow`` and left to
-the per-material code. Numbers agree with the per-material path to rounding (``tests/test_columnar.py``).
+(no DC-bias rows), with no ``capacitance_change`` rows and positive inputs to the sizing. Lab rows supersede
+the catalog's and the stated frequency nearest the one asked is read, as in the per-material lookups. Every
+other material is marked ``slow`` and left to the per-material code.
 
-Only numbers and verdicts come out of here (criteria with their ranges, whether a hard constraint fails); the
-words that explain a verdict (reasons, binding constraint, sources) are written by the per-material code for the
-rows that are shown.
+:func:`evaluate_columns` gives every material's verdict and criteria as arrays (what ranking and the Monte Carlo
+need); :func:`explain` writes one material's words (reasons, binding constraint, flags, sources, design) from
+the same arrays, for the rows a shortlist shows. Both agree with the per-material path (``tests/test_columnar.py``:
+verdicts, words and sources exactly, numbers to rounding).
 """
 
 from __future__ import annotations
@@ -35,6 +36,7 @@ class Columns:
     values: dict[str, np.ndarray] = field(default_factory=dict)   # NaN = criterion missing
     low: dict[str, np.ndarray] = field(default_factory=dict)
     high: dict[str, np.ndarray] = field(default_factory=dict)
+    parts: dict = field(default_factory=dict, repr=False)           # what explain() reads
 
 
 class _Curve:
@@ -124,6 +126,35 @@ class _Lookup:
         self.present = curve.has[q]
 
 
+def _pick_rows(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, lab_row: np.ndarray,
+               frequency_Hz: float | None) -> np.ndarray:
+    """The rows a temperature lookup reads (as materials.lookup._temperature_curve): a material's lab rows alone
+    where it has any; then, where frequencies are stated, those at the stated frequency nearest the one asked
+    (log scale, the lower of two equally near) plus the rows that state none."""
+    import math
+
+    from materials.lookup import REFERENCE_FREQUENCY_HZ
+
+    rm = mat[rows]
+    has_lab = np.bincount(rm[lab_row[rows]], minlength=m) > 0
+    rows = rows[~has_lab[rm] | lab_row[rows]]
+    rm = mat[rows]
+    f = t.frequency_Hz[rows]
+    stated = ~np.isnan(f)
+    if not stated.any():
+        return rows
+    want = frequency_Hz or REFERENCE_FREQUENCY_HZ
+    freqs = np.unique(f[stated])
+    dist = np.array([abs(math.log(x / want)) for x in freqs.tolist()])
+    rank = np.empty(freqs.size, dtype=np.int64)
+    rank[np.lexsort((freqs, dist))] = np.arange(freqs.size)
+    r_of = np.full(rows.size, np.iinfo(np.int64).max)
+    r_of[stated] = rank[np.searchsorted(freqs, f[stated])]
+    best = np.full(m, np.iinfo(np.int64).max)
+    np.minimum.at(best, rm, r_of)
+    return rows[~stated | (r_of == best[rm])]
+
+
 def _filled(a, fallback):
     return np.where(np.isnan(a), fallback, a)
 
@@ -131,10 +162,7 @@ def _filled(a, fallback):
 def _eligible(t: ValueTable, active: np.ndarray, mat: np.ndarray) -> np.ndarray:
     """Materials the column-wise rules cover (see the module docstring); the rest are ``slow``."""
     m = len(t)
-    bad_row = active & (((~np.isnan(t.field_V_per_m)) & (t.field_V_per_m != 0)) | ~np.isnan(t.frequency_Hz))
-    lab = np.array([k == "lab" for k in t.source_kinds], dtype=bool)
-    if lab.size:
-        bad_row |= active & lab[t.source]
+    bad_row = active & (~np.isnan(t.field_V_per_m)) & (t.field_V_per_m != 0)
     cc = t.code("capacitance_change")
     if cc >= 0:
         bad_row |= active & (t.prop == cc)
@@ -157,13 +185,20 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     conf_row = conf_of_source[t.source] if t.source.size else np.zeros(0)
     use = active & elig[mat] if mat.size else np.zeros(0, bool)
 
-    def curve(prop):
+    lab_source = np.array([k == "lab" for k in t.source_kinds] or [False], dtype=bool)
+    lab_row = lab_source[t.source] if t.source.size else np.zeros(0, bool)
+
+    def rows_of(prop):
         c = t.code(prop)
-        rows = np.flatnonzero(use & (t.prop == c)) if c >= 0 else np.zeros(0, np.int64)
+        return np.flatnonzero(use & (t.prop == c)) if c >= 0 else np.zeros(0, np.int64)
+
+    def curve(prop, frequency_Hz=None):
+        rows = _pick_rows(t, rows_of(prop), mat, m, lab_row, frequency_Hz)
         return _Curve(t, rows, mat[rows], m, tier)
 
-    cv = {p: curve(p) for p in ("relative_permittivity", "breakdown_field", "loss_tangent", "weibull_shape",
-                                "max_temperature", "min_temperature", "min_thickness", "density", "self_healing")}
+    cv = {p: curve(p) for p in ("relative_permittivity", "breakdown_field", "weibull_shape", "max_temperature",
+                                "min_temperature", "min_thickness", "density", "self_healing")}
+    cv["loss_tangent"] = curve("loss_tangent", target.frequency_Hz)
     for c in cv.values():
         if c.k > MAX_POINTS:
             elig &= c.n <= MAX_POINTS
@@ -181,12 +216,13 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     eps_c, ebd_c = cv["relative_permittivity"], cv["breakdown_field"]
     ok &= eps_c.has & ebd_c.has
     # The worst-case grid: both ends of the range and every eps / breakdown / loss point strictly inside.
+    # (All of the three properties' rows count here, lab or not and at any frequency, as in temperature_grid.)
     pts_m, pts_t = [], []
-    for c in (eps_c, ebd_c, cv["loss_tangent"]):
-        mm, kk = np.nonzero(np.isfinite(c.xs))
-        tt = c.xs[mm, kk]
+    for prop in ("relative_permittivity", "breakdown_field", "loss_tangent"):
+        rows = rows_of(prop)
+        tt = t.temperature_K[rows]
         inner = (tt > target.tmin_K) & (tt < target.tmax_K)
-        pts_m.append(mm[inner])
+        pts_m.append(mat[rows][inner])
         pts_t.append(tt[inner])
     gm = np.concatenate(pts_m + [everyone, everyone])
     gt = np.concatenate(pts_t + [np.full(m, float(target.tmin_K)), np.full(m, float(target.tmax_K))])
@@ -226,7 +262,8 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
     if not target.assume_defaults:
         ok &= sh.present & np.isfinite(test_area)
-    test_area = np.where(np.isfinite(test_area), test_area, DEFAULT_TEST_AREA_M2)
+    found_area = np.isfinite(test_area)
+    test_area = np.where(found_area, test_area, DEFAULT_TEST_AREA_M2)
     thick = _Lookup(t, cv["min_thickness"], everyone, nan_x)
     d_min = np.where(thick.present, thick.value, np.nan)
     dens = _Lookup(t, cv["density"], everyone, nan_x)
@@ -271,6 +308,7 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
             d = np.where(has_seg, d_seg, np.exp(log_area - log_c))
             d = np.where(has_dmin & (d < d_min), d_min, d)
             area = np.exp(log_c) * d
+            ed = np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta)
             e_op = V / d
             u_op = u_at(e_op)
         else:
@@ -314,7 +352,12 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
         ref = _Lookup(t, eps_c, everyone, np.full(m, REFERENCE_TEMPERATURE_K))
         dev = grid(np.abs(eps_g.value / ref.value[gm] - 1), -np.inf)
         d_t = dev.max(axis=1)
-        out.values["drift"] = np.where(eps_c.n >= 2, 1 - (1 - d_t) * (1 - 0.0), nan)
+        eps_rows = rows_of("relative_permittivity")
+        et = t.temperature_K[eps_rows]
+        fin = np.isfinite(et)
+        pairs = np.unique(np.stack([mat[eps_rows][fin].astype(float), et[fin]]), axis=1)
+        n_temps = np.bincount(pairs[0].astype(np.int64), minlength=m) if pairs.size else np.zeros(m, np.int64)
+        out.values["drift"] = np.where(n_temps >= 2, 1 - (1 - d_t) * (1 - 0.0), nan)
         out.values["healing"] = np.where(heal.present, heals.astype(float), 0.0)
         # Confidence: mean evidence score of the rows behind εr and breakdown on the grid, and behind β.
         total = np.zeros(m)
@@ -332,4 +375,181 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
         for name in ("drift", "healing", "confidence"):
             out.low[name] = out.high[name] = out.values[name]
     out.ok &= ~out.slow
+    rated = {p: _Lookup(t, cv[p], everyone, nan_x) for p in ("max_temperature", "min_temperature")}
+    with np.errstate(all="ignore"):
+        # Short-term failure probability of the part's area at the operating field (criteria._failure_probability).
+        link = np.where(has_seg, seg, area)
+        scale_part = ebd_v * np.power(test_area / link, 1.0 / beta)
+        fail = 1.0 - np.exp(-((e_op / scale_part) ** beta))
+    out.parts = dict(
+        table=t, target=target, thickness_m=thickness_m, fam_ok=(np.array([f in target.families for f in t.families],
+                                                                          dtype=bool) if target.families else None),
+        rated=rated, eps_has=eps_c.has, ebd_has=ebd_c.has, sh=sh, beta=beta, test_area=test_area,
+        area_found=found_area, extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
+        thick=thick, d_min=d_min, dens=dens, heal=heal, has_seg=has_seg, seg=seg, d=d, area=area, ed=ed, e_op=e_op,
+        u_op=u_op, t_eps=t_eps, t_ebd=t_ebd, eps_v=eps_v, ebd_v=ebd_v, c_eps=c_eps, c_ebd=c_ebd, c_loss=c_loss,
+        has_loss=has_loss, eps_g=eps_g, ebd_g=ebd_g, ls=ls, ref=ref, n_temps=n_temps, d_t=d_t, fail=fail,
+        g_start=np.searchsorted(gm, np.arange(m + 1)))
     return out
+
+
+class _Rows:
+    """A lookup's arrays as Python lists (indexing a list is much cheaper than indexing an array)."""
+
+    __slots__ = ("value", "present", "used0", "used1", "extrapolated")
+
+    def __init__(self, lk: _Lookup):
+        for name in self.__slots__:
+            setattr(self, name, getattr(lk, name).tolist())
+
+
+def _plain_parts(cols: Columns) -> dict:
+    if "_plain" not in cols.parts:
+        plain = {}
+        for k, v in cols.parts.items():
+            if isinstance(v, np.ndarray):
+                v = v.tolist()
+            elif isinstance(v, _Lookup):
+                v = _Rows(v)
+            elif isinstance(v, dict):
+                v = {kk: _Rows(vv) if isinstance(vv, _Lookup) else vv for kk, vv in v.items()}
+            plain[k] = v
+        plain["source"] = cols.parts["table"].source.tolist()
+        for name in ("values", "low", "high"):
+            plain[name] = {k: v.tolist() for k, v in getattr(cols, name).items()}
+        cols.parts["_plain"] = plain
+    return cols.parts["_plain"]
+
+
+def _c(t_K: float) -> str:
+    return f"{t_K - 273.15:g} °C"
+
+
+def explain(cols: Columns, i: int):
+    """The :class:`ranking.criteria.Evaluation` of material ``i`` (not slow), words included, from the columns.
+
+    Mirrors :func:`ranking.criteria.evaluate` step by step: the same reasons in the same order, the same binding
+    constraint, flags, sources and design details.
+    """
+    from ranking.criteria import Evaluation, layer_limited
+
+    P = _plain_parts(cols)
+    t, target, thickness_m = P["table"], P["target"], P["thickness_m"]
+    keys, kinds_of, source = t.source_keys, t.source_kinds, P["source"]
+    ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=thickness_m)
+
+    def src(*rows):
+        out = []
+        for r in rows:
+            if r >= 0:
+                k = keys[source[r]]
+                if k not in out:
+                    out.append(k)
+        return out
+
+    def add(name, *rows):
+        lst = ev.sources.setdefault(name, [])
+        lst.extend(k for k in src(*rows) if k not in lst)
+
+    if P["fam_ok"] is not None and not P["fam_ok"][i]:
+        ev.reasons.append(f"family {ev.family} not among the target's ({', '.join(target.families)})")
+        return ev
+    for prop, need, worse in (("max_temperature", target.tmax_K, lambda r, x: r < x - 1e-6),
+                              ("min_temperature", target.tmin_K, lambda r, x: r > x + 1e-6)):
+        lk = P["rated"][prop]
+        if not lk.present[i]:
+            ev.reasons.append(f"{prop} missing: rated temperature range not stated")
+            continue
+        rated = lk.value[i]
+        if worse(rated, need):
+            ev.reasons.append(f"rated to {_c(rated)} ({prop.split('_')[0]}); target needs {_c(need)}")
+        ev.details[prop + "_K"] = rated
+    for prop, has in (("relative_permittivity", P["eps_has"]), ("breakdown_field", P["ebd_has"])):
+        if not has[i]:
+            ev.reasons.append(f"{prop} missing")
+    if ev.reasons:
+        return ev
+    sh = P["sh"]
+    if not sh.present[i] and not target.assume_defaults:
+        ev.reasons.append("weibull_shape missing: breakdown cannot be scaled to the part's area "
+                          "(allow common-practice defaults to take β = 10)")
+        return ev
+    if not P["area_found"][i] and not target.assume_defaults:
+        ev.reasons.append("breakdown test electrode area not stated: cannot scale to the part's area "
+                          "(allow common-practice defaults to take 1 cm²)")
+        return ev
+    if P["extrapolated"][i]:
+        ev.flags.append("extrapolated")
+    if not sh.present[i]:
+        ev.flags.append("assumed-shape")
+    if not P["area_found"][i]:
+        ev.flags.append("assumed-test-area")
+    eps_g, ebd_g, c_eps, c_ebd = P["eps_g"], P["ebd_g"], P["c_eps"][i], P["c_ebd"][i]
+    eps_rows = (eps_g.used0[c_eps], eps_g.used1[c_eps])
+    ebd_rows = (ebd_g.used0[c_ebd], ebd_g.used1[c_ebd])
+    beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
+    add("energy", *eps_rows, *ebd_rows, *beta_rows)
+    has_dmin = P["thick"].present[i]
+    d_min = P["d_min"][i] if has_dmin else None
+    if has_dmin:
+        add("volume", P["thick"].used0[i], P["thick"].used1[i])
+    if P["dens"].present[i]:
+        add("mass", P["dens"].used0[i], P["dens"].used1[i])
+    seg = bool(P["has_seg"][i])
+    if seg:
+        ev.flags.append("segment-scaled")
+    V, p = target.voltage_V, target.failure_probability
+    d, ed, e_op, u_op = (P[k][i] for k in ("d", "ed", "e_op", "u_op"))
+    area = P["area"][i] if P["area"][i] == P["area"][i] else None
+    t_ebd, beta, test_area, ebd_v = P["t_ebd"][i], P["beta"][i], P["test_area"][i], P["ebd_v"][i]
+    if thickness_m is not None:
+        if d_min is not None and d < d_min * (1 - 1e-9):
+            ev.reasons.append(f"{d * 1e6:g} µm is thinner than the thinnest layer made ({d_min * 1e6:g} µm)")
+            return ev
+        if e_op > ed * (1 + 1e-9):
+            ev.reasons.append(f"{d * 1e6:g} µm at {V:g} V runs at {e_op / 1e6:.4g} V/µm, above the design field "
+                              f"{ed / 1e6:.4g} V/µm (breakdown at {_c(t_ebd)}, β {beta:.3g}, p {p:g})")
+            return ev
+        ev.binding = f"fixed layer {d * 1e6:g} µm: {e_op / ed:.0%} of the design field"
+    elif target.energy_J is None and area is None:
+        ev.flags.append("no-area-scaling")
+    layer_limited(ev, target, d=d, d_min=d_min, ed=ed, e_op=e_op, u_op=u_op, t_ebd=t_ebd, ebd=ebd_v,
+                  thickness_m=thickness_m)
+    for name in CRITERIA_NAMES:
+        v = P["values"][name][i]
+        if v == v:
+            ev.values[name], ev.low[name], ev.high[name] = v, P["low"][name][i], P["high"][name][i]
+        else:
+            ev.missing.append(name)
+    add("volume", *eps_rows, *ebd_rows)
+    ev.details.update(thickness_m=d, area_m2=area, design_field_V_per_m=ed, operating_field_V_per_m=e_op,
+                      worst_eps_K=P["t_eps"][i], worst_breakdown_K=t_ebd, weibull_shape=beta,
+                      test_area_m2=test_area)
+    if thickness_m is None and area is not None:
+        ev.details["failure_probability"] = P["fail"][i]
+    if P["has_loss"][i]:
+        ls, c_loss = P["ls"], P["c_loss"][i]
+        add("loss", ls.used0[c_loss], ls.used1[c_loss])
+        if target.max_loss_tangent is not None and ev.values["loss"] > target.max_loss_tangent:
+            ev.reasons.append(f"loss tangent {ev.values['loss']:.3g} above the limit {target.max_loss_tangent:.3g}")
+    elif target.max_loss_tangent is not None:
+        ev.reasons.append("loss_tangent missing (the target limits it)")
+    cells = range(int(P["g_start"][i]), int(P["g_start"][i + 1]))
+    if P["n_temps"][i] >= 2:
+        ref = P["ref"]
+        add("drift", ref.used0[i], ref.used1[i], *[r for c in cells for r in (eps_g.used0[c], eps_g.used1[c])])
+        ev.details["drift_temperature"], ev.details["drift_bias"] = P["d_t"][i], 0.0
+    heal = P["heal"]
+    if heal.present[i]:
+        add("healing", heal.used0[i], heal.used1[i])
+    else:
+        ev.flags.append("self-healing not stated")
+    kinds = {kinds_of[source[r]] for c in cells for g in (eps_g, ebd_g) for r in (g.used0[c], g.used1[c]) if r >= 0}
+    kinds |= {kinds_of[source[r]] for r in beta_rows if r >= 0}
+    for flag in ("recollection", "invented"):
+        if flag in kinds:
+            ev.flags.append(flag)
+    return ev
+
+
+CRITERIA_NAMES = ("energy", "volume", "mass", "loss", "drift", "healing", "confidence")

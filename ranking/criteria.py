@@ -199,19 +199,8 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
         u_op = u_at(e_op)
         if area is None:
             ev.flags.append("no-area-scaling")
-    if d_min is not None and d <= d_min * (1 + 1e-9) and thickness_m is None:
-        ev.binding = (f"thinnest layer made ({d_min * 1e6:g} µm) at {V:g} V: field {e_op / 1e6:.4g} V/µm, "
-                      f"below the design field {ed / 1e6:.4g} V/µm")
-    elif not ev.binding:
-        ev.binding = f"breakdown at {_c(t_ebd)} ({ebd.value / 1e6:.4g} → design {ed / 1e6:.4g} V/µm)"
-    if target.energy_density_J_per_m3 is not None and u_op < target.energy_density_J_per_m3 * (1 - 1e-9):
-        why = (f"stores {u_op / 1e6:.3g} J/cm³ at {V:g} V, below the target {target.energy_density_J_per_m3 / 1e6:.3g}"
-               " J/cm³")
-        if d_min is not None and d <= d_min * (1 + 1e-9) and thickness_m is None:
-            why += f" (needs a layer thinner than the {d_min * 1e6:g} µm that can be made)"
-        else:
-            why += f" (design field {ed / 1e6:.4g} V/µm, breakdown at {_c(t_ebd)})"
-        ev.reasons.append(why)
+    layer_limited(ev, target, d=d, d_min=d_min, ed=ed, e_op=e_op, u_op=u_op, t_ebd=t_ebd, ebd=ebd.value,
+                  thickness_m=thickness_m)
     # Energy and its range from the permittivity and breakdown ranges (u ∝ εr·E² on the linear part).
     ev.values["energy"] = u_op
     f_eps_lo = eps.low / eps.value if eps.value else 1.0
@@ -298,6 +287,25 @@ def evaluate(material: MaterialData, target, *, thickness_m: float | None = None
             ev.low.setdefault(name, ev.values[name])
             ev.high.setdefault(name, ev.values[name])
     return ev
+
+
+def layer_limited(ev: Evaluation, target, *, d, d_min, ed, e_op, u_op, t_ebd, ebd, thickness_m) -> None:
+    """The binding constraint (thinnest layer made, or breakdown) and the energy-density shortfall, if any."""
+    V = target.voltage_V
+    at_min = d_min is not None and d <= d_min * (1 + 1e-9) and thickness_m is None
+    if at_min:
+        ev.binding = (f"thinnest layer made ({d_min * 1e6:g} µm) at {V:g} V: field {e_op / 1e6:.4g} V/µm, "
+                      f"below the design field {ed / 1e6:.4g} V/µm")
+    elif not ev.binding:
+        ev.binding = f"breakdown at {_c(t_ebd)} ({ebd / 1e6:.4g} → design {ed / 1e6:.4g} V/µm)"
+    if target.energy_density_J_per_m3 is not None and u_op < target.energy_density_J_per_m3 * (1 - 1e-9):
+        why = (f"stores {u_op / 1e6:.3g} J/cm³ at {V:g} V, below the target {target.energy_density_J_per_m3 / 1e6:.3g}"
+               " J/cm³")
+        if at_min:
+            why += f" (needs a layer thinner than the {d_min * 1e6:g} µm that can be made)"
+        else:
+            why += f" (design field {ed / 1e6:.4g} V/µm, breakdown at {_c(t_ebd)})"
+        ev.reasons.append(why)
 
 
 def _failure_probability(field_V_per_m, scale, shape, test_area, area, scale_to_area) -> float:

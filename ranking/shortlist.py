@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from materials.errors import InputError
@@ -43,14 +45,20 @@ def _impute(typ: dict, lo: dict, hi: dict, names: list[str], flags: list[list[st
             flags[i].append(f"{name} missing: worst of the field assumed")
 
 
-def _fmt_criterion(name: str, value: float) -> str:
+@lru_cache(maxsize=None)
+def _display_scale(display_unit: str, unit: str) -> float:
+    """SI value per display unit of a criterion (criteria units are all proportional: no offsets)."""
     from materials.units import from_si
 
+    return 1.0 / from_si(1.0, display_unit, unit)
+
+
+def _fmt_criterion(name: str, value: float) -> str:
     c = CRITERIA[name]
     if c.display_unit == "%":
         return f"{value * 100:.3g} %"
     if c.display_unit:
-        return f"{from_si(value, c.display_unit, c.unit):.4g} {c.display_unit.replace('**3', '³')}"
+        return f"{value / _display_scale(c.display_unit, c.unit):.4g} {c.display_unit.replace('**3', '³')}"
     return f"{value:.3g}"
 
 
@@ -64,12 +72,12 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
 
     ``materials`` is a list of :class:`MaterialData` or a :class:`materials.table.ValueTable`. Criteria are computed
     column-wise for the materials :mod:`ranking.columnar` covers and per material for the rest. ``rows`` and
-    ``excluded_rows`` build only the first so many entries of ``ranked`` and ``excluded`` (their explanations
-    are written per material); ``counts`` always gives the full numbers.
+    ``excluded_rows`` build only the first so many entries of ``ranked`` and ``excluded``; ``counts`` always
+    gives the full numbers.
     """
     from materials.table import ValueTable
     from ranking import methods as M
-    from ranking.columnar import evaluate_columns
+    from ranking.columnar import evaluate_columns, explain
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:
@@ -85,9 +93,12 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
 
     def full(i: int, ti: int) -> Evaluation:
         if (i, ti) not in evals:
-            if i not in loaded:
-                loaded[i] = table.material(i)
-            evals[i, ti] = evaluate(loaded[i], target, thickness_m=thicknesses[ti])
+            if not cols[ti].slow[i]:
+                evals[i, ti] = explain(cols[ti], i)
+            else:
+                if i not in loaded:
+                    loaded[i] = table.material(i)
+                evals[i, ti] = evaluate(loaded[i], target, thickness_m=thicknesses[ti])
         return evals[i, ti]
 
     cols = [evaluate_columns(table, target, thickness_m=t) for t in thicknesses]
