@@ -40,7 +40,7 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         q = q.where(Material.family == family)
     if origin:
         q = q.where(Material.origin == origin)
-    mats = conn.execute(q).all()
+    mats = _fetch(conn, q)
     if keys is not None:
         missing = sorted(set(keys) - {m[1] for m in mats})
         if missing:
@@ -48,35 +48,37 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
     mcols = {"keys": [m[1] for m in mats], "names": [m[2] for m in mats], "families": [m[3] for m in mats],
              "forms": [m[4] or "" for m in mats], "descriptions": [m[5] or "" for m in mats],
              "origins": [m[6] for m in mats], "responses": [m[7] for m in mats]}
-    srcs = conn.execute(select(Source.id, Source.key, Source.kind, Source.citation).order_by(Source.id)).all()
+    srcs = _fetch(conn, select(Source.id, Source.key, Source.kind, Source.citation).order_by(Source.id))
     scols = {"keys": [s[1] for s in srcs], "kinds": [s[2] for s in srcs], "citations": [s[3] for s in srcs]}
     src_pos = {s[0]: i for i, s in enumerate(srcs)}
     pv = PropertyValue
-    vq = (select(pv.material_id, pv.id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K, pv.frequency_Hz,
-                 pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.source_id, pv.note, BreakdownSet.label,
-                 Loop.label, pv.retired_at, pv.retired_reason)
-          .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
-          .outerjoin(Loop, pv.loop_id == Loop.id))
+    scope = []
     if len(mats) < 500:
-        vq = vq.where(pv.material_id.in_([m[0] for m in mats] or [-1]))
+        scope.append(pv.material_id.in_([m[0] for m in mats] or [-1]))
     if not include_retired:
-        vq = vq.where(pv.retired_at.is_(None))
-    compiled = vq.compile(dialect=conn.dialect, compile_kwargs={"render_postcompile": True})
-    params = ([compiled.params[k] for k in compiled.positiontup] if compiled.positional else compiled.params)
-    cur = conn.connection.cursor()
-    try:
-        cur.execute(str(compiled), params)
-        rows = cur.fetchall()
-    finally:
-        cur.close()
+        scope.append(pv.retired_at.is_(None))
+    # Numbers in one query; the few rows with words (a note, a breakdown set or loop, a retirement) in another.
+    rows = _fetch(conn, select(pv.material_id, pv.id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K,
+                               pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.source_id)
+                  .where(*scope))
+    words = {r[0]: r[1:] for r in _fetch(
+        conn, select(pv.id, pv.note, BreakdownSet.label, Loop.label, pv.retired_at, pv.retired_reason)
+        .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
+        .outerjoin(Loop, pv.loop_id == Loop.id)
+        .where(*scope, (pv.note != "") | pv.breakdown_set_id.is_not(None) | pv.loop_id.is_not(None)
+               | pv.retired_at.is_not(None)))}
     mat_pos = {m[0]: i for i, m in enumerate(mats)}
     if len(mats) >= 500 and (keys is not None or family or origin):
         rows = [r for r in rows if r[0] in mat_pos]
-    cols = list(zip(*rows)) if rows else [()] * 17
+    cols = list(zip(*rows)) if rows else [()] * 12
+    n = len(rows)
+    if words:
+        blank = ("", None, None, None, None)
+        extra = list(zip(*[words.get(i, blank) for i in cols[1]])) if rows else [()] * 5
+    else:
+        extra = [[""] * n, [None] * n, [None] * n, [None] * n, [None] * n]
 
     def stamp(x):
-        if x is None:
-            return None
         if isinstance(x, str):
             x = dt.datetime.fromisoformat(x)
         return x.isoformat(sep=" ", timespec="seconds")
@@ -84,11 +86,22 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
     vals = {"material": [mat_pos[i] for i in cols[0]], "id": cols[1], "property": cols[2],
             "value": cols[3], "low": cols[4], "high": cols[5], "temperature_K": cols[6], "frequency_Hz": cols[7],
             "field_V_per_m": cols[8], "thickness_m": cols[9], "area_m2": cols[10],
-            "source": [src_pos[i] for i in cols[11]], "note": [n or "" for n in cols[12]],
-            "breakdown_set": list(cols[13]), "loop": list(cols[14]),
-            "retired_at": [stamp(x) for x in cols[15]] if include_retired else list(cols[15]),
-            "retired_reason": list(cols[16])}
+            "source": [src_pos[i] for i in cols[11]], "note": [x or "" for x in extra[0]],
+            "breakdown_set": list(extra[1]), "loop": list(extra[2]),
+            "retired_at": [None if x is None else stamp(x) for x in extra[3]], "retired_reason": list(extra[4])}
     return ValueTable.from_columns(mcols, vals, scols)
+
+
+def _fetch(conn, stmt) -> list[tuple]:
+    """All rows of a Core statement as plain tuples, straight from the driver's cursor (parameters bound by it)."""
+    compiled = stmt.compile(dialect=conn.dialect, compile_kwargs={"render_postcompile": True})
+    params = [compiled.params[k] for k in compiled.positiontup] if compiled.positional else compiled.params
+    cur = conn.connection.cursor()
+    try:
+        cur.execute(str(compiled), params)
+        return cur.fetchall()
+    finally:
+        cur.close()
 
 
 def get_material(session, key: str, *, include_retired: bool = False) -> MaterialData:
