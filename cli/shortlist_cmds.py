@@ -100,8 +100,8 @@ def shortlist(
                      energy=energy, frequency=frequency, max_loss=max_loss, failure_prob=failure_prob,
                      margin=margin, area=area, family=family, weights=weights, thickness=thickness,
                      assume_defaults=assume_defaults, segment_area=segment_area)
-    with state.store().session() as s:
-        table = load_table(s)
+    with state.store().reading() as conn:
+        table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.
     whole = bool(json_out or export)
     result = run(table, t, method=method, top_k=min(3, top), draws=draws, seed=seed,

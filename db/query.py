@@ -22,39 +22,48 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
                origin: str | None = None) -> ValueTable:
     """Materials (all, or those with ``keys``, or of ``family``) and their values as a :class:`ValueTable`.
 
-    The values are read through the driver's own cursor (a compiled SQLAlchemy statement, parameters bound by the
-    driver): building a result row per value costs more than the query itself on a store of 10⁵ values.
+    ``session`` is an ORM session or a Core connection (:meth:`db.store.Store.reading`, which spares a command
+    the ORM's import). The values are read through the driver's own cursor (a compiled statement, parameters
+    bound by the driver): building a result row per value costs more than the query on a store of 10⁵ values.
     """
     import datetime as dt
 
-    from sqlalchemy import select
+    import numpy as np
+    from sqlalchemy import column, select, table
 
-    from db.models import BreakdownSet, Loop, Material, PropertyValue, Source
-
-    conn = session.connection()
-    q = select(Material.id, Material.key, Material.name, Material.family, Material.form, Material.description,
-               Material.origin, Material.response).order_by(Material.key)
+    conn = session if hasattr(session, "exec_driver_sql") else session.connection()
+    # Lightweight table clauses (the names of db.models) keep this free of the ORM.
+    material = table("material", *(column(c) for c in ("id", "key", "name", "family", "form", "description",
+                                                       "origin", "response")))
+    source = table("source", column("id"), column("key"), column("kind"), column("citation"))
+    pv = table("property_value", *(column(c) for c in (
+        "id", "material_id", "property", "value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m",
+        "thickness_m", "area_m2", "source_id", "note", "breakdown_set_id", "loop_id", "retired_at",
+        "retired_reason"))).c
+    bset = table("breakdown_set", column("id"), column("label"))
+    loop = table("loop", column("id"), column("label"))
+    m = material.c
+    q = select(m.id, m.key, m.name, m.family, m.form, m.description, m.origin, m.response).order_by(m.key)
     if keys is not None:
-        q = q.where(Material.key.in_(list(keys)))
+        q = q.where(m.key.in_(list(keys)))
     if family:
-        q = q.where(Material.family == family)
+        q = q.where(m.family == family)
     if origin:
-        q = q.where(Material.origin == origin)
+        q = q.where(m.origin == origin)
     mats = _fetch(conn, q)
     if keys is not None:
-        missing = sorted(set(keys) - {m[1] for m in mats})
+        missing = sorted(set(keys) - {r[1] for r in mats})
         if missing:
             raise DataError(f"no material '{missing[0]}' in the store (see 'holdoff catalog')")
-    mcols = {"keys": [m[1] for m in mats], "names": [m[2] for m in mats], "families": [m[3] for m in mats],
-             "forms": [m[4] or "" for m in mats], "descriptions": [m[5] or "" for m in mats],
-             "origins": [m[6] for m in mats], "responses": [m[7] for m in mats]}
-    srcs = _fetch(conn, select(Source.id, Source.key, Source.kind, Source.citation).order_by(Source.id))
-    scols = {"keys": [s[1] for s in srcs], "kinds": [s[2] for s in srcs], "citations": [s[3] for s in srcs]}
-    src_pos = {s[0]: i for i, s in enumerate(srcs)}
-    pv = PropertyValue
+    mcols = {"keys": [r[1] for r in mats], "names": [r[2] for r in mats], "families": [r[3] for r in mats],
+             "forms": [r[4] or "" for r in mats], "descriptions": [r[5] or "" for r in mats],
+             "origins": [r[6] for r in mats], "responses": [r[7] for r in mats]}
+    sc = source.c
+    srcs = _fetch(conn, select(sc.id, sc.key, sc.kind, sc.citation).order_by(sc.id))
+    scols = {"keys": [r[1] for r in srcs], "kinds": [r[2] for r in srcs], "citations": [r[3] for r in srcs]}
     scope = []
     if len(mats) < 500:
-        scope.append(pv.material_id.in_([m[0] for m in mats] or [-1]))
+        scope.append(pv.material_id.in_([r[0] for r in mats] or [-1]))
     if not include_retired:
         scope.append(pv.retired_at.is_(None))
     # Numbers in one query; the few rows with words (a note, a breakdown set or loop, a retirement) in another.
@@ -62,34 +71,35 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
                                pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.source_id)
                   .where(*scope))
     words = {r[0]: r[1:] for r in _fetch(
-        conn, select(pv.id, pv.note, BreakdownSet.label, Loop.label, pv.retired_at, pv.retired_reason)
-        .outerjoin(BreakdownSet, pv.breakdown_set_id == BreakdownSet.id)
-        .outerjoin(Loop, pv.loop_id == Loop.id)
+        conn, select(pv.id, pv.note, bset.c.label, loop.c.label, pv.retired_at, pv.retired_reason)
+        .select_from(pv.id.table.outerjoin(bset, pv.breakdown_set_id == bset.c.id)
+                     .outerjoin(loop, pv.loop_id == loop.c.id))
         .where(*scope, (pv.note != "") | pv.breakdown_set_id.is_not(None) | pv.loop_id.is_not(None)
                | pv.retired_at.is_not(None)))}
-    mat_pos = {m[0]: i for i, m in enumerate(mats)}
     if len(mats) >= 500 and (keys is not None or family or origin):
-        rows = [r for r in rows if r[0] in mat_pos]
-    cols = list(zip(*rows)) if rows else [()] * 12
+        wanted = {r[0] for r in mats}
+        rows = [r for r in rows if r[0] in wanted]
     n = len(rows)
-    if words:
-        blank = ("", None, None, None, None)
-        extra = list(zip(*[words.get(i, blank) for i in cols[1]])) if rows else [()] * 5
-    else:
-        extra = [[""] * n, [None] * n, [None] * n, [None] * n, [None] * n]
+    cols = list(zip(*rows)) if rows else [()] * 12
+    # Store ids to table positions through lookup arrays (ids are positive integers).
+    mat_ids = np.fromiter((r[0] for r in mats), dtype=np.int64, count=len(mats))
+    src_ids = np.fromiter((r[0] for r in srcs), dtype=np.int64, count=len(srcs))
+    mat_pos = np.zeros(int(mat_ids.max(initial=0)) + 1, dtype=np.int64)
+    mat_pos[mat_ids] = np.arange(mat_ids.size)
+    src_pos = np.zeros(int(src_ids.max(initial=0)) + 1, dtype=np.int64)
+    src_pos[src_ids] = np.arange(src_ids.size)
 
     def stamp(x):
         if isinstance(x, str):
             x = dt.datetime.fromisoformat(x)
         return x.isoformat(sep=" ", timespec="seconds")
 
-    vals = {"material": [mat_pos[i] for i in cols[0]], "id": cols[1], "property": cols[2],
+    words = {vid: (w[0], w[1], w[2], None if w[3] is None else stamp(w[3]), w[4]) for vid, w in words.items()}
+    vals = {"material": mat_pos[np.fromiter(cols[0], dtype=np.int64, count=n)], "id": cols[1], "property": cols[2],
             "value": cols[3], "low": cols[4], "high": cols[5], "temperature_K": cols[6], "frequency_Hz": cols[7],
             "field_V_per_m": cols[8], "thickness_m": cols[9], "area_m2": cols[10],
-            "source": [src_pos[i] for i in cols[11]], "note": [x or "" for x in extra[0]],
-            "breakdown_set": list(extra[1]), "loop": list(extra[2]),
-            "retired_at": [None if x is None else stamp(x) for x in extra[3]], "retired_reason": list(extra[4])}
-    return ValueTable.from_columns(mcols, vals, scols)
+            "source": src_pos[np.fromiter(cols[11], dtype=np.int64, count=n)]}
+    return ValueTable.from_columns(mcols, vals, scols, words)
 
 
 def _fetch(conn, stmt) -> list[tuple]:

@@ -27,6 +27,14 @@ class Store:
             with s.begin():
                 yield s
 
+    @contextlib.contextmanager
+    def reading(self):
+        """A plain (Core) connection in one transaction, for reads that need no ORM (rolled back at the end)."""
+        with self.engine.connect() as conn:
+            with conn.begin() as tx:
+                yield conn
+                tx.rollback()
+
     def write(self, fn, *, retries: int = 12):
         """``fn(session)`` in its own transaction, re-run when another writer got in the way; its result.
 

@@ -17,6 +17,21 @@ from materials.records import MaterialData, SourceRef, StoredValue
 FLOAT_COLUMNS = ("value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m", "thickness_m", "area_m2")
 
 
+BLANK = ("", None, None, None, None)
+
+
+def _floats(seq, n: int) -> np.ndarray:
+    """A float column, None as NaN (an object array first: numpy's None-aware float path is the slow one)."""
+    if isinstance(seq, np.ndarray) and seq.dtype.kind == "f":
+        return seq.reshape(n)
+    obj = np.empty(n, dtype=object)
+    obj[:] = seq
+    none = np.equal(obj, None)
+    if none.any():
+        obj[none] = np.nan
+    return obj.astype(float)  # note, breakdown set, loop, retired at, retired reason
+
+
 @dataclass
 class ValueTable:
     # per material (length M)
@@ -44,11 +59,8 @@ class ValueTable:
     source_keys: list[str]
     source_kinds: list[str]
     source_citations: list[str]
-    notes: list[str]
-    breakdown_sets: list
-    loops: list
-    retired_at: list
-    retired_reason: list
+    retired: np.ndarray            # bool: a retired (superseded) row, kept for its history
+    words: dict = field(default_factory=dict)   # row -> (note, breakdown set, loop, retired at, reason), if any
     _py: dict = field(default_factory=dict, repr=False)
 
     def __len__(self) -> int:
@@ -80,32 +92,34 @@ class ValueTable:
                                 zip(self.source_keys, self.source_kinds, self.source_citations)]
         py = self._py
         cols = [py[c] for c in FLOAT_COLUMNS]
-        ids, props, srcs, refs = py["ids"], py["prop"], py["source"], py["refs"]
+        ids, props, srcs, refs, words = py["ids"], py["prop"], py["source"], py["refs"], self.words
         out = []
         for i in (range(len(self.keys)) if indices is None else indices):
             values = []
             for r in range(int(self.start[i]), int(self.start[i + 1])):
                 v, lo, hi, t, f, e, d, a = (c[r] for c in cols)
+                note, bset, loop, retired_at, reason = words.get(r, BLANK)
                 values.append(StoredValue(
                     id=ids[r], property=props[r], value=v, source=refs[srcs[r]],
                     low=None if lo != lo else lo, high=None if hi != hi else hi,
                     temperature_K=None if t != t else t, frequency_Hz=None if f != f else f,
                     field_V_per_m=None if e != e else e, thickness_m=None if d != d else d,
-                    area_m2=None if a != a else a, note=self.notes[r], breakdown_set=self.breakdown_sets[r],
-                    loop=self.loops[r], retired_at=self.retired_at[r], retired_reason=self.retired_reason[r]))
+                    area_m2=None if a != a else a, note=note, breakdown_set=bset, loop=loop, retired_at=retired_at,
+                    retired_reason=reason))
             out.append(MaterialData(key=self.keys[i], name=self.names[i], family=self.families[i],
                                     form=self.forms[i], description=self.descriptions[i], origin=self.origins[i],
                                     response=self.responses[i], values=values))
         return out
 
     @classmethod
-    def from_columns(cls, materials: dict, values: dict, sources: dict) -> ValueTable:
-        """Build from plain columns, in any row order.
+    def from_columns(cls, materials: dict, values: dict, sources: dict, words: dict | None = None) -> ValueTable:
+        """Build from plain columns (sequences or arrays), in any row order.
 
         ``materials``: lists ``keys, names, families, forms, descriptions, origins, responses`` (the table's
         material order). ``values``: per row ``material`` (index into those lists), ``id``, ``property`` (str),
-        the float columns (None or NaN = not stated), ``source`` (index into ``sources``), ``note``,
-        ``breakdown_set``, ``loop``, ``retired_at``, ``retired_reason``. ``sources``: ``keys, kinds, citations``.
+        the float columns (None or NaN = not stated) and ``source`` (index into ``sources``). ``sources``: lists
+        ``keys, kinds, citations``. ``words``: value id -> (note, breakdown set, loop, retired at, retired reason)
+        for the rows that have any of them.
         """
         m = len(materials["keys"])
         mat = np.asarray(values["material"], dtype=np.int64)
@@ -114,36 +128,38 @@ class ValueTable:
         names = sorted(set(values["property"]))
         index = {p: i for i, p in enumerate(names)}
         code = np.fromiter((index[p] for p in values["property"]), dtype=np.int64, count=n)
-        floats = {c: np.asarray(values[c], dtype=float).reshape(n) for c in FLOAT_COLUMNS}
+        floats = {c: _floats(values[c], n) for c in FLOAT_COLUMNS}
 
         def nulls_first(a):
             return np.where(np.isnan(a), -np.inf, a)
 
         order = np.lexsort((ids, nulls_first(floats["field_V_per_m"]), nulls_first(floats["temperature_K"]),
                             code, mat))
-
-        def pick(seq):
-            return [seq[i] for i in order.tolist()] if n else []
-
+        ids = ids[order]
+        by_row, retired = {}, np.zeros(n, dtype=bool)
+        if words:
+            pos = {v: r for r, v in enumerate(ids.tolist())}
+            for vid, w in words.items():
+                if vid in pos:
+                    by_row[pos[vid]] = (w[0] or "", *w[1:])
+                    retired[pos[vid]] = w[3] is not None
         return cls(
             keys=list(materials["keys"]), names=list(materials["names"]), families=list(materials["families"]),
             forms=list(materials["forms"]), descriptions=list(materials["descriptions"]),
             origins=list(materials["origins"]), responses=list(materials["responses"]),
-            start=np.searchsorted(mat[order], np.arange(m + 1)), ids=ids[order], prop=code[order].astype(np.int64),
+            start=np.searchsorted(mat[order], np.arange(m + 1)), ids=ids, prop=code[order],
             prop_names=names, **{c: floats[c][order] for c in FLOAT_COLUMNS},
             source=np.asarray(values["source"], dtype=np.int64).reshape(n)[order],
             source_keys=list(sources["keys"]), source_kinds=list(sources["kinds"]),
-            source_citations=list(sources["citations"]),
-            notes=pick(values["note"]), breakdown_sets=pick(values["breakdown_set"]), loops=pick(values["loop"]),
-            retired_at=pick(values["retired_at"]), retired_reason=pick(values["retired_reason"]))
+            source_citations=list(sources["citations"]), retired=retired, words=by_row)
 
     @classmethod
     def from_materials(cls, materials: list[MaterialData]) -> ValueTable:
         """A table of ``materials`` (as loaded by :func:`db.query.load_materials`), in their order."""
         src_index: dict[tuple, int] = {}
         src_cols = {"keys": [], "kinds": [], "citations": []}
-        vals = {c: [] for c in ("material", "id", "property", "source", "note", "breakdown_set", "loop",
-                                "retired_at", "retired_reason", *FLOAT_COLUMNS)}
+        vals = {c: [] for c in ("material", "id", "property", "source", *FLOAT_COLUMNS)}
+        words = {}
         for i, md in enumerate(materials):
             for v in md.values:
                 s = (v.source.key, v.source.kind, v.source.citation)
@@ -153,11 +169,13 @@ class ValueTable:
                         src_cols[col].append(x)
                 vals["material"].append(i)
                 vals["source"].append(src_index[s])
-                for c in ("id", "property", "note", "breakdown_set", "loop", "retired_at", "retired_reason",
-                          *FLOAT_COLUMNS):
+                for c in ("id", "property", *FLOAT_COLUMNS):
                     vals[c].append(getattr(v, c))
+                w = (v.note, v.breakdown_set, v.loop, v.retired_at, v.retired_reason)
+                if w != BLANK:
+                    words[v.id] = w
         mats = {"keys": [m.key for m in materials], "names": [m.name for m in materials],
                 "families": [m.family for m in materials], "forms": [m.form for m in materials],
                 "descriptions": [m.description for m in materials], "origins": [m.origin for m in materials],
                 "responses": [m.response for m in materials]}
-        return cls.from_columns(mats, vals, src_cols)
+        return cls.from_columns(mats, vals, src_cols, words)

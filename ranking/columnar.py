@@ -177,7 +177,7 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
 
     m = len(t)
     mat = t.material_of_row
-    active = np.array([r is None for r in t.retired_at], dtype=bool) if t.retired_at else np.zeros(0, bool)
+    active = ~t.retired
     elig = _eligible(t, active, mat)
     tier_of_source = np.array([TIER.get(k, 9) for k in t.source_kinds] or [9], dtype=np.int64)
     conf_of_source = np.array([CONFIDENCE.get(k, 0.0) for k in t.source_kinds] or [0.0])
@@ -394,31 +394,55 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
 
 
 class _Rows:
-    """A lookup's arrays as Python lists (indexing a list is much cheaper than indexing an array)."""
+    """A lookup's arrays, indexed one material at a time (as Python lists, or arrays read item by item)."""
 
     __slots__ = ("value", "present", "used0", "used1", "extrapolated")
 
-    def __init__(self, lk: _Lookup):
+    def __init__(self, lk: _Lookup, wrap):
         for name in self.__slots__:
-            setattr(self, name, getattr(lk, name).tolist())
+            setattr(self, name, wrap(getattr(lk, name)))
 
 
-def _plain_parts(cols: Columns) -> dict:
+class _Items:
+    """An array read one item at a time as a Python number (cheaper than converting it whole for a few reads)."""
+
+    __slots__ = ("a",)
+
+    def __init__(self, a: np.ndarray):
+        self.a = a
+
+    def __getitem__(self, i):
+        return self.a[i].item()
+
+
+def _view(cols: Columns, wrap) -> dict:
+    out = {}
+    for k, v in cols.parts.items():
+        if isinstance(v, np.ndarray):
+            v = wrap(v)
+        elif isinstance(v, _Lookup):
+            v = _Rows(v, wrap)
+        elif isinstance(v, dict):
+            v = {kk: _Rows(vv, wrap) if isinstance(vv, _Lookup) else vv for kk, vv in v.items()}
+        out[k] = v
+    out["source"] = wrap(cols.parts["table"].source)
+    for name in ("values", "low", "high"):
+        out[name] = {k: wrap(v) for k, v in getattr(cols, name).items()}
+    return out
+
+
+def prepare_explain(cols: Columns) -> None:
+    """Convert the columns to Python lists once, before explaining many materials."""
     if "_plain" not in cols.parts:
-        plain = {}
-        for k, v in cols.parts.items():
-            if isinstance(v, np.ndarray):
-                v = v.tolist()
-            elif isinstance(v, _Lookup):
-                v = _Rows(v)
-            elif isinstance(v, dict):
-                v = {kk: _Rows(vv) if isinstance(vv, _Lookup) else vv for kk, vv in v.items()}
-            plain[k] = v
-        plain["source"] = cols.parts["table"].source.tolist()
-        for name in ("values", "low", "high"):
-            plain[name] = {k: v.tolist() for k, v in getattr(cols, name).items()}
-        cols.parts["_plain"] = plain
-    return cols.parts["_plain"]
+        cols.parts["_plain"] = _view(cols, lambda a: a.tolist())
+
+
+def _parts(cols: Columns) -> dict:
+    if "_plain" in cols.parts:
+        return cols.parts["_plain"]
+    if "_items" not in cols.parts:
+        cols.parts["_items"] = _view(cols, _Items)
+    return cols.parts["_items"]
 
 
 def _c(t_K: float) -> str:
@@ -433,7 +457,7 @@ def explain(cols: Columns, i: int):
     """
     from ranking.criteria import Evaluation, layer_limited
 
-    P = _plain_parts(cols)
+    P = _parts(cols)
     t, target, thickness_m = P["table"], P["target"], P["thickness_m"]
     keys, kinds_of, source = t.source_keys, t.source_kinds, P["source"]
     ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=thickness_m)

@@ -77,7 +77,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
     """
     from materials.table import ValueTable
     from ranking import methods as M
-    from ranking.columnar import evaluate_columns, explain
+    from ranking.columnar import evaluate_columns, explain, prepare_explain
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:
@@ -102,33 +102,24 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         return evals[i, ti]
 
     cols = [evaluate_columns(table, target, thickness_m=t) for t in thicknesses]
-    for i in sorted({int(i) for c in cols for i in np.flatnonzero(c.slow)}):
-        loaded[i] = table.material(i)
-    # Candidates in material-major order, as the per-material loop would visit them.
-    cand_ok, cand_bad = [], []
-    parts = {n: ([], [], []) for n in CRITERIA}
-    for i in range(len(table)):
-        for ti, c in enumerate(cols):
-            if c.slow[i]:
-                e = full(i, ti)
-                if not e.ok:
-                    cand_bad.append((i, ti))
-                    continue
-                for n in CRITERIA:
-                    v = e.values.get(n, np.nan)
-                    for lst, val in zip(parts[n], (v, e.low.get(n, v), e.high.get(n, v))):
-                        lst.append(val)
-            elif c.ok[i]:
-                for n in CRITERIA:
-                    for lst, d in zip(parts[n], (c.values, c.low, c.high)):
-                        lst.append(d[n][i] if n in d else np.nan)
-            else:
-                cand_bad.append((i, ti))
-                continue
-            cand_ok.append((i, ti))
-    typ_d = {n: np.asarray(parts[n][0], dtype=float) for n in names}
-    lo_d = {n: np.asarray(parts[n][1], dtype=float) for n in names}
-    hi_d = {n: np.asarray(parts[n][2], dtype=float) for n in names}
+    # Candidates in material-major order, as the per-material loop would visit them: (material, thickness) pairs
+    # flattened as material · T + thickness. Slow candidates take their numbers from the per-material path.
+    n_t = len(thicknesses)
+    slow = np.column_stack([c.slow for c in cols]).ravel()
+    ok = np.column_stack([c.ok for c in cols]).ravel()
+    typ_all, lo_all, hi_all = ({n: np.column_stack([getattr(c, part)[n] for c in cols]).ravel() for n in names}
+                               for part in ("values", "low", "high"))
+    for flat in np.flatnonzero(slow).tolist():
+        e = full(flat // n_t, flat % n_t)
+        ok[flat] = e.ok
+        if e.ok:
+            for n in names:
+                v = e.values.get(n, np.nan)
+                typ_all[n][flat], lo_all[n][flat], hi_all[n][flat] = v, e.low.get(n, v), e.high.get(n, v)
+    good = np.flatnonzero(ok)
+    cand_ok = [(f // n_t, f % n_t) for f in good.tolist()]
+    cand_bad = [(f // n_t, f % n_t) for f in np.flatnonzero(~ok).tolist()]
+    typ_d, lo_d, hi_d = ({n: d[n][good] for n in names} for d in (typ_all, lo_all, hi_all))
     extra_flags: list[list[str]] = [[] for _ in cand_ok]
     _impute(typ_d, lo_d, hi_d, names, extra_flags)
     # A criterion no candidate has cannot separate them: it is left out (and so shown in no table).
@@ -152,16 +143,19 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
             contrib = M.weighted_sum_contributions(typ, w, benefit)
         if method == "pareto":
             # Non-dominated first; within each group by the min–max weighted score.
-            order = sorted(range(n_ok), key=lambda i: (not front[i], -score[i], labels[i]))
+            order = np.lexsort((np.array(labels), -score, ~front)).tolist()
         else:
-            order = sorted(range(n_ok), key=lambda i: (-score[i], labels[i]))
+            order = np.lexsort((np.array(labels), -score)).tolist()
         mc_method = "topsis" if method == "topsis" else "weighted"
         if draws > 0:
             rob = monte_carlo(lo, typ, hi, w, benefit, method=mc_method, draws=draws, top_k=min(top_k, n_ok),
-                              seed=seed, rank_stats=False)
+                              seed=seed, rank_stats=False, screen=True)
             p_first, p_top_k = rob.p_first, rob.p_top_k
         else:
             p_first = p_top_k = np.full(n_ok, np.nan)
+        if rows is None or rows > 200:
+            for c in cols:
+                prepare_explain(c)  # many rows to explain: index Python lists, not arrays
         win = order[0]
         win_values = {n: float(typ[win, j]) for j, n in enumerate(names)}
         for rank, c in enumerate(order[:rows] if rows is not None else order, 1):
