@@ -37,11 +37,22 @@ def _clean(obj):
 INDENT_LIMIT = 2_000_000
 
 
+def _numpy(obj):
+    """json ``default``: numpy scalars and arrays as plain numbers and lists (NaN then refused, see print_json)."""
+    if hasattr(obj, "tolist") and callable(obj.tolist):
+        return obj.tolist()
+    raise TypeError(f"{type(obj).__name__} is not JSON serialisable")
+
+
 def print_json(data) -> None:
-    clean = _clean(data)
-    text = json.dumps(clean, ensure_ascii=False, allow_nan=False)
+    """``data`` as JSON; NaN and infinities become null (walking the whole result only when there are any)."""
+    try:
+        text = json.dumps(data, ensure_ascii=False, allow_nan=False, default=_numpy)
+    except ValueError:
+        data = _clean(data)
+        text = json.dumps(data, ensure_ascii=False, allow_nan=False)
     if len(text) <= INDENT_LIMIT:
-        text = json.dumps(clean, indent=2, ensure_ascii=False, allow_nan=False)
+        text = json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False, default=_numpy)
     sys.stdout.write(text + "\n")
 
 
