@@ -159,6 +159,49 @@ def _stamp_alembic(conn) -> None:
     stamp_head(conn)
 
 
+_HELD_LOCKS: dict[str, int] = {}
+
+
+@contextlib.contextmanager
+def build_lock(path: Path, *, timeout_s: float = 120.0):
+    """Exclusive advisory lock (``<store>.lock`` beside it) while a SQLite store file is built or rebuilt.
+
+    Two commands opening a missing or stale store at the same moment would otherwise both build it, and the
+    second swap would discard what the first had written in between. Re-entrant within a process; where the
+    platform has no ``fcntl`` it does nothing.
+    """
+    try:
+        import fcntl
+    except ImportError:  # pragma: no cover - not POSIX
+        yield
+        return
+    path.parent.mkdir(parents=True, exist_ok=True)
+    key = str(path.parent.resolve() / (path.name + ".lock"))
+    if key in _HELD_LOCKS:
+        yield
+        return
+    import time
+
+    fd = os.open(key, os.O_RDWR | os.O_CREAT, 0o600)
+    deadline = time.monotonic() + timeout_s
+    while True:
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            break
+        except BlockingIOError:
+            if time.monotonic() > deadline:
+                os.close(fd)
+                raise StoreError(f"{path} is being built by another holdoff process (waited {timeout_s:g} s)") \
+                    from None
+            time.sleep(0.05)
+    _HELD_LOCKS[key] = fd
+    try:
+        yield
+    finally:
+        del _HELD_LOCKS[key]
+        os.close(fd)  # releases the lock
+
+
 def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
     """(Re)build the store at ``url`` from the catalog.
 
@@ -171,32 +214,16 @@ def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
 
     load_catalog(catalog_dir)  # validate before touching anything
     path = sqlite_file(url)
+    if path is not None:
+        with build_lock(path):  # the check for lab data too, so that nothing lands between it and the swap
+            if not force:
+                with connect_errors(url):
+                    _refuse_if_lab_data(url)
+            _build_file(path, catalog_dir)
+        return
     if not force:
         with connect_errors(url):
             _refuse_if_lab_data(url)
-    if path is not None:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=".holdoff-build-", suffix=".sqlite", dir=path.parent)
-        os.close(fd)
-        os.unlink(tmp)
-        engine = make_engine(f"sqlite:///{tmp}")
-        try:
-            _fill(engine, catalog_dir)
-        except BaseException:
-            engine.dispose()
-            for suffix in ("", "-wal", "-shm"):
-                with contextlib.suppress(FileNotFoundError):
-                    os.unlink(tmp + suffix)
-            raise
-        engine.dispose()
-        for suffix in ("-wal", "-shm"):
-            with contextlib.suppress(FileNotFoundError):
-                os.unlink(str(path) + suffix)
-        os.replace(tmp, path)
-        for suffix in ("-wal", "-shm"):
-            with contextlib.suppress(FileNotFoundError):
-                os.unlink(tmp + suffix)
-        return
     engine = make_engine(url)
     try:
         from sqlalchemy.orm import Session
@@ -209,6 +236,32 @@ def build(url: str, *, catalog_dir=None, force: bool = False) -> None:
         _fill(engine, catalog_dir)
     finally:
         engine.dispose()
+
+
+def _build_file(path: Path, catalog_dir) -> None:
+    """Build a SQLite store beside ``path`` and swap it in (the caller holds :func:`build_lock`)."""
+    from db.engine import make_engine
+
+    fd, tmp = tempfile.mkstemp(prefix=".holdoff-build-", suffix=".sqlite", dir=path.parent)
+    os.close(fd)
+    os.unlink(tmp)
+    engine = make_engine(f"sqlite:///{tmp}")
+    try:
+        _fill(engine, catalog_dir)
+    except BaseException:
+        engine.dispose()
+        for suffix in ("", "-wal", "-shm"):
+            with contextlib.suppress(FileNotFoundError):
+                os.unlink(tmp + suffix)
+        raise
+    engine.dispose()
+    for suffix in ("-wal", "-shm"):
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(str(path) + suffix)
+    os.replace(tmp, path)
+    for suffix in ("-wal", "-shm"):
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp + suffix)
 
 
 def _drop_alembic_table(conn) -> None:
@@ -247,7 +300,9 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
     if path is not None and not path.exists():
         if not create:
             raise StoreError(f"no store at {path} (run 'holdoff db init')")
-        build(url)
+        with build_lock(path):
+            if not path.exists():  # another command may have built it while this one waited
+                build(url)
     engine = make_engine(url)
     try:
         fresh = not _has_schema(engine)
@@ -266,12 +321,23 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
                 raise
         else:
             engine.dispose()
-            build(url, force=True)
+            with build_lock(path):
+                engine = make_engine(url)
+                empty = not _has_schema(engine)
+                engine.dispose()
+                if empty:
+                    build(url, force=True)
             engine = make_engine(url)
     elif path is not None and create and _stale_catalog_only(engine):
-        # A store that holds nothing but an older catalog is rebuilt from the current one (nothing is lost).
+        # A store that holds nothing but an older catalog is rebuilt from the current one (nothing is lost);
+        # under the lock it is checked again, as another command may have rebuilt it or written to it meanwhile.
         engine.dispose()
-        build(url)
+        with build_lock(path):
+            engine = make_engine(url)
+            stale = _stale_catalog_only(engine)
+            engine.dispose()
+            if stale:
+                build(url)
         engine = make_engine(url)
     try:
         _require_current_schema(engine, url)

@@ -16,6 +16,7 @@ from pathlib import Path
 import pytest
 
 import pg
+from procs import run_together
 from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 WORKERS = 4
@@ -48,22 +49,9 @@ WORKER = textwrap.dedent("""
 
 
 def _run_workers(url: str) -> None:
-    procs = [subprocess.Popen([sys.executable, "-c", WORKER, url, str(w), str(PER_WORKER), str(PER_TRANSACTION)], cwd=REPO,
-                              stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-             for w in range(WORKERS)]
-    try:
-        for p in procs:
-            assert p.stdout.readline().strip() == "ready", p.stderr.read()
-        for p in procs:  # as close to "at once" as four pipes allow
-            p.stdin.write("go\n")
-            p.stdin.flush()
-        results = [p.communicate(timeout=120) for p in procs]
-    finally:
-        for p in procs:
-            if p.poll() is None:
-                p.kill()
-    for p, (out, err) in zip(procs, results):
-        assert p.returncode == 0 and out.strip() == "done", err
+    results = run_together(WORKER, [[url, str(w), str(PER_WORKER), str(PER_TRANSACTION)] for w in range(WORKERS)])
+    for code, out, err in results:
+        assert code == 0 and out.strip() == "done", err
         assert "Traceback" not in err, err
 
 

@@ -1,0 +1,58 @@
+"""Commands opening a missing SQLite store at the same moment build it once, and nothing written is lost.
+
+Without the build lock every process would build its own file and swap it in; a later swap would discard the
+records an earlier process had already written to the file it built.
+"""
+
+from __future__ import annotations
+
+import os
+import textwrap
+
+import pg
+from procs import run_together
+
+WORKERS = 4
+
+WORKER = textwrap.dedent("""
+    import os, sys
+    from db.labdata import add_materials
+    from materials.records import MaterialRec, SourceRec, ValueRec
+
+    url, path, worker = sys.argv[1], sys.argv[2], int(sys.argv[3])
+    import db.store  # import everything before the start signal
+    print("ready", flush=True)
+    sys.stdin.readline()
+    store = db.store.open_store(url)
+    inode = os.stat(path).st_ino
+    src = {"lab-lock": SourceRec(key="lab-lock", kind="lab", citation="Build-lock test bench")}
+    rec = MaterialRec(key=f"lock-w{worker}", name=f"Worker {worker} film", family="polymer-film", origin="lab",
+                      values=[ValueRec(property="relative_permittivity", value=2.5, source="lab-lock",
+                                       temperature_K=298.15)])
+    store.write(lambda s: add_materials(s, [rec], src))
+    store.dispose()
+    print(inode, flush=True)
+""")
+
+
+def test_simultaneous_first_opens_build_once_and_keep_every_write(tmp_path):
+    path = tmp_path / "team.sqlite"
+    url = f"sqlite:///{path}"
+    env = dict(os.environ, HOLDOFF_CATALOG=str(pg.MINI_CATALOG))
+    results = run_together(WORKER, [[url, str(path), str(w)] for w in range(WORKERS)], env=env)
+    for code, _out, err in results:
+        assert code == 0, err
+    inodes = {out.strip() for _code, out, _err in results}
+    assert len(inodes) == 1, "the store file was built more than once"
+    assert str(os.stat(path).st_ino) in inodes
+
+    from db.query import load_materials
+    from db.store import open_store
+
+    store = open_store(url, create=False)
+    try:
+        with store.session() as s:
+            keys = {m.key for m in load_materials(s, origin="lab")}
+    finally:
+        store.dispose()
+    assert keys == {f"lock-w{w}" for w in range(WORKERS)}
