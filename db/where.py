@@ -9,8 +9,8 @@ Grammar (case-insensitive keywords)::
     OP      := "<" | "<=" | ">" | ">=" | "=" | "==" | "!="
     ATTR    := "family" | "response" | "origin"
 
-A quantity is a number with a unit (``125 degC``, ``400 V/um``, ``1.2 g/cm^3``); dimensionless properties take a
-bare number. A property is compared by its reference value (small-signal, nearest 25 °C and 1 kHz); a material
+A quantity is a number with a unit (``125 degC``, ``400 V/um``, ``1.2 g/cm^3``, ``0.2 W/(m K)``: brackets right
+after a ``/`` belong to the unit); dimensionless properties take a bare number. A property is compared by its reference value (small-signal, nearest 25 °C and 1 kHz); a material
 without the property fails every comparison on it (so ``not`` of such a comparison holds).
 """
 
@@ -159,8 +159,22 @@ class _Parser:
             raise _error(self.expr, n.pos, "expected a number")
         unit_parts = []
         unit_pos = self.peek().pos
-        while self.peek().kind == "word" and self.peek().text.lower() not in _KEYWORDS:
-            unit_parts.append(self.take().text)
+        while True:
+            t = self.peek()
+            if t.kind == "word" and t.text.lower() not in _KEYWORDS:
+                unit_parts.append(self.take().text)
+            elif t.kind == "lp" and unit_parts and unit_parts[-1].endswith("/"):
+                # A bracketed denominator, as in W/(m K): part of the unit, not a group of the filter.
+                self.take()
+                inner = []
+                while self.peek().kind in ("word", "num"):
+                    inner.append(self.take().text)
+                if self.peek().kind != "rp" or not inner:
+                    raise _error(self.expr, self.peek().pos, "expected the unit's denominator and ')'")
+                self.take()
+                unit_parts[-1] += "(" + " ".join(inner) + ")"
+            else:
+                break
         si = PROPERTIES[key].si
         try:
             from materials.units import parse_quantity

@@ -59,12 +59,24 @@ def test_and_binds_tighter_than_or_and_parentheses_override():
     ("density < 1200 kg/m**3", "density", 1200.0),
     ("min_thickness < 3 um", "min_thickness", 3e-6),
     ("thermal_conductivity > 0.2 W/m/K", "thermal_conductivity", 0.2),
+    ("thermal_conductivity > 0.2 W/(m K)", "thermal_conductivity", 0.2),   # bracketed, as the property's unit
+    ("thermal_conductivity > 0.2 W/(m*K)", "thermal_conductivity", 0.2),
+    ("thermal_conductivity > 2 mW/(cm K)", "thermal_conductivity", 0.2),
     ("recoverable_energy_density > 5 J/cm^3", "recoverable_energy_density", 5e6),
 ])
 def test_numbers_with_units_become_si(expr, key, si_value):
     node = parse_where(expr)
     assert node[:2] == ("cmp", key)
     assert node[3] == pytest.approx(si_value, rel=1e-12)
+
+
+def test_a_bracketed_unit_inside_a_group():
+    node = parse_where("(thermal_conductivity > 0.2 W/(m K) or density < 1 g/cm^3) and relative_permittivity > 2")
+    assert node == ("and", ("or", ("cmp", "thermal_conductivity", ">", pytest.approx(0.2)),
+                            ("cmp", "density", "<", pytest.approx(1000.0))),
+                    ("cmp", "relative_permittivity", ">", pytest.approx(2.0)))
+    with pytest.raises(InputError, match="denominator"):
+        parse_where("thermal_conductivity > 0.2 W/(m K")
 
 
 def test_design_example_parses():
