@@ -150,7 +150,30 @@ def _fill(engine, catalog_dir=None, *, only_if_empty: bool = False) -> None:
         write_catalog(s, sources, materials)
         s.add(Meta(key="schema_revision", value=SCHEMA_REVISION))
         s.add(Meta(key="catalog_fingerprint", value=catalog_fingerprint(catalog_dir)))
+        folder = _catalog_folder(catalog_dir)
+        if folder is not None:
+            s.add(Meta(key="catalog_dir", value=folder))
         _stamp_alembic(s.connection())
+
+
+def _catalog_folder(directory=None) -> str | None:
+    """The catalog folder a store is built from, as recorded in ``meta``: None for the shipped catalog."""
+    from materials.catalog_io import CATALOG_DIR, catalog_dir
+
+    folder = Path(directory or catalog_dir()).resolve()
+    return None if folder == CATALOG_DIR.resolve() else str(folder)
+
+
+def _same_catalog_folder(conn) -> bool:
+    """Whether the store was built from the catalog folder in use now (the shipped one, or $HOLDOFF_CATALOG).
+
+    Only then does a different fingerprint mean an older catalog: a store built from a curator's folder is not
+    rebuilt from the shipped catalog, nor called out of date against it.
+    """
+    from sqlalchemy import text
+
+    recorded = conn.execute(text("SELECT value FROM meta WHERE key = 'catalog_dir'")).scalar()
+    return recorded == _catalog_folder()
 
 
 def _stamp_alembic(conn) -> None:
@@ -383,7 +406,7 @@ def _stale_catalog_only(engine) -> bool:
     try:
         with engine.connect() as c:
             fp = c.execute(text("SELECT value FROM meta WHERE key = 'catalog_fingerprint'")).scalar()
-            if fp is None or fp == catalog_fingerprint():
+            if fp is None or fp == catalog_fingerprint() or not _same_catalog_folder(c):
                 return False
             others = c.execute(text("SELECT count(*) FROM material WHERE origin != 'catalog'")).scalar()
             sets = c.execute(text("SELECT count(*) FROM breakdown_set")).scalar()
@@ -414,7 +437,8 @@ def empty_store(url: str = "sqlite://") -> Store:
 
 
 def catalog_is_current(store: Store) -> bool | None:
-    """True/False whether the store was built from today's catalog files; None if unknown."""
+    """True/False whether the store was built from today's catalog files; None if unknown (no fingerprint, or
+    built from another catalog folder than the one in use)."""
     from sqlalchemy import select
 
     from db.models import Meta
@@ -422,4 +446,5 @@ def catalog_is_current(store: Store) -> bool | None:
 
     with store.session() as s:
         row = s.execute(select(Meta.value).where(Meta.key == "catalog_fingerprint")).scalar()
-    return None if row is None else row == catalog_fingerprint()
+        same = _same_catalog_folder(s.connection())
+    return None if row is None or not same else row == catalog_fingerprint()
