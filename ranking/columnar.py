@@ -160,15 +160,31 @@ def _filled(a, fallback):
 
 
 def _eligible(t: ValueTable, active: np.ndarray, mat: np.ndarray) -> np.ndarray:
-    """Materials the column-wise rules cover (see the module docstring); the rest are ``slow``."""
+    """Materials the column-wise rules cover (see the module docstring); the rest are ``slow``.
+
+    So are materials with more than MAX_POINTS temperatures in one property: the arrays here are padded to the
+    longest curve, which a dense sweep stored as values would make huge.
+    """
     m = len(t)
+    if mat.size:
+        temps = active & ~np.isnan(t.temperature_K)  # rows are sorted by material, property, temperature
+        tm, tp, tt = mat[temps], t.prop[temps], t.temperature_K[temps]
+        new = np.ones(tm.size, dtype=bool)
+        new[1:] = (tm[1:] != tm[:-1]) | (tp[1:] != tp[:-1]) | (tt[1:] != tt[:-1])
+        group = np.ones(tm.size, dtype=bool)
+        group[1:] = (tm[1:] != tm[:-1]) | (tp[1:] != tp[:-1])
+        counts = np.add.reduceat(new.astype(np.int64), np.flatnonzero(group)) if tm.size else np.zeros(0, int)
+        dense = np.zeros(m, dtype=bool)
+        dense[tm[np.flatnonzero(group)][counts > MAX_POINTS]] = True
+    else:
+        dense = np.zeros(m, dtype=bool)
     bad_row = active & (~np.isnan(t.field_V_per_m)) & (t.field_V_per_m != 0)
     cc = t.code("capacitance_change")
     if cc >= 0:
         bad_row |= active & (t.prop == cc)
     slow = np.bincount(mat[bad_row], minlength=m) > 0
     slow |= np.array([r != "linear" for r in t.responses], dtype=bool)
-    return ~slow
+    return ~(slow | dense)
 
 
 def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None) -> Columns:
@@ -199,9 +215,6 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     cv = {p: curve(p) for p in ("relative_permittivity", "breakdown_field", "weibull_shape", "max_temperature",
                                 "min_temperature", "min_thickness", "density", "self_healing")}
     cv["loss_tangent"] = curve("loss_tangent", target.frequency_Hz)
-    for c in cv.values():
-        if c.k > MAX_POINTS:
-            elig &= c.n <= MAX_POINTS
     slow = ~elig
     ok = elig.copy()
     everyone = np.arange(m)

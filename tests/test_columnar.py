@@ -159,6 +159,21 @@ def test_bias_curves_and_nonlinear_materials_go_per_material(make_material):
     assert cols.slow.tolist() == [False, False, True, False, True]
 
 
+def test_a_dense_temperature_sweep_goes_per_material(make_material):
+    """A property with more than MAX_POINTS temperatures would make the padded arrays huge: left per material."""
+    from ranking.columnar import MAX_POINTS
+
+    sweep = [("relative_permittivity", 3.0 - i * 1e-3, "paper", {"temperature_K": 200.0 + i})
+             for i in range(MAX_POINTS + 1)]
+    rest = [("breakdown_field", 5e8, "handbook", {"temperature_K": 298.15}), ("max_temperature", 420.0, "handbook"),
+            ("min_temperature", 200.0, "handbook")]
+    mats = [make_material("dense", sweep + rest), make_material("sparse", sweep[:MAX_POINTS] + rest)]
+    target = Target(voltage_V=400.0, tmin_K=233.15, tmax_K=358.15, energy_J=1.0, assume_defaults=True)
+    cols = evaluate_columns(ValueTable.from_materials(mats), target)
+    assert cols.slow.tolist() == [True, False]
+    assert _compare(mats, target) == 1
+
+
 def test_shortlist_on_a_table_equals_the_per_material_run(mem_store, monkeypatch):
     """The ranking from the column-wise path equals the one from evaluating each material on its own."""
     import ranking.columnar as col
