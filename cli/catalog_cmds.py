@@ -28,26 +28,13 @@ def _value_json(v) -> dict:
     return d
 
 
-def _summary(m) -> dict:
-    from materials.lookup import reference_value
-
-    def ref(p):
-        return reference_value(m, p)
-
-    return {"key": m.key, "name": m.name, "family": m.family, "form": m.form, "origin": m.origin,
-            "response": m.response, "relative_permittivity": ref("relative_permittivity"),
-            "loss_tangent": ref("loss_tangent"), "breakdown_field_V_per_m": ref("breakdown_field"),
-            "min_temperature_K": ref("min_temperature"), "max_temperature_K": ref("max_temperature"),
-            "source_kinds": sorted({v.source.kind for v in m.values})}
-
-
 def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only this family "
                                                           "(polymer-film, ceramic-class-2, …).")] = None,
             where: Annotated[Optional[str], typer.Option("--where", help="Filter, e.g. "
                              "\"relative_permittivity > 3 and max_temperature >= 125 degC\".")] = None,
             json_out: JsonOpt = False):
     """List materials with their headline values (reference: small-signal, ~25 °C, ~1 kHz)."""
-    from db.query import list_materials
+    from db.query import summaries
     from materials.errors import InputError
     from materials.properties import FAMILIES
 
@@ -57,9 +44,8 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
         from db.where import parse_where
 
         parse_where(where)  # a bad expression fails before the store is opened
-    with state.store().session() as s:
-        mats = list_materials(s, family=family, where=where)
-    rows = [_summary(m) for m in mats]
+    with state.store().reading() as conn:
+        rows = summaries(conn, family=family, where=where)
     if json_out:
         from cli.output import print_json
 

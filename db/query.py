@@ -114,6 +114,53 @@ def _fetch(conn, stmt) -> list[tuple]:
         cur.close()
 
 
+SUMMARY_PROPERTIES = ("relative_permittivity", "loss_tangent", "breakdown_field", "min_temperature",
+                      "max_temperature")
+
+
+def summaries(session, *, family: str | None = None, where: str | None = None) -> list[dict]:
+    """The catalog listing: each material of ``family`` that satisfies ``where``, with its headline reference
+    values (small-signal, nearest 25 °C and 1 kHz; None where missing) and the kinds of source behind its values.
+
+    Read column-wise (:func:`materials.lookup_columns.reference_values`): the same numbers as
+    :func:`list_materials` with :func:`materials.lookup.reference_value`, without a record per value.
+    """
+    import numpy as np
+
+    from materials.lookup_columns import reference_values
+
+    keys, pred = set(), None
+    if where:
+        from db.where import compile_where_values
+
+        keys, pred = compile_where_values(where)
+    t = load_table(session, family=family)
+    refs = {k: v.tolist() for k, v in reference_values(t, sorted(set(SUMMARY_PROPERTIES) | keys)).items()}
+    mat = t.material_of_row
+    pairs = np.unique(mat * (len(t.source_kinds) + 1) + t.source) if mat.size else np.zeros(0, np.int64)
+    kinds: list[set] = [set() for _ in range(len(t))]
+    for code in pairs.tolist():
+        kinds[code // (len(t.source_kinds) + 1)].add(t.source_kinds[code % (len(t.source_kinds) + 1)])
+
+    def ref(p, i):
+        v = refs[p][i]
+        return None if v != v else v
+
+    out = []
+    for i in range(len(t)):
+        if pred is not None and not pred({k: ref(k, i) for k in keys}, {"family": t.families[i],
+                                                                         "response": t.responses[i],
+                                                                         "origin": t.origins[i]}):
+            continue
+        out.append({"key": t.keys[i], "name": t.names[i], "family": t.families[i], "form": t.forms[i],
+                    "origin": t.origins[i], "response": t.responses[i],
+                    "relative_permittivity": ref("relative_permittivity", i), "loss_tangent": ref("loss_tangent", i),
+                    "breakdown_field_V_per_m": ref("breakdown_field", i),
+                    "min_temperature_K": ref("min_temperature", i), "max_temperature_K": ref("max_temperature", i),
+                    "source_kinds": sorted(kinds[i])})
+    return out
+
+
 def get_material(session, key: str, *, include_retired: bool = False) -> MaterialData:
     """One material by key; DataError naming the key if absent."""
     return load_materials(session, [key], include_retired=include_retired)[0]

@@ -240,3 +240,12 @@ def compile_where(expr: str):
         return evaluate(tree, values, {"family": m.family, "response": m.response, "origin": m.origin})
 
     return predicate
+
+
+def compile_where_values(expr: str):
+    """``(keys, predicate)``: the properties the expression reads, and a predicate over their reference values
+    (property → SI or None) and the attributes ``family``, ``response``, ``origin`` — for callers that already
+    hold the values of many materials (:func:`db.query.summaries`)."""
+    tree = parse_where(expr)
+    return _keys(tree, set()), lambda values, attrs: evaluate(tree, values, attrs)
+

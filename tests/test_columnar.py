@@ -206,3 +206,67 @@ def test_shortlist_on_a_table_equals_the_per_material_run(mem_store, monkeypatch
                 assert a[k] == b[k], (a["label"], k)
             for n, v in a["criteria"].items():
                 assert v == pytest.approx(b["criteria"][n], rel=1e-12)
+
+
+def _with_bias_and_odd_frequencies(rng, m: MaterialData) -> MaterialData:
+    """Add what the reference lookup must step over: DC-bias rows, zero frequencies, bias-only properties."""
+    extra = []
+    if rng.random() < 0.5:
+        extra.append(StoredValue(id=1000, property="relative_permittivity", value=1.5, field_V_per_m=1e7,
+                                 temperature_K=298.15, source=SourceRef("paper-x", "paper", "bias paper")))
+    if rng.random() < 0.3:
+        extra.append(StoredValue(id=1001, property="loss_tangent", value=5e-3, frequency_Hz=0.0,
+                                 source=SourceRef("paper-x", "paper", "bias paper")))
+    if rng.random() < 0.3:  # a property known only under bias
+        extra.append(StoredValue(id=1002, property="recoverable_energy_density", value=2e6, field_V_per_m=2e8,
+                                 source=SourceRef("paper-x", "paper", "bias paper")))
+    return MaterialData(key=m.key, name=m.name, family=m.family, values=m.values + extra)
+
+
+def test_reference_values_equal_the_per_material_lookup(mem_store):
+    from db.query import load_table
+    from materials.lookup import reference_value
+    from materials.lookup_columns import reference_values
+
+    rng = np.random.default_rng(11)
+    mats = [_with_bias_and_odd_frequencies(rng, _random_material(rng, i)) for i in range(200)]
+    with mem_store.session() as s:
+        mats += load_table(s).materials()
+    table = ValueTable.from_materials(mats)
+    props = sorted({v.property for m in mats for v in m.values})
+    got = reference_values(table, props)
+    for i, m in enumerate(mats):
+        for p in props:
+            want = reference_value(m, p)
+            if want is None:
+                assert np.isnan(got[p][i]), (m.key, p)
+            else:
+                assert got[p][i] == pytest.approx(want, rel=1e-15, abs=0), (m.key, p)
+
+
+def _old_summary(m) -> dict:
+    """The catalog listing row as it was computed per material."""
+    from materials.lookup import reference_value
+
+    def ref(p):
+        return reference_value(m, p)
+
+    return {"key": m.key, "name": m.name, "family": m.family, "form": m.form, "origin": m.origin,
+            "response": m.response, "relative_permittivity": ref("relative_permittivity"),
+            "loss_tangent": ref("loss_tangent"), "breakdown_field_V_per_m": ref("breakdown_field"),
+            "min_temperature_K": ref("min_temperature"), "max_temperature_K": ref("max_temperature"),
+            "source_kinds": sorted({v.source.kind for v in m.values})}
+
+
+@pytest.mark.parametrize("family, where", [
+    (None, None), ("polymer-film", None), (None, "relative_permittivity > 3 and max_temperature >= 125 degC"),
+    (None, "not has loss_tangent or family = gas"), (None, "breakdown_field > 300 V/um and response = linear"),
+    ("ceramic-class-2", "relative_permittivity > 1000"),
+])
+def test_catalog_listing_equals_the_per_material_listing(mem_store, family, where):
+    from db.query import list_materials, summaries
+
+    with mem_store.session() as s:
+        old = [_old_summary(m) for m in list_materials(s, family=family, where=where)]
+        new = summaries(s, family=family, where=where)
+    assert new == old
