@@ -109,7 +109,9 @@ def shortlist(
     if export:
         from ranking.report import export_result
 
-        export_result(result, export, force=force, materials=table.materials())
+        # Only the HTML report draws charts, which need the materials' records.
+        charted = export.suffix.lower() in (".html", ".htm")
+        export_result(result, export, force=force, materials=table.materials() if charted else None)
     if json_out:
         from cli.output import print_json
 

@@ -148,8 +148,9 @@ def map_chart(materials, *, highlight=(), temperature_K: float | None = None, la
     Each material is a marker at its small-signal εr and breakdown field (reference condition, or
     ``temperature_K``) with its value range as error bars. The grey lines are ``U = ½·ε0·εr·E²`` held constant,
     i.e. ``εr = 2U/(ε0·E²)``: straight lines of slope −2 on these axes, labelled in J/cm³. Materials in
-    ``highlight`` (keys) are drawn filled and black; the rest open and grey. Materials lacking either property
-    are left out and listed in the figure's ``skipped`` attribute.
+    ``highlight`` (keys) are drawn filled and black; the rest open and grey (as one marker set, gid
+    ``materials:others``, beyond MAP_SINGLE_ARTISTS materials). Materials lacking either property are left out and
+    listed in the figure's ``skipped`` attribute.
 
     Args:
         materials: :class:`~materials.records.MaterialData` list.
@@ -210,8 +211,20 @@ def map_chart(materials, *, highlight=(), temperature_K: float | None = None, la
     if labels is None:
         labels = True if len(pts) <= 20 else "highlight"
     legend_done = {True: False, False: False}
+    grouped = len(pts) > MAP_SINGLE_ARTISTS
+    if grouped:
+        rest = np.array([m.key not in highlight for m, *_ in pts])
+        cont = ax.errorbar(
+            e[rest], r[rest], xerr=[e[rest] - e_lo[rest], e_hi[rest] - e[rest]],
+            yerr=[r[rest] - r_lo[rest], r_hi[rest] - r[rest]], fmt="s", markersize=4, color="0.45",
+            markerfacecolor="white", ecolor="0.75", elinewidth=0.6, capsize=0, zorder=3,
+            label=f"other ({int(rest.sum())})" if highlight else f"material ({int(rest.sum())})")
+        cont.lines[0].set_gid("materials:others")
+        legend_done[False] = True
     for i, (m, *_rest) in enumerate(pts):
         hi = m.key in highlight
+        if grouped and not hi:
+            continue
         cont = ax.errorbar(
             e[i], r[i], xerr=[[e[i] - e_lo[i]], [e_hi[i] - e[i]]], yerr=[[r[i] - r_lo[i]], [r_hi[i] - r[i]]],
             fmt="o" if hi else "s", markersize=6 if hi else 5, color="black" if hi else "0.45",
@@ -550,12 +563,19 @@ def loop_chart(field, polarization, *, title: str | None = None):
 
 # --- a chart a shortlist result alone can give ----------------------------------------------------------------
 
+SCORE_ROWS = 30  # bars in the score chart; a longer ranking shows its head (the table has every row)
+# Beyond this many materials the map draws the ones not highlighted as one artist (one marker set, one legend
+# entry), not one per material: thousands of separate error-bar artists take minutes to draw.
+MAP_SINGLE_ARTISTS = 200
+
+
 def score_chart(result: dict):
-    """Horizontal bars of each ranked material's score, with its probability of ranking first printed.
+    """Horizontal bars of the ranked materials' scores (the first SCORE_ROWS), with P(first) printed.
 
     ``result`` is a shortlist result dict (see :func:`ranking.shortlist.shortlist`).
     """
-    ranked = list(result.get("ranked") or [])
+    every = list(result.get("ranked") or [])
+    ranked = every[:SCORE_ROWS]
     fig, ax = _figure(7.0, max(2.0, 0.35 * len(ranked) + 1.2))
     if not ranked:
         ax.text(0.5, 0.5, "no material ranked", transform=ax.transAxes, ha="center", va="center")
@@ -574,6 +594,8 @@ def score_chart(result: dict):
     method = result.get("method", "")
     ax.set_xlabel(f"score ({method})" if method else "score")
     ax.set_xlim(0, max(scores) * 1.35 if max(scores) > 0 else 1)
-    ax.set_title("Ranking", loc="left", fontsize=11)
+    total = (result.get("counts") or {}).get("ranked", len(every))
+    ax.set_title("Ranking" if total <= len(ranked) else f"Ranking: the first {len(ranked)} of {total}", loc="left",
+                 fontsize=11)
     ax.grid(True, axis="x", color="0.92", linewidth=0.5)
     return fig

@@ -326,17 +326,19 @@ def comparison_frame(obj):
 
     rep = as_report(obj)
     records = []
+    layers = rep.has_thickness  # (once: each is a pass over every row)
+    any_top_k = any(x.p_top_k is not None for x in rep.rows)
     for r in rep.rows:
         d = {}
         if rep.kind == "shortlist":
             d["rank"] = r.rank
         d["key"], d["name"], d["family"] = r.key, r.name, r.family
-        if rep.has_thickness:
+        if layers:
             d["layer thickness [µm]"] = None if r.thickness_m is None else r.thickness_m * 1e6
         if rep.kind == "shortlist":
             d["score"] = r.score
             d["P(first)"] = r.p_top
-            if any(x.p_top_k is not None for x in rep.rows):
+            if any_top_k:
                 d[f"P(top {rep.top_k})" if rep.top_k else "P(top k)"] = r.p_top_k
         for c in rep.columns:
             d[c.header] = convert(r.values.get(c.name), c.unit, c.display_unit)
@@ -685,9 +687,10 @@ def to_markdown(obj) -> str:
     head += [c.header for c in rep.columns]
     out += ["| " + " | ".join(_md(h) for h in head) + " |",
             "|" + "|".join("---:" if i >= 2 else "---" for i in range(len(head))) + "|"]
+    layers = rep.has_thickness
     for r in rep.rows:
         cells = ([str(r.rank)] if rep.kind == "shortlist" else []) + [f"{_md(r.name)} (`{r.key}`)", _md(r.family)]
-        if rep.has_thickness:
+        if layers:
             cells.append(fmt_number(None if r.thickness_m is None else r.thickness_m * 1e6))
         if rep.kind == "shortlist":
             cells += [fmt_number(r.score, 3), "—" if r.p_top is None else f"{r.p_top:.0%}"]
@@ -764,11 +767,13 @@ def report_charts(obj, *, top: int = 6) -> list[tuple[str, str, object]]:
     area = None
     if rep.kind == "shortlist" and rep.target and rep.target.get("tmin_K") is not None:
         t0, t1 = rep.target["tmin_K"], rep.target["tmax_K"]
-        keys = []
+        keys: dict[str, None] = {}
         for r in rep.rows:
-            if r.key in by_key and r.key not in keys:
-                keys.append(r.key)
-        chosen = [by_key[k] for k in keys[:top]]
+            if r.key in by_key:
+                keys.setdefault(r.key)
+                if len(keys) == top:
+                    break
+        chosen = [by_key[k] for k in keys]
         pad = max(10.0, 0.1 * (t1 - t0))
         temps = np.linspace(t0 - pad, t1 + pad, 15)
         cap = ("Design energy density (breakdown field scaled to the part's area and failure probability, divided "
@@ -893,12 +898,13 @@ def to_html(obj, *, charts: bool = True) -> str:
         h.append(f'<th title="{_e(c.formula)}">{_e(c.label)}' + (f'<span class="unit">{_e(u)}</span>' if u else "")
                  + "</th>")
     h.append("</tr></thead><tbody>")
+    layers = rep.has_thickness
     for r in rep.rows:
         h.append(f'<tr id="row-{_e(r.label or r.key)}">')
         if shortlist:
             h.append(f'<td class="num">{r.rank}</td>')
         h.append(f"<td>{_e(r.name)}<br><code>{_e(r.key)}</code></td><td>{_e(r.family)}</td>")
-        if rep.has_thickness:
+        if layers:
             h.append(f'<td class="num">{fmt_number(None if r.thickness_m is None else r.thickness_m * 1e6)}</td>')
         if shortlist:
             h.append(f'<td class="num">{fmt_number(r.score, 3)}</td>')

@@ -307,3 +307,23 @@ def test_cli_chart_weibull_of_stored_sets(cli, tmp_path):
     assert "polypropylene-bopp: set 1" in json.loads(stdout)["fits"]
     code, _o, stderr = cli(["chart", "weibull", "--material", "pet-film", "--out", tmp_path / "w2.png"])
     assert code == 2 and "no stored breakdown sets" in stderr
+
+
+def test_a_big_map_draws_the_rest_as_one_marker_set(make_material):
+    """Thousands of separate error-bar artists take minutes to draw; beyond a limit the rest are one set."""
+    n = charts.MAP_SINGLE_ARTISTS + 50
+    many = [make_material(f"m{i}", [("relative_permittivity", 2.0 + i / n, "handbook"),
+                                    ("breakdown_field", 3e8 + 1e5 * i, "handbook")]) for i in range(n)]
+    fig = charts.map_chart(many, highlight=["m1", "m2"])
+    assert sorted(a.get_gid() for a in _lines(fig, "material:")) == ["material:m1", "material:m2"]
+    (rest,) = _lines(fig, "materials:others")
+    assert len(rest.get_xdata()) == n - 2
+    assert any(t.get_text() == f"other ({n - 2})" for t in fig.legends[0].get_texts())
+
+
+def test_the_score_chart_shows_the_head_of_a_long_ranking():
+    ranked = [{"rank": i + 1, "key": f"m{i}", "label": f"m{i}", "score": 1 - i / 100, "p_top": 0.0}
+              for i in range(charts.SCORE_ROWS + 20)]
+    fig = charts.score_chart({"ranked": ranked, "method": "topsis", "counts": {"ranked": 5000}})
+    assert len(_by_gid(fig, "score:")) == charts.SCORE_ROWS
+    assert fig.axes[0].get_title(loc="left") == f"Ranking: the first {charts.SCORE_ROWS} of 5000"
