@@ -113,5 +113,7 @@ def make_engine(url: str, *, create_dirs: bool = True):
         @event.listens_for(engine, "begin")
         def _begin(conn):  # pragma: no cover
             # Take the write lock at the start of every transaction: no lock upgrades, no SQLITE_BUSY mid-way.
-            conn.exec_driver_sql("BEGIN IMMEDIATE")
+            # A read-only transaction (Store.reading) takes none: in WAL mode it reads a snapshot and neither
+            # waits for writers nor holds them up.
+            conn.exec_driver_sql("BEGIN" if conn.get_execution_options().get("holdoff_read") else "BEGIN IMMEDIATE")
     return engine

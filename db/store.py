@@ -29,8 +29,10 @@ class Store:
 
     @contextlib.contextmanager
     def reading(self):
-        """A plain (Core) connection in one transaction, for reads that need no ORM (rolled back at the end)."""
+        """A plain (Core) connection in one read-only transaction (rolled back at the end), for reads that need no
+        ORM. On SQLite it takes no write lock: it reads one consistent snapshot while writers go on."""
         with self.engine.connect() as conn:
+            conn = conn.execution_options(holdoff_read=True)
             with conn.begin() as tx:
                 yield conn
                 tx.rollback()

@@ -1,4 +1,4 @@
-"""Commands opening a missing SQLite store at the same moment build it once, and nothing written is lost.
+"""Locks around a SQLite store: simultaneous first opens build it once and lose no write; a read takes no lock.
 
 Without the build lock every process would build its own file and swap it in; a later swap would discard the
 records an earlier process had already written to the file it built.
@@ -56,3 +56,30 @@ def test_simultaneous_first_opens_build_once_and_keep_every_write(tmp_path):
     finally:
         store.dispose()
     assert keys == {f"lock-w{w}" for w in range(WORKERS)}
+
+
+def test_a_read_neither_waits_for_a_writer_nor_sees_its_uncommitted_rows(tmp_path):
+    """Store.reading() takes no write lock on SQLite (WAL): a shortlist runs while another command writes."""
+    import sqlite3
+    import time
+
+    from db.query import load_table
+    from db.store import build, open_store
+
+    path = tmp_path / "s.sqlite"
+    url = f"sqlite:///{path}"
+    build(url, catalog_dir=pg.MINI_CATALOG)
+    store = open_store(url, create=False)
+    writer = sqlite3.connect(path, isolation_level=None)
+    try:
+        writer.execute("BEGIN IMMEDIATE")  # another command holds the write lock...
+        writer.execute("UPDATE material SET name = 'renamed' WHERE key = 'mini-film'")
+        t0 = time.perf_counter()
+        with store.reading() as conn:
+            table = load_table(conn)
+        assert time.perf_counter() - t0 < 5  # (a write-locking read would wait out the 30 s busy timeout)
+        assert "renamed" not in table.names and len(table) == 4
+    finally:
+        writer.execute("ROLLBACK")
+        writer.close()
+        store.dispose()
