@@ -72,7 +72,7 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
     """Every value of one material with its conditions and its source."""
     from db.query import get_material
 
-    with state.store().session() as s:
+    with state.store().session(read_only=True) as s:
         m = get_material(s, key, include_retired=history)
         sets = _sets(s, key)
     if json_out:
@@ -132,7 +132,7 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
 
     if kind and kind not in SOURCE_KINDS:
         raise InputError(f"--kind: '{kind}' is not one of {', '.join(SOURCE_KINDS)}")
-    with state.store().session() as s:
+    with state.store().session(read_only=True) as s:
         rows = list_sources(s, kind=kind)
         counts = counts_by_kind(s)
     total = sum(counts.values())

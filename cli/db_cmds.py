@@ -28,7 +28,7 @@ def init(force: Annotated[bool, typer.Option("--force", help="Rebuild even if th
 
     from db.models import Material, Source
 
-    with st.session() as s:
+    with st.session(read_only=True) as s:
         n_mat = s.execute(select(func.count(Material.id))).scalar()
         n_src = s.execute(select(func.count(Source.id))).scalar()
         kinds = counts_by_kind(s)

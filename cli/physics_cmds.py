@@ -37,7 +37,7 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
         raise InputError("--failure-prob must lie between 0 and 1")
     if margin < 1:
         raise InputError("--margin must be 1 or more")
-    with state.store().session() as s:
+    with state.store().session(read_only=True) as s:
         mats = {m.key: m for m in load_materials(s, keys)}
     rows = [ceiling_at(mats[k], temperature_K=t, area_m2=a, failure_probability=failure_prob, margin=margin,
                        extrapolate=extrapolate, assume_defaults=assume_defaults) for k in keys for t in temps]
@@ -88,7 +88,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
     from materials.units import parse_option
     from ranking.part import size_material
 
-    with state.store().session() as s:
+    with state.store().session(read_only=True) as s:
         m = get_material(s, key)
     res = size_material(
         m, energy_J=parse_option(energy, "energy", name="--energy"),

@@ -61,7 +61,7 @@ def _load(keys=None, family=None):
     from db.query import load_materials
 
     keys = list(dict.fromkeys(keys)) if keys else None
-    with state.store().session() as s:
+    with state.store().session(read_only=True) as s:
         mats = load_materials(s, keys, family=family)
     if keys:
         order = {k: i for i, k in enumerate(keys)}
@@ -283,7 +283,7 @@ def chart_weibull(
     if material:
         from db.labdata import describe_sets, read_points
 
-        with state.store().session() as s:
+        with state.store().session(read_only=True) as s:
             for key in material:
                 stored = describe_sets(s, key)["breakdown_sets"]
                 if not stored:
@@ -325,7 +325,7 @@ def chart_loop(
             raise InputError("--material needs --label (see 'holdoff show KEY' for the stored loops)")
         from db.labdata import read_loop_points
 
-        with state.store().session() as s:
+        with state.store().session(read_only=True) as s:
             e, p = read_loop_points(s, material, label)
         title = f"{material}: {label}"
     fig = loop_chart(e, p, title=f"Polarisation–field loop: {title}")

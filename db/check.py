@@ -28,7 +28,7 @@ def check_store(store) -> list[Finding]:
             out += [Finding("error", f"foreign key broken in table {r[0]} row {r[1]} → {r[2]}") for r in fk[:10]]
         else:
             c.execute(text("SELECT 1"))
-    with store.session() as s:
+    with store.session(read_only=True) as s:
         orphans = s.execute(select(func.count()).select_from(PropertyValue)
                             .outerjoin(Source, PropertyValue.source_id == Source.id)
                             .where(Source.id.is_(None))).scalar()

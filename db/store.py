@@ -19,13 +19,20 @@ class Store:
     engine: object
 
     @contextlib.contextmanager
-    def session(self):
-        """A session in one transaction: committed on success, rolled back on any error."""
+    def session(self, *, read_only: bool = False):
+        """A session in one transaction: committed on success, rolled back on any error.
+
+        ``read_only``: for commands that only read; on SQLite the transaction then takes no write lock (see
+        :meth:`reading`) and is rolled back at the end.
+        """
         from sqlalchemy.orm import Session
 
-        with Session(self.engine, expire_on_commit=False) as s:
+        bind = self.engine.execution_options(holdoff_read=True) if read_only else self.engine
+        with Session(bind, expire_on_commit=False) as s:
             with s.begin():
                 yield s
+                if read_only:
+                    s.rollback()
 
     @contextlib.contextmanager
     def reading(self):
@@ -446,7 +453,7 @@ def catalog_is_current(store: Store) -> bool | None:
     from db.models import Meta
     from materials.catalog_io import catalog_fingerprint
 
-    with store.session() as s:
+    with store.session(read_only=True) as s:
         row = s.execute(select(Meta.value).where(Meta.key == "catalog_fingerprint")).scalar()
         same = _same_catalog_folder(s.connection())
     return None if row is None or not same else row == catalog_fingerprint()
