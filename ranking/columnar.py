@@ -72,6 +72,11 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     from ranking.ceiling import DEFAULT_TEST_AREA_M2, DEFAULT_WEIBULL_SHAPE
 
     m = len(t)
+    if not t.value.size:  # materials without a single value: the per-material path names what is missing
+        return Columns(slow=np.ones(m, dtype=bool), ok=np.zeros(m, dtype=bool),
+                       values={n: np.full(m, np.nan) for n in CRITERIA_NAMES},
+                       low={n: np.full(m, np.nan) for n in CRITERIA_NAMES},
+                       high={n: np.full(m, np.nan) for n in CRITERIA_NAMES})
     mat = t.material_of_row
     active = ~t.retired
     elig = _eligible(t, active, mat)

@@ -270,3 +270,21 @@ def test_catalog_listing_equals_the_per_material_listing(mem_store, family, wher
         old = [_old_summary(m) for m in list_materials(s, family=family, where=where)]
         new = summaries(s, family=family, where=where)
     assert new == old
+
+
+def test_materials_without_values_and_empty_lists(make_material):
+    """No value at all in the table (or no material): verdicts with reasons, not an index error."""
+    from materials.lookup_columns import reference_values
+    from ranking.shortlist import shortlist
+
+    target = next(_targets())
+    assert shortlist([], target)["counts"] == {"ranked": 0, "excluded": 0}
+    bare = make_material("bare", [])
+    res = shortlist([bare], target)
+    assert res["counts"] == {"ranked": 0, "excluded": 1}
+    assert "relative_permittivity missing" in res["excluded"][0]["reasons"]
+    one = make_material("one", [("density", 905.0, "handbook")])
+    res = shortlist([bare, one], target)
+    assert [e["key"] for e in res["excluded"]] == ["bare", "one"]
+    refs = reference_values(ValueTable.from_materials([bare, one]), ["density", "loss_tangent"])
+    assert np.isnan(refs["density"][0]) and refs["density"][1] == 905.0 and np.isnan(refs["loss_tangent"]).all()
