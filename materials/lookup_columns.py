@@ -147,16 +147,31 @@ def _filled(a, fallback):
     return np.where(np.isnan(a), fallback, a)
 
 
+def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
+    """Per row: whether its source is a lab's, and its source's evidence tier (materials.lookup.TIER)."""
+    if not t.source.size:
+        return np.zeros(0, bool), np.zeros(0, np.int64)
+    lab = np.array([k == "lab" for k in t.source_kinds], dtype=bool)
+    tier = np.array([TIER.get(k, 9) for k in t.source_kinds], dtype=np.int64)
+    return lab[t.source], tier[t.source]
+
+
+def distinct_temperatures(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int) -> np.ndarray:
+    """Per material, how many distinct temperatures ``rows`` (of one property, in table order) state."""
+    rows = rows[~np.isnan(t.temperature_K[rows])]
+    rm, rt = mat[rows], t.temperature_K[rows]
+    new = np.ones(rows.size, dtype=bool)
+    new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])  # table order: by material, then temperature
+    return np.bincount(rm[new], minlength=m)
+
+
 def reference_values(t: ValueTable, props) -> dict[str, np.ndarray]:
     """Each material's reference value of each of ``props`` (small-signal, nearest 25 °C and 1 kHz, SI): what
     :func:`materials.lookup.reference_value` gives, NaN where the material lacks the property."""
     m = len(t)
     mat = t.material_of_row
     active = ~t.retired
-    lab_source = np.array([k == "lab" for k in t.source_kinds] or [False], dtype=bool)
-    lab_row = lab_source[t.source] if t.source.size else np.zeros(0, bool)
-    tier = (np.array([TIER.get(k, 9) for k in t.source_kinds] or [9], dtype=np.int64)[t.source]
-            if t.source.size else np.zeros(0, np.int64))
+    lab_row, tier = row_sources(t)
     out = {}
     everyone = np.arange(m)
     for prop in props:

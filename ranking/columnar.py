@@ -18,8 +18,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, TIER
-from materials.lookup_columns import Curve as _Curve, Lookup as _Lookup, pick_rows as _pick_rows
+from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K
+from materials.lookup_columns import Curve as _Curve, Lookup as _Lookup, distinct_temperatures, row_sources
+from materials.lookup_columns import pick_rows as _pick_rows
 from materials.table import ValueTable
 
 EPSILON_0 = 8.8541878188e-12  # F/m, as materials.energy
@@ -46,18 +47,9 @@ def _eligible(t: ValueTable, active: np.ndarray, mat: np.ndarray) -> np.ndarray:
     longest curve, which a dense sweep stored as values would make huge.
     """
     m = len(t)
-    if mat.size:
-        temps = active & ~np.isnan(t.temperature_K)  # rows are sorted by material, property, temperature
-        tm, tp, tt = mat[temps], t.prop[temps], t.temperature_K[temps]
-        new = np.ones(tm.size, dtype=bool)
-        new[1:] = (tm[1:] != tm[:-1]) | (tp[1:] != tp[:-1]) | (tt[1:] != tt[:-1])
-        group = np.ones(tm.size, dtype=bool)
-        group[1:] = (tm[1:] != tm[:-1]) | (tp[1:] != tp[:-1])
-        counts = np.add.reduceat(new.astype(np.int64), np.flatnonzero(group)) if tm.size else np.zeros(0, int)
-        dense = np.zeros(m, dtype=bool)
-        dense[tm[np.flatnonzero(group)][counts > MAX_POINTS]] = True
-    else:
-        dense = np.zeros(m, dtype=bool)
+    dense = np.zeros(m, dtype=bool)
+    for code in range(len(t.prop_names)):
+        dense |= distinct_temperatures(t, np.flatnonzero(active & (t.prop == code)), mat, m) > MAX_POINTS
     bad_row = active & (~np.isnan(t.field_V_per_m)) & (t.field_V_per_m != 0)
     cc = t.code("capacitance_change")
     if cc >= 0:
@@ -80,14 +72,9 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     mat = t.material_of_row
     active = ~t.retired
     elig = _eligible(t, active, mat)
-    tier_of_source = np.array([TIER.get(k, 9) for k in t.source_kinds] or [9], dtype=np.int64)
-    conf_of_source = np.array([CONFIDENCE.get(k, 0.0) for k in t.source_kinds] or [0.0])
-    tier = tier_of_source[t.source] if t.source.size else np.zeros(0, np.int64)
-    conf_row = conf_of_source[t.source] if t.source.size else np.zeros(0)
-    use = active & elig[mat] if mat.size else np.zeros(0, bool)
-
-    lab_source = np.array([k == "lab" for k in t.source_kinds] or [False], dtype=bool)
-    lab_row = lab_source[t.source] if t.source.size else np.zeros(0, bool)
+    lab_row, tier = row_sources(t)
+    conf_row = np.array([CONFIDENCE.get(k, 0.0) for k in t.source_kinds])[t.source]
+    use = active & elig[mat]
 
     def rows_of(prop):
         c = t.code(prop)
@@ -104,13 +91,14 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
     ok = elig.copy()
     everyone = np.arange(m)
     nan_x = np.full(m, np.nan)
-    if target.families:
-        ok &= np.array([f in target.families for f in t.families], dtype=bool)
+    fam_ok = np.array([f in target.families for f in t.families], dtype=bool) if target.families else None
+    if fam_ok is not None:
+        ok &= fam_ok
     # Rated temperature range.
+    rated = {p: _Lookup(t, cv[p], everyone, nan_x) for p in ("max_temperature", "min_temperature")}
     for prop, need, worse in (("max_temperature", target.tmax_K, lambda r, x: r < x - 1e-6),
                               ("min_temperature", target.tmin_K, lambda r, x: r > x + 1e-6)):
-        lk = _Lookup(t, cv[prop], everyone, nan_x)
-        ok &= lk.present & ~worse(lk.value, need)
+        ok &= rated[prop].present & ~worse(rated[prop].value, need)
     eps_c, ebd_c = cv["relative_permittivity"], cv["breakdown_field"]
     ok &= eps_c.has & ebd_c.has
     # The worst-case grid: both ends of the range and every eps / breakdown / loss point strictly inside.
@@ -250,11 +238,7 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
         ref = _Lookup(t, eps_c, everyone, np.full(m, REFERENCE_TEMPERATURE_K))
         dev = grid(np.abs(eps_g.value / ref.value[gm] - 1), -np.inf)
         d_t = dev.max(axis=1)
-        eps_rows = rows_of("relative_permittivity")
-        et = t.temperature_K[eps_rows]
-        fin = np.isfinite(et)
-        pairs = np.unique(np.stack([mat[eps_rows][fin].astype(float), et[fin]]), axis=1)
-        n_temps = np.bincount(pairs[0].astype(np.int64), minlength=m) if pairs.size else np.zeros(m, np.int64)
+        n_temps = distinct_temperatures(t, rows_of("relative_permittivity"), mat, m)
         out.values["drift"] = np.where(n_temps >= 2, 1 - (1 - d_t) * (1 - 0.0), nan)
         out.values["healing"] = np.where(heal.present, heals.astype(float), 0.0)
         # Confidence: mean evidence score of the rows behind εr and breakdown on the grid, and behind β.
@@ -273,15 +257,13 @@ def evaluate_columns(t: ValueTable, target, *, thickness_m: float | None = None)
         for name in ("drift", "healing", "confidence"):
             out.low[name] = out.high[name] = out.values[name]
     out.ok &= ~out.slow
-    rated = {p: _Lookup(t, cv[p], everyone, nan_x) for p in ("max_temperature", "min_temperature")}
     with np.errstate(all="ignore"):
         # Short-term failure probability of the part's area at the operating field (criteria._failure_probability).
         link = np.where(has_seg, seg, area)
         scale_part = ebd_v * np.power(test_area / link, 1.0 / beta)
         fail = 1.0 - np.exp(-((e_op / scale_part) ** beta))
     out.parts = dict(
-        table=t, target=target, thickness_m=thickness_m, fam_ok=(np.array([f in target.families for f in t.families],
-                                                                          dtype=bool) if target.families else None),
+        table=t, target=target, thickness_m=thickness_m, fam_ok=fam_ok,
         rated=rated, eps_has=eps_c.has, ebd_has=ebd_c.has, sh=sh, beta=beta, test_area=test_area,
         area_found=found_area, extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
         thick=thick, d_min=d_min, dens=dens, heal=heal, has_seg=has_seg, seg=seg, d=d, area=area, ed=ed, e_op=e_op,
