@@ -122,12 +122,12 @@ def summaries(session, *, family: str | None = None, where: str | None = None) -
     """The catalog listing: each material of ``family`` that satisfies ``where``, with its headline reference
     values (small-signal, nearest 25 °C and 1 kHz; None where missing) and the kinds of source behind its values.
 
-    Read column-wise (:func:`materials.lookup_columns.reference_values`): the same numbers as
+    Read column-wise (:func:`materials.lookup.reference_values`): the same numbers as
     :func:`list_materials` with :func:`materials.lookup.reference_value`, without a record per value.
     """
     import numpy as np
 
-    from materials.lookup_columns import reference_values
+    from materials.lookup import reference_values
 
     keys, pred = set(), None
     if where:
