@@ -36,6 +36,9 @@ LINEAR, BIAS, LOOP, UPPER_BOUND = 0, 1, 2, 3
 METHOD_NAMES = {LINEAR: "linear", BIAS: "bias-curve", LOOP: "loop", UPPER_BOUND: "linear-upper-bound"}
 #: Relative tolerance of the comparisons that decide a verdict (a value at its limit passes).
 TOL = 1e-9
+#: Largest active area a sizing may return (1 km² of electrode, beyond any capacitor bank): a Weibull shape near 1
+#: makes the self-consistent area grow without bound, and such a "size" is no answer.
+MAX_AREA_M2 = 1e6
 
 
 @dataclass
@@ -220,7 +223,7 @@ STAGES = (
     ("value-invalid",),
     ("shape-too-low",),
     ("thinner-than-made",),
-    ("over-design-field", "no-size"),
+    ("over-design-field", "no-size", "area-impractical"),
     ("energy-short", "loss-over", "loss-missing"),
 )
 
@@ -282,6 +285,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         fails["thinner-than-made"] = no
         fails["over-design-field"] = no
         fails["no-size"] = no
+        fails["area-impractical"] = no
         if thickness_m is not None:
             d = np.full(m, float(thickness_m))
             fails["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
@@ -310,6 +314,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
             u_op = energy_density(inp, everyone, e_op)
             fails["no-size"] = ~(converged & np.isfinite(d) & (d > 0) & np.isfinite(area) & (area > 0)
                                  & np.isfinite(u_op) & (u_op > 0))
+            fails["area-impractical"] = ~fails["no-size"] & (area > MAX_AREA_M2)
         else:
             area = np.full(m, np.nan if area_t is None else float(area_t))
             ed = e_design(np.where(np.isfinite(area), area, test_area))
@@ -432,6 +437,8 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
         return code, {"shape": f(inp.beta), "source": _source_key(t, inp.sh.used0[i])}
     if code == "no-size":
         return code, {"energy_J": target.energy_J, "voltage_V": target.voltage_V}
+    if code == "area-impractical":
+        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": f(inp.beta)}
     if code == "thinner-than-made":
         return code, {"thickness_m": P["thickness_m"], "min_thickness_m": f(inp.d_min)}
     if code == "over-design-field":
@@ -523,7 +530,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
     if P["has_seg"][i]:
         ev.flags.append("segment-scaled")
     if ev.codes and ev.codes[0][0] in ("value-invalid", "shape-too-low", "thinner-than-made", "over-design-field",
-                                       "no-size"):
+                                       "no-size", "area-impractical"):
         return ev
     if thickness_m is None and target.energy_J is None and np.isnan(P["area"][i]):
         ev.flags.append("no-area-scaling")

@@ -42,6 +42,9 @@ TEXT = {
                                 "is weaker faster than it stores more, so no self-consistent size exists"),
     "no-size": lambda q: (f"no self-consistent size found for {q['energy_J']:g} J at {q['voltage_V']:g} V "
                           "(the sizing did not converge)"),
+    "area-impractical": lambda q: (f"needs {q['area_m2']:.3g} m² of active area (more than {q['limit_m2']:g} m²): "
+                                   f"with Weibull shape {q['shape']:.3g} the weakest-link derating leaves no practical "
+                                   "part"),
     "thinner-than-made": lambda q: (f"{_um(q['thickness_m'])} is thinner than the thinnest layer made "
                                     f"({_um(q['min_thickness_m'])})"),
     "over-design-field": lambda q: (f"{_um(q['thickness_m'])} at {q['voltage_V']:g} V runs at "
