@@ -215,13 +215,13 @@ def root_in_bracket(func, lo, hi, *, f_lo, f_hi, xtol: float = 1e-13, maxiter: i
         a = np.flatnonzero(~done)
         if not a.size:
             break
-        l, h, fl, fh = lo[a], hi[a], f_lo[a], f_hi[a]
+        lw, h, fl, fh = lo[a], hi[a], f_lo[a], f_hi[a]
         with np.errstate(all="ignore"):
-            xa = np.where(fh != fl, h - fh * (h - l) / (fh - fl), 0.5 * (l + h))
-        xa = np.where((xa > l) & (xa < h), xa, 0.5 * (l + h))
+            xa = np.where(fh != fl, h - fh * (h - lw) / (fh - fl), 0.5 * (lw + h))
+        xa = np.where((xa > lw) & (xa < h), xa, 0.5 * (lw + h))
         fx = np.asarray(func(xa, a), dtype=float)
         x[a], its[a] = xa, k
-        stop = (fx == 0) | (h - l <= xtol * np.maximum(1.0, np.abs(xa)))
+        stop = (fx == 0) | (h - lw <= xtol * np.maximum(1.0, np.abs(xa)))
         neg, pos = (fx < 0) & ~stop, (fx > 0) & ~stop
         an, ap = a[neg], a[pos]
         lo[an], f_lo[an] = xa[neg], fx[neg]

@@ -29,7 +29,8 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
     from materials.energy import EPSILON_0
     from materials.sizing import CAUTION, _finish, _SEGMENT_NOTE
     from materials.table import ValueTable
-    from ranking.engine import BIAS, charge_density, energy_density, evaluate, reasons, small_signal_permittivity
+    from ranking.engine import BIAS, charge_density, energy_density, evaluate, small_signal_permittivity
+    from ranking.explain import reasons
     from ranking.reasons import words
     from ranking.target import Target
 

@@ -69,14 +69,15 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
               rows: int | None = None, excluded_rows: int | None = None) -> dict:
     """Rank ``materials`` against ``target``; the result follows the shortlist JSON contract (see README).
 
-    ``materials`` is a list of :class:`materials.records.MaterialData` or a :class:`materials.table.ValueTable`; every candidate goes
-    through the one evaluation engine (:mod:`ranking.engine`). ``rows`` and
+    ``materials`` is a list of :class:`materials.records.MaterialData` or a :class:`materials.table.ValueTable`;
+    every candidate goes through the one evaluation engine (:mod:`ranking.engine`). ``rows`` and
     ``excluded_rows`` build only the first so many entries of ``ranked`` and ``excluded``; ``counts`` always
     gives the full numbers.
     """
     from materials.table import ValueTable
     from ranking import methods as M
-    from ranking.engine import evaluate, explain, worst_inputs
+    from ranking.engine import evaluate, worst_inputs
+    from ranking.explain import explain
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:

@@ -14,7 +14,8 @@ import numpy as np
 import pytest
 
 from materials.table import ValueTable
-from ranking.engine import evaluate, evaluate_material, explain, worst_inputs
+from ranking.engine import evaluate, worst_inputs
+from ranking.explain import evaluate_material, explain
 from ranking.shortlist import shortlist
 from ranking.target import Target
 
@@ -166,7 +167,8 @@ def test_invalid_stored_value_is_that_candidate_reason(make_material):
     bad = film(make_material, "neg", ebd=-5e8)
     res = shortlist([bad, film(make_material, "ok")], target(), draws=20)
     assert [r["key"] for r in res["ranked"]] == ["ok"]
-    assert "breakdown_field" in res["excluded"][0]["reasons"][0] and "not a positive" in res["excluded"][0]["reasons"][0]
+    reason = res["excluded"][0]["reasons"][0]
+    assert "breakdown_field" in reason and "not a positive" in reason
 
 
 def test_tiny_failure_probability_agrees_between_size_and_shortlist(make_material):

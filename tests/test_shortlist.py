@@ -72,7 +72,7 @@ def test_scenario_pet_excluded_at_150C_common_practice(mem_store):
 def test_scenario_class1_ceramic_shows_no_bias_drift(mem_store):
     """EIA-198 class 1 (C0G): no DC-bias effect, so the drift criterion has no bias part."""
     from db.query import load_materials
-    from ranking.engine import evaluate_material as evaluate
+    from ranking.explain import evaluate_material as evaluate
 
     with mem_store.session() as s:
         mats = [m for m in load_materials(s) if m.family == "ceramic-class-1"]
@@ -85,7 +85,7 @@ def test_scenario_class1_ceramic_shows_no_bias_drift(mem_store):
 
 def test_class2_ceramic_shows_bias_drift(mem_store):
     from db.query import load_materials
-    from ranking.engine import evaluate_material as evaluate
+    from ranking.explain import evaluate_material as evaluate
 
     with mem_store.session() as s:
         mats = [m for m in load_materials(s) if m.key == "mlcc-x7r"]

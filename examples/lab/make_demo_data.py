@@ -12,12 +12,13 @@ from pathlib import Path
 
 import numpy as np
 
+from materials.energy import EPSILON_0 as EPS0
+
 HERE = Path(__file__).parent
 LAB = "Tallmere Dielectrics Lab (invented)"
 CITATION = ("Invented demo data for holdoff's examples: the Tallmere Dielectrics Lab and its materials do not "
             "exist; not a measurement of any real material")
 BANNER = "# INVENTED DEMO DATA - not a measurement of any real material; the lab is fictional."
-EPS0 = 8.8541878128e-12
 
 # temperature (°C) -> (Weibull scale V/um, shape) of the made-up distributions
 FILM_SETS = {25: (680.0, 14.0), 105: (610.0, 12.0), 150: (520.0, 10.0)}
