@@ -93,9 +93,11 @@ def make_engine(url: str, *, create_dirs: bool = True):
 
             kwargs["poolclass"] = StaticPool
             kwargs["connect_args"]["check_same_thread"] = False
+    from sqlalchemy.exc import ArgumentError
+
     try:
         engine = create_engine(url, future=True, **kwargs)
-    except Exception as exc:
+    except (ArgumentError, ImportError, ValueError) as exc:  # a URL that cannot be parsed, or no such driver
         raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
     if is_sqlite:
         @event.listens_for(engine, "connect")

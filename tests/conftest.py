@@ -7,6 +7,8 @@ from pathlib import Path
 
 import pytest
 
+from pg import backend_url, pg_url  # noqa: F401  (fixtures offered to every test module)
+
 DATA = Path(__file__).parent / "data"
 MINI_CATALOG = DATA / "mini_catalog_foundation"
 

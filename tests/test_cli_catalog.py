@@ -336,7 +336,8 @@ def test_help_is_cheap():
             "        typer.main.get_command(app).main(args, prog_name='holdoff')\n"
             "    except SystemExit:\n"
             "        pass\n"
-            "print('HEAVY', [m for m in ('sqlalchemy', 'pandas', 'scipy', 'pint', 'matplotlib') if m in sys.modules])\n")
+            "print('HEAVY', [m for m in ('sqlalchemy', 'pandas', 'scipy', 'pint', 'matplotlib')"
+            " if m in sys.modules])\n")
     res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
                          env={"PATH": "/usr/bin:/bin", "COLUMNS": "120", "HOME": str(Path.home())})
     last = res.stdout.strip().splitlines()[-1]

@@ -9,7 +9,6 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 import pg
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 HOSTILE = [
     pg.HOSTILE,
