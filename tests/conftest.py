@@ -62,6 +62,25 @@ def mini_store(mini_catalog):
     store.dispose()
 
 
+@pytest.fixture(scope="session")
+def mini_db(tmp_path_factory) -> str:
+    """The URL of a SQLite store built once from the mini catalog, shared by read-only CLI tests: do not write."""
+    from db.store import build
+
+    url = f"sqlite:///{tmp_path_factory.mktemp('mini-db') / 'holdoff.sqlite'}"
+    build(url, catalog_dir=MINI_CATALOG)
+    return url
+
+
+@pytest.fixture
+def mini_cli(cli, mini_db):
+    """``mini_cli("catalog", "--json")``: ``holdoff ARGS`` on the shared mini-catalog store (``db=`` for another)."""
+    def go(*args, db=None, **kw):
+        return cli(list(args), db=db or mini_db, catalog=MINI_CATALOG, **kw)
+
+    return go
+
+
 @pytest.fixture
 def tmp_db_url(tmp_path) -> str:
     """A SQLite file URL under the test's temporary folder (the file does not exist yet)."""
