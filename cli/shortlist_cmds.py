@@ -87,7 +87,8 @@ def shortlist(
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
     json_out: JsonOpt = False,
 ):
-    """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason."""
+    """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason. Exit code 1
+    when none is ranked."""
     from db.query import load_table
     from materials.errors import InputError
     from ranking.shortlist import shortlist as run
@@ -116,12 +117,16 @@ def shortlist(
         from cli.output import print_json
 
         print_json(result)
-        return
-    render(result, top=top)
-    if export:
-        from cli.output import say
+    else:
+        render(result, top=top)
+        if export:
+            from cli.output import say
 
-        say(f"wrote {export}")
+            say(f"wrote {export}")
+    if not result["ranked"]:
+        from materials.errors import NOTHING_MATCHED
+
+        raise typer.Exit(NOTHING_MATCHED)
 
 
 def render(result: dict, *, top: int) -> None:

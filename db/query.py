@@ -80,7 +80,7 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         wanted = {r[0] for r in mats}
         rows = [r for r in rows if r[0] in wanted]
     n = len(rows)
-    cols = list(zip(*rows)) if rows else [()] * 12
+    cols = list(zip(*rows, strict=True)) if rows else [()] * 12
     # Store ids to table positions through lookup arrays (ids are positive integers).
     mat_ids = np.fromiter((r[0] for r in mats), dtype=np.int64, count=len(mats))
     src_ids = np.fromiter((r[0] for r in srcs), dtype=np.int64, count=len(srcs))

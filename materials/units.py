@@ -56,7 +56,9 @@ def registry():
 
     try:
         ureg = pint.UnitRegistry(cache_folder=":auto:", autoconvert_offset_to_baseunit=True)
-    except Exception:  # pragma: no cover - a read-only cache folder must not break the program
+    except Exception:  # noqa: BLE001  # pragma: no cover
+        # Broad on purpose: a read-only folder (OSError) or a damaged cache, whose unpickling can fail with almost
+        # any error, must not stop the program; the registry is then built without a cache.
         ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     ureg.define("mil = 1e-3 inch")  # dielectric strength in V/mil, as US tables print it
     return ureg

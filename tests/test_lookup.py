@@ -45,7 +45,7 @@ def x7r():
 def test_interpolation_over_temperature_agrees_with_numpy(film, t_C):
     # Reference: numpy.interp (piecewise-linear) on the same points.
     got = value_at(film, "relative_permittivity", temperature_K=t_C + C)
-    xs, ys = zip(*EPS_T)
+    xs, ys = zip(*EPS_T, strict=True)
     assert got.value == pytest.approx(np.interp(t_C, xs, ys), rel=1e-12)
     assert got.low == pytest.approx(np.interp(t_C, xs, [y - 0.05 for y in ys]), rel=1e-12)
     assert got.high == pytest.approx(np.interp(t_C, xs, [y + 0.05 for y in ys]), rel=1e-12)
@@ -103,7 +103,7 @@ def test_reference_value_is_25_C(film):
                                          (20e6, 500.0)])
 def test_interpolation_over_bias_field(x7r, e, expected):
     got = value_at(x7r, "relative_permittivity", field_V_per_m=e)
-    xs, ys = zip(*BIAS)
+    xs, ys = zip(*BIAS, strict=True)
     assert got.value == pytest.approx(expected) == pytest.approx(np.interp(e, xs, ys))
     assert not got.extrapolated
     assert all(r.field_V_per_m is not None for r in got.rows)
