@@ -348,7 +348,7 @@ def loop_energies(field_V_per_m, polarization_C_per_m2) -> LoopEnergies:
         if "discharge" in problems:
             raise InputError("the loop never returns toward zero field after its peak", field="field")
         raise InputError("the loop has no charging branch rising from near zero field", field="field")
-    stored, recovered, e_max, p_max, p_r = (float(np.mean(col)) for col in zip(*results))
+    stored, recovered, e_max, p_max, p_r = (float(np.mean(col)) for col in zip(*results, strict=True))
     if stored <= 0:
         raise InputError("the charging branch stores no energy: check the sign and order of the samples",
                          field="polarization")

@@ -170,7 +170,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         excluded.append({"key": e.key, "name": e.name, "family": e.family, "label": e.label,
                          "thickness_m": e.thickness_m, "reasons": e.reasons})
     srcs = {k: {"kind": kind, "citation": cit} for k, kind, cit in
-            zip(table.source_keys, table.source_kinds, table.source_citations)}
+            zip(table.source_keys, table.source_kinds, table.source_citations, strict=True)}
     used = {k for r in ranked for lst in r["sources"].values() for k in lst}
     from materials.sizing import CAUTION
 

@@ -90,7 +90,7 @@ def test_bias_curve_energy_is_scipy_quad_of_e_dD(make_material):
 
     m = ceramic(make_material, "x")
     inp = worst_inputs(ValueTable.from_materials([m]), tmin_K=25 + C, tmax_K=25 + C)
-    xs, ys = zip(*BIAS)
+    xs, ys = zip(*BIAS, strict=True)
     for e in (1e6, 4e6, 12e6, 20e6):
         ref = quad(lambda x: EPS0 * x * np.interp(x, xs, ys), 0, e, points=xs[1:-1], epsabs=0)[0]
         assert energy_density(inp, [0], [e])[0] == pytest.approx(ref, rel=1e-9)
@@ -102,7 +102,7 @@ def test_nonlinear_sizing_agrees_with_brentq_on_the_curve(make_material):
     from scipy.optimize import brentq
 
     W, V, a, b, at, p = 0.5, 100.0, 80e6, 10.0, 1e-5, 1e-3
-    xs, ys = zip(*BIAS)
+    xs, ys = zip(*BIAS, strict=True)
 
     def u(e):
         return quad(lambda x: EPS0 * x * np.interp(x, xs, ys), 0, e, points=[x for x in xs if 0 < x < e] or None,
