@@ -23,6 +23,7 @@ import math
 
 import numpy as np
 
+from materials.energy import _out
 from materials.errors import InputError
 
 #: Boltzmann constant, J/K (SI-exact).
@@ -42,11 +43,6 @@ AIR_B_V_PER_PA_M = 365.0 / (0.01 * PA_PER_TORR)
 
 #: Limiting density-reduced field of SF6, V·m² (361 Td; Christophorou & Van Brunt 1995).
 SF6_LIMITING_E_OVER_N_V_M2 = 361e-21
-
-
-def _out(a):
-    a = np.asarray(a, dtype=float)
-    return float(a) if a.ndim == 0 else a
 
 
 def _townsend(a_per_Pa_m, b_V_per_Pa_m, gamma):

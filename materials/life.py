@@ -27,6 +27,7 @@ from functools import cached_property
 import numpy as np
 
 from materials.breakdown import _check_probability, _normal_quantile
+from materials.energy import _out
 from materials.errors import InputError
 from materials.weibull_regression import fit_regression, shape_test
 
@@ -35,11 +36,6 @@ BOLTZMANN_EV_PER_K = 1.380649e-23 / 1.602176634e-19
 
 #: Significance level of the likelihood-ratio test for a common Weibull shape across stress levels.
 SHAPE_TEST_LEVEL = 0.05
-
-
-def _out(a):
-    a = np.asarray(a, dtype=float)
-    return float(a) if a.ndim == 0 else a
 
 
 def _positive(value, name: str) -> np.ndarray:
