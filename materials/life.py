@@ -288,7 +288,7 @@ class EnduranceFit:
 
 
 def _levels(stress, temps) -> list:
-    return stress.tolist() if temps is None else list(zip(stress.tolist(), temps.tolist()))
+    return stress.tolist() if temps is None else list(zip(stress.tolist(), temps.tolist(), strict=True))
 
 
 def fit_endurance(times_s, stress, *, censored=None, temperatures_K=None, confidence: float = 0.9) -> EnduranceFit:

@@ -45,7 +45,7 @@ def test_closed_form_minimum_is_the_minimum_of_the_curve():
     for gamma in (0.001, 0.01, 0.1):
         kw = dict(AIR, gamma=gamma)
         pd_min, v_min = paschen_minimum(**kw)
-        res = minimize_scalar(lambda x: paschen_voltage(x, **kw), bounds=(0.3 * pd_min, 5 * pd_min),
+        res = minimize_scalar(lambda x, kw=kw: paschen_voltage(x, **kw), bounds=(0.3 * pd_min, 5 * pd_min),
                               method="bounded", options={"xatol": 1e-10})
         assert res.x == pytest.approx(pd_min, rel=1e-4)
         assert res.fun == pytest.approx(v_min, rel=1e-9)

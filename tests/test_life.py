@@ -257,7 +257,7 @@ def test_separate_level_shapes_match_reliability_weibull_2p():
     d = ALT_load()
     fit = fit_endurance(np.array(d.failures, float), d.failure_stresses)
     for level, shape in fit.shape_by_level.items():
-        x = [f for f, s in zip(d.failures, d.failure_stresses) if s == level]
+        x = [f for f, s in zip(d.failures, d.failure_stresses, strict=True) if s == level]
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             ref = Fit_Weibull_2P(failures=x, show_probability_plot=False, print_results=False)
@@ -266,7 +266,7 @@ def test_separate_level_shapes_match_reliability_weibull_2p():
 
 def simulated_endurance(seed, shapes, n=3.0, per_level=60, stresses=(2.0, 1.5)):
     rng = np.random.default_rng(seed)
-    t = np.concatenate([1e5 * s ** -n * rng.weibull(b, per_level) for s, b in zip(stresses, shapes)])
+    t = np.concatenate([1e5 * s ** -n * rng.weibull(b, per_level) for s, b in zip(stresses, shapes, strict=True)])
     return t, np.repeat(stresses, per_level)
 
 

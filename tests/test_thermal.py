@@ -16,14 +16,14 @@ from materials.thermal import (
     semenov_temperature_rise,
 )
 
-AMBIENT, A, RTH, C, F, I = 300.0, 0.05, 10.0, 10e-6, 10e3, 5.0
+AMBIENT, A, RTH, C, F, I_RMS = 300.0, 0.05, 10.0, 10e-6, 10e3, 5.0
 OMEGA = 2 * math.pi * F
 
 
 def exponential_part(p0):
     """A capacitor whose only loss is dielectric with tan δ = tan δ0·e^(a(θ - θ_amb)), P0 at ambient."""
-    tand0 = p0 * OMEGA * C / I**2
-    return dict(ambient_K=AMBIENT, rth_K_per_W=RTH, currents_A_rms=[I], frequencies_Hz=[F], capacitance_F=C,
+    tand0 = p0 * OMEGA * C / I_RMS**2
+    return dict(ambient_K=AMBIENT, rth_K_per_W=RTH, currents_A_rms=[I_RMS], frequencies_Hz=[F], capacitance_F=C,
                 tan_delta=lambda f, t: tand0 * np.exp(A * (t - AMBIENT)))
 
 
