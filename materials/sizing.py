@@ -17,17 +17,18 @@ import numpy as np
 
 from materials.energy import EPSILON_0, BiasCurve
 from materials.errors import DataError, InputError
+from materials.priors import TEST_AREA as _TEST_AREA, assumed_area_note, assumed_shape_note, shape_prior
+
+_FILM_PRIOR = shape_prior("polymer-film")
 
 CAUTION = ("Caution: the stored energy and the voltage of a capacitor can kill, also after the supply is removed. "
            "These figures are screening estimates, not a rating; follow the applicable standards and local codes, "
            "and confirm any design by qualified testing.")
 
-#: Weibull shape assumed when none is known and defaults are allowed: a common-practice screening value for thin
-#: polymer films (an assumption, not a measurement; lower shapes give more area derating).
-DEFAULT_SHAPE = 10.0
-#: Test electrode area assumed when none is known: 1 cm², the usual small-electrode manual test area
-#: (as compared against by Rytöluoto et al., IEEE TDEI 2015).
-DEFAULT_TEST_AREA_M2 = 1e-4
+#: Weibull shape and test electrode area assumed when none is known and defaults are allowed: the typical values of
+#: the film priors of :mod:`materials.priors` (assumptions with a stated range, not measurements).
+DEFAULT_SHAPE = _FILM_PRIOR.typical
+DEFAULT_TEST_AREA_M2 = _TEST_AREA.typical
 
 
 _SEGMENT_NOTE = ("self-healing segmented electrode: weakest-link scaling over one segment; the failure probability "
@@ -134,10 +135,10 @@ def _breakdown_inputs(scale, shape, test_area, assume_defaults):
                         "defaults with assume_defaults=True)")
     if shape is None:
         shape = DEFAULT_SHAPE
-        notes.append(f"Weibull shape not known: assumed {DEFAULT_SHAPE:g} (common-practice screening value)")
+        notes.append(assumed_shape_note(DEFAULT_SHAPE, _FILM_PRIOR))
     if test_area is None:
         test_area = DEFAULT_TEST_AREA_M2
-        notes.append("breakdown test area not known: assumed 1 cm² (usual small-electrode test area)")
+        notes.append(assumed_area_note(DEFAULT_TEST_AREA_M2, _TEST_AREA))
     scale = _positive("scale_V_per_m", scale)
     shape = _positive("shape", shape)
     if shape <= 1:

@@ -95,12 +95,12 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
         if not assume_defaults:
             raise DataError(f"{material.key}: " + words("shape-missing"))
         shape = float(inp.beta[0])
-        notes.append(words("assumed-shape"))
+        notes.append(words("assumed-shape", shape=shape, family=material.family))
     if area_m2 is not None and test_area is None:
         if not assume_defaults:
             raise DataError(f"{material.key}: " + words("test-area-missing"))
         test_area = float(inp.test_area[0])
-        notes.append(words("assumed-test-area"))
+        notes.append(words("assumed-test-area", area_m2=test_area))
     if need_scaling:
         # Without a part area there is no area scaling: any equal pair of areas gives the ratio 1.
         ref_area = test_area if test_area is not None else 1.0

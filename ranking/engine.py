@@ -27,7 +27,8 @@ import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
 from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
-from materials.sizing import DEFAULT_SHAPE, DEFAULT_TEST_AREA_M2, failure_probability, size_columns
+from materials.priors import TEST_AREA, shape_priors
+from materials.sizing import failure_probability, size_columns
 from materials.table import ValueTable
 
 #: Energy models, per material.
@@ -96,6 +97,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     c_eps, c_ebd = cell[everyone, i_eps], cell[everyone, i_ebd]
     t_eps, t_ebd = grid_t[everyone, i_eps], grid_t[everyone, i_ebd]
     sh = r.at("weibull_shape", t_ebd)
+    prior_typ, prior_lo, prior_hi = shape_priors(t.families)
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
     a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
     a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
@@ -135,8 +137,11 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
         extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
-        sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, DEFAULT_SHAPE),
-        test_area=np.where(area_found, test_area, DEFAULT_TEST_AREA_M2), area_found=area_found,
+        sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
+        beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
+        test_area=np.where(area_found, test_area, TEST_AREA.typical), area_found=area_found,
+        test_area_lo=np.where(area_found, test_area, TEST_AREA.low),
+        test_area_hi=np.where(area_found, test_area, TEST_AREA.high),
         thick=thick, d_min=np.where(thick.present, thick.value, np.nan),
         dens=dens, density=np.where(dens.present, dens.value, np.nan),
         heal=heal, heals=heal.present & (heal.value >= 0.5),
@@ -267,61 +272,26 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     d_min, density = inp.d_min, inp.density
     fails["value-invalid"] = ~((eps_v > 0) & (ebd_v > 0) & (beta > 0) & (test_area > 0) & ~(d_min <= 0)
                                & ~(density <= 0) & np.isfinite(eps_v) & np.isfinite(ebd_v))
-    V, p, margin = float(target.voltage_V), float(target.failure_probability), float(target.margin)
     seg = np.where(inp.heals, float(target.segment_area_m2), np.nan) if target.segment_area_m2 else np.full(m, np.nan)
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
     energy_J = target.energy_J
     sizing = thickness_m is None and energy_J is not None
     fails["shape-too-low"] = (beta <= 1) & sizing & ~has_seg
+    live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
+    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
+    d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
+    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
+        fails[code] = des[code]
+    # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
+    # the energy, so the Monte Carlo prices the assumption.
+    assumed = ~inp.shape_found | ~inp.area_found
+    u_ends = []
+    if assumed.any():
+        for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
+            end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
+                          test_area=np.where(assumed, a, test_area), seg=seg, live=live & assumed & (b > 1))
+            u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
     with np.errstate(all="ignore"):
-        log_k = np.log(ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
-
-        def e_design(area):
-            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta)
-
-        area_t = target.area_m2
-        its = np.zeros(m, dtype=np.int64)
-        fails["thinner-than-made"] = no
-        fails["over-design-field"] = no
-        fails["no-size"] = no
-        fails["area-impractical"] = no
-        if thickness_m is not None:
-            d = np.full(m, float(thickness_m))
-            fails["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-            if area_t is None and energy_J is not None:
-                area = energy_J / u_op / d
-            else:
-                area = np.full(m, np.nan if area_t is None else float(area_t))
-            ed = e_design(np.where(np.isfinite(area), area, test_area))
-            fails["over-design-field"] = e_op > ed * (1 + TOL)
-        elif energy_J is not None:
-            live = np.flatnonzero(inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"]
-                                  & (inp.kind != UPPER_BOUND))
-            d, area, ed = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
-            converged = np.zeros(m, dtype=bool)
-            if live.size:
-                sol = size_columns(
-                    energy_J=energy_J, voltage_V=V, log_k=log_k[live], shape=beta[live],
-                    relative_permittivity=_first_guess_eps(inp, live), nonlinear=inp.kind[live] != LINEAR,
-                    energy_density=lambda idx, e: energy_density(inp, live[idx], e), segment_area_m2=seg[live],
-                    min_thickness_m=d_min[live])
-                d[live], area[live], ed[live] = sol["thickness_m"], sol["area_m2"], sol["design_field_V_per_m"]
-                its[live], converged[live] = sol["iterations"], sol["converged"]
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-            fails["no-size"] = ~(converged & np.isfinite(d) & (d > 0) & np.isfinite(area) & (area > 0)
-                                 & np.isfinite(u_op) & (u_op > 0))
-            fails["area-impractical"] = ~fails["no-size"] & (area > MAX_AREA_M2)
-        else:
-            area = np.full(m, np.nan if area_t is None else float(area_t))
-            ed = e_design(np.where(np.isfinite(area), area, test_area))
-            d = V / ed
-            d = np.where(has_dmin & (d < d_min), d_min, d)
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-        at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
         fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
                                  if target.energy_density_J_per_m3 is not None else no)
         # Energy and its range from the permittivity and breakdown ranges (u ∝ εr·E² on the linear part).
@@ -333,8 +303,10 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         f_e_lo = np.where(layer, np.minimum(1.0, f_e_lo), f_e_lo)
         f_e_hi = np.where(layer, 1.0, f_e_hi)   # the field is set by the layer, not by breakdown
         out = Columns(ok=np.ones(m, dtype=bool), fails=fails)
-        e_lo = u_op * np.minimum(1.0, f_eps_lo * f_e_lo)
-        e_hi = u_op * np.maximum(1.0, f_eps_hi * f_e_hi)
+        u_lo = np.minimum.reduce([u_op, *u_ends]) if u_ends else u_op
+        u_hi = np.maximum.reduce([u_op, *u_ends]) if u_ends else u_op
+        e_lo = u_lo * np.minimum(1.0, f_eps_lo * f_e_lo)
+        e_hi = u_hi * np.maximum(1.0, f_eps_hi * f_e_hi)
         out.values["energy"], out.low["energy"], out.high["energy"] = u_op, e_lo, e_hi
         w = energy_J if energy_J is not None else 1.0
         vol = w / u_op
@@ -363,6 +335,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
             out.low[name] = out.high[name] = out.values[name]
         link = np.where(has_seg, seg, area)
         fail = failure_probability(e_op, scale_V_per_m=ebd_v, shape=beta, test_area_m2=test_area, area_m2=link)
+        at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
     bad = np.zeros(m, dtype=bool)
     for stage in STAGES:
         for code in stage:
@@ -371,6 +344,62 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     out.parts = dict(inputs=inp, target=target, thickness_m=thickness_m, seg=seg, has_seg=has_seg, d=d, area=area,
                      ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b, fail=fail, iterations=its,
                      log_k=log_k)
+    return out
+
+
+def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
+    """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
+    its design field), a self-consistent size for the target energy, or the design field alone."""
+    m = inp.reader.m
+    everyone = inp.everyone
+    no = np.zeros(m, dtype=bool)
+    out = {"thinner-than-made": no, "over-design-field": no, "no-size": no, "area-impractical": no}
+    V, p, margin = float(target.voltage_V), float(target.failure_probability), float(target.margin)
+    d_min, energy_J, area_t = inp.d_min, target.energy_J, target.area_m2
+    has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
+    its = np.zeros(m, dtype=np.int64)
+    with np.errstate(all="ignore"):
+        log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
+
+        def e_design(area):
+            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta)
+
+        if thickness_m is not None:
+            d = np.full(m, float(thickness_m))
+            out["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+            if area_t is None and energy_J is not None:
+                area = energy_J / u_op / d
+            else:
+                area = np.full(m, np.nan if area_t is None else float(area_t))
+            ed = e_design(np.where(np.isfinite(area), area, test_area))
+            out["over-design-field"] = e_op > ed * (1 + TOL)
+        elif energy_J is not None:
+            rows = np.flatnonzero(live)
+            d, area, ed = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
+            converged = np.zeros(m, dtype=bool)
+            if rows.size:
+                sol = size_columns(
+                    energy_J=energy_J, voltage_V=V, log_k=log_k[rows], shape=beta[rows],
+                    relative_permittivity=_first_guess_eps(inp, rows), nonlinear=inp.kind[rows] != LINEAR,
+                    energy_density=lambda idx, e: energy_density(inp, rows[idx], e), segment_area_m2=seg[rows],
+                    min_thickness_m=d_min[rows])
+                d[rows], area[rows], ed[rows] = sol["thickness_m"], sol["area_m2"], sol["design_field_V_per_m"]
+                its[rows], converged[rows] = sol["iterations"], sol["converged"]
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+            out["no-size"] = ~(converged & np.isfinite(d) & (d > 0) & np.isfinite(area) & (area > 0)
+                               & np.isfinite(u_op) & (u_op > 0))
+            out["area-impractical"] = ~out["no-size"] & (area > MAX_AREA_M2)
+        else:
+            area = np.full(m, np.nan if area_t is None else float(area_t))
+            ed = e_design(np.where(np.isfinite(area), area, test_area))
+            d = V / ed
+            d = np.where(has_dmin & (d < d_min), d_min, d)
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+    out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k)
     return out
 
 

@@ -91,6 +91,20 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
                                  "design_V_per_m": float(P["ed"][i])}
 
 
+def assumption_notes(cols: Columns, i: int) -> list[str]:
+    """What candidate ``i``'s numbers assume: values held outside their data, an assumed Weibull shape or test area
+    (with the stated range the Monte Carlo draws over)."""
+    inp = cols.parts["inputs"]
+    out = []
+    if inp.extrapolated[i]:
+        out.append(words("extrapolated"))
+    if not inp.shape_found[i]:
+        out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
+    if not inp.area_found[i]:
+        out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
+    return out
+
+
 def evaluate_material(material, target, *, thickness_m: float | None = None) -> Evaluation:
     """One material's :class:`Evaluation` (a table of one row through :func:`evaluate` and :func:`explain`)."""
     return explain(evaluate(ValueTable.from_materials([material]), target, thickness_m=thickness_m), 0)
@@ -161,6 +175,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
                       method=METHOD_NAMES[int(inp.kind[i])])
     if thickness_m is None and area == area:
         ev.details["failure_probability"] = float(P["fail"][i])
+    ev.details["assumptions"] = assumption_notes(cols, i)
     if inp.has_loss[i]:
         c_loss = inp.c_loss[i]
         add("loss", inp.ls.used0[c_loss], inp.ls.used1[c_loss])

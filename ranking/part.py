@@ -30,7 +30,7 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
     from materials.sizing import CAUTION, _finish, _SEGMENT_NOTE
     from materials.table import ValueTable
     from ranking.engine import BIAS, charge_density, energy_density, evaluate, small_signal_permittivity
-    from ranking.explain import reasons
+    from ranking.explain import assumption_notes, reasons
     from ranking.reasons import words
     from ranking.target import Target
 
@@ -51,9 +51,7 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
     e_op = voltage_V / d
     u = float(energy_density(inp, [0], [e_op])[0])
     seg = float(P["seg"][0]) if P["has_seg"][0] else None
-    res_notes = [words(c) for c in ("extrapolated", "assumed-shape", "assumed-test-area")
-                 if (c == "extrapolated" and inp.extrapolated[0]) or (c == "assumed-shape" and not inp.shape_found[0])
-                 or (c == "assumed-test-area" and not inp.area_found[0])]
+    res_notes = assumption_notes(cols, 0)
     if seg:
         res_notes.append(_SEGMENT_NOTE)
     if inp.kind[0] == BIAS and e_op > inp.bias.fields[0, int(inp.bias.n[0]) - 1]:

@@ -8,11 +8,10 @@ here: ``git grep`` for any of them finds this file.
 from __future__ import annotations
 
 from materials.lookup import fmt_temperature as _c
-from materials.sizing import DEFAULT_SHAPE, DEFAULT_TEST_AREA_M2
+from materials.priors import assumed_area_note, assumed_shape_note, shape_prior
 
-#: The option (and target-file key) that lets missing breakdown data take common-practice values.
-DEFAULTS_HINT = ("--assume-defaults, or assume_defaults = true in a target file, takes common-practice "
-                 f"β = {DEFAULT_SHAPE:g} and {DEFAULT_TEST_AREA_M2 * 1e4:g} cm²")
+#: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
+DEFAULTS_HINT = "leave out --strict (or strict = true in a target file) to assume the family's stated range"
 
 
 def _um(d_m: float) -> str:
@@ -66,9 +65,8 @@ TEXT = {
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
     # notes on assumptions
-    "assumed-shape": lambda q: f"weibull_shape not in the data: common-practice β = {DEFAULT_SHAPE:g} assumed",
-    "assumed-test-area": lambda q: ("breakdown test electrode area not stated: common-practice "
-                                    f"{DEFAULT_TEST_AREA_M2 * 1e4:g} cm² assumed"),
+    "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
+    "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
     "extrapolated": lambda q: ("permittivity or breakdown held at the end of its data outside the measured "
                                "temperatures"),
     "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",

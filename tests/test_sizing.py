@@ -126,7 +126,7 @@ def test_missing_breakdown_data_is_named():
     res = size_linear(assume_defaults=True, **base)
     same = size_linear(shape=DEFAULT_SHAPE, test_area_m2=DEFAULT_TEST_AREA_M2, **base)
     assert res.area_m2 == pytest.approx(same.area_m2, rel=1e-14)
-    assert any("assumed 10" in n for n in res.notes) and any("1 cm²" in n for n in res.notes)
+    assert any("β = 10 assumed (range 5–20" in n for n in res.notes) and any("1 cm² assumed" in n for n in res.notes)
 
 
 @pytest.mark.parametrize("change", [{"shape": 1.0}, {"failure_probability": 1.0}, {"voltage_V": -5.0},
