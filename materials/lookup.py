@@ -101,9 +101,39 @@ class Curve:
 
 class Lookup:
     """Values of a :class:`Curve` for query materials ``q`` at temperatures ``x`` (NaN: none asked, read at 25 °C
-    where the data state temperatures). ``used0``/``used1`` are the rows behind each answer (-1: none)."""
+    where the data state temperatures). ``used0``/``used1`` are the rows behind each answer (-1: none).
 
-    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+    With a ``weak`` curve and a ``lend`` mask (per material), a material whose strongest evidence states fewer than
+    two temperatures takes the *shape* of its weaker curve anchored to the strongest value:
+    ``v(T) = v_strong(T_a) · v_weak(T)/v_weak(T_a)``, with ``T_a`` the strong value's temperature (25 °C when it
+    states none). ``lent`` marks those answers; ``shape0``/``shape1`` are the weaker rows that lent the shape.
+    """
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray, *, weak: Curve | None = None,
+                 lend: np.ndarray | None = None):
+        self._read(t, curve, q, x)
+        self.lent = np.zeros(q.size, dtype=bool)
+        self.shape0 = self.shape1 = np.full(q.size, -1, dtype=np.int64)
+        if weak is None or lend is None or not lend[q].any():
+            return
+        k = np.flatnonzero(lend[q])
+        qk = q[k]
+        anchor = np.where(curve.n[qk] > 0, curve.xs[qk, 0], REFERENCE_TEMPERATURE_K)
+        at_x, at_a = _Read(t, weak, qk, x[k]), _Read(t, weak, qk, anchor)
+        with np.errstate(all="ignore"):
+            ratio = at_x.value / at_a.value
+        ok = np.isfinite(ratio) & (at_a.value != 0)
+        k, ratio, qk = k[ok], ratio[ok], qk[ok]
+        base = _Read(t, curve, qk, anchor[ok])
+        self.value[k], self.low[k], self.high[k] = base.value * ratio, base.low * ratio, base.high * ratio
+        self.extrapolated[k] = at_x.extrapolated[ok]
+        self.lo_x[k], self.hi_x[k] = weak.xs[qk, 0], weak.xs[qk, np.maximum(weak.n[qk] - 1, 0)]
+        self.used0[k], self.used1[k] = base.used0, -1
+        self.shape0, self.shape1 = self.shape0.copy(), self.shape1.copy()
+        self.shape0[k], self.shape1[k] = at_x.used0[ok], at_x.used1[ok]
+        self.lent[k] = True
+
+    def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
         # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
         val, lo_r, hi_r = (np.append(a, np.nan) for a in (t.value, _filled(t.low, t.value),
                                                           _filled(t.high, t.value)))
@@ -144,13 +174,16 @@ class Lookup:
         self.present = curve.has[q]
 
 
-def pick_rows(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, lab_row: np.ndarray,
-              frequency_Hz: float | None) -> np.ndarray:
-    """The rows a temperature lookup reads (see the module docstring): lab rows alone where a material has any;
-    the nearest stated frequency plus rows stating none; small-signal rows where the material has any."""
-    rm = mat[rows]
-    has_lab = np.bincount(rm[lab_row[rows]], minlength=m) > 0
-    rows = rows[~has_lab[rm] | lab_row[rows]]
+class _Read(Lookup):
+    """A plain read of one curve (no lending)."""
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+        self._read(t, curve, q, np.asarray(x, dtype=float))
+
+
+def pick_rows(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, frequency_Hz: float | None) -> np.ndarray:
+    """The rows a temperature lookup reads (see the module docstring): the nearest stated frequency plus rows
+    stating none; small-signal rows where the material has any."""
     rows = _nearest_frequency(t, rows, mat, m, frequency_Hz)
     e = t.field_V_per_m[rows]
     small = np.isnan(e) | (e == 0)
@@ -218,13 +251,31 @@ class Reader:
         sel = self.active & (self.t.prop == c)
         return np.flatnonzero(sel if mask is None else sel & mask[self.mat])
 
-    def curve(self, prop: str, frequency_Hz: float | None = None) -> Curve:
-        """The small-signal temperature curve of ``prop`` for every material, prepared once per frequency."""
+    def curves(self, prop: str, frequency_Hz: float | None = None) -> tuple[Curve, Curve, np.ndarray]:
+        """The small-signal temperature curves of ``prop`` for every material, prepared once per frequency: the
+        curve of the strongest evidence each material holds, the curve of its weaker rows, and whether the weaker
+        curve lends its shape (the strongest evidence states fewer than two temperatures, the weaker two or more)."""
         key = (prop, frequency_Hz)
         if key not in self._curves:
-            rows = pick_rows(self.t, self.rows_of(prop), self.mat, self.m, self.lab_row, frequency_Hz)
-            self._curves[key] = Curve(self.t, rows, self.mat[rows], self.m, self.tier)
+            rows = pick_rows(self.t, self.rows_of(prop), self.mat, self.m, frequency_Hz)
+            rm = self.mat[rows]
+            best = np.full(self.m, np.iinfo(np.int64).max)
+            np.minimum.at(best, rm, self.tier[rows])
+            strong = self.tier[rows] == best[rm]
+            c_strong = Curve(self.t, rows[strong], rm[strong], self.m, self.tier)
+            c_weak = Curve(self.t, rows[~strong], rm[~strong], self.m, self.tier)
+            lend = (c_strong.n < 2) & (c_weak.n >= 2)
+            self._curves[key] = (c_strong, c_weak, lend)
         return self._curves[key]
+
+    def curve(self, prop: str, frequency_Hz: float | None = None) -> Curve:
+        """The curve of the strongest evidence each material holds for ``prop``."""
+        return self.curves(prop, frequency_Hz)[0]
+
+    def lookup(self, prop: str, q: np.ndarray, x: np.ndarray, *, frequency_Hz: float | None = None) -> Lookup:
+        """``prop`` of materials ``q`` at temperatures ``x`` by the evidence order (see :class:`Lookup`)."""
+        strong, weak, lend = self.curves(prop, frequency_Hz)
+        return Lookup(self.t, strong, q, x, weak=weak, lend=lend)
 
     def at(self, prop: str, temperature_K=None, *, frequency_Hz: float | None = None,
            materials: np.ndarray | None = None) -> Lookup:
@@ -233,7 +284,7 @@ class Reader:
         q = np.arange(self.m) if materials is None else np.asarray(materials, dtype=np.int64)
         x = np.broadcast_to(np.asarray(np.nan if temperature_K is None else temperature_K, dtype=float),
                             q.shape).copy()
-        return Lookup(self.t, self.curve(prop, frequency_Hz), q, x)
+        return self.lookup(prop, q, x, frequency_Hz=frequency_Hz)
 
 
 @dataclass
@@ -338,6 +389,7 @@ class ValueAt:
     extrapolated: bool = False
     rows: tuple[StoredValue, ...] = field(default_factory=tuple)
     covered: tuple[float, float] | None = None  # abscissa range of the data (K or V/m), None if a single value
+    lent: bool = False   # the shape over temperature comes from weaker evidence, anchored to the stronger value
 
     @property
     def sources(self) -> list[str]:
@@ -383,7 +435,7 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
         raise DataError(outside_data_message(prop, lk.lo_x[0], lk.hi_x[0], temperature_K))
     covered = None if np.isnan(lk.lo_x[0]) else (float(lk.lo_x[0]), float(lk.hi_x[0]))
     return ValueAt(prop, float(lk.value[0]), float(lk.low[0]), float(lk.high[0]), bool(lk.extrapolated[0]),
-                   _stored(stored, lk.used0[0], lk.used1[0]), covered)
+                   _stored(stored, lk.used0[0], lk.used1[0], lk.shape0[0], lk.shape1[0]), covered, bool(lk.lent[0]))
 
 
 def _bias_value_at(material, r, stored, prop, temperature_K, e, extrapolate) -> ValueAt:

@@ -89,8 +89,8 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         out[gm, gslot] = a
         return out
 
-    eps_g = Lookup(t, r.curve("relative_permittivity"), gm, gt)
-    ebd_g = Lookup(t, r.curve("breakdown_field"), gm, gt)
+    eps_g = r.lookup("relative_permittivity", gm, gt)
+    ebd_g = r.lookup("breakdown_field", gm, gt)
     grid_t = grid(gt, np.nan)
     i_eps = np.argmin(grid(eps_g.value, np.inf), axis=1)
     i_ebd = np.argmin(grid(ebd_g.value, np.inf), axis=1)
@@ -104,7 +104,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
     area_found = np.isfinite(test_area)
     thick, dens, heal = r.at("min_thickness"), r.at("density"), r.at("self_healing")
-    ls = Lookup(t, r.curve("loss_tangent", frequency_Hz), gm, gt)
+    ls = r.lookup("loss_tangent", gm, gt, frequency_Hz=frequency_Hz)
     c_loss = cell[everyone, np.argmax(grid(ls.value, -np.inf), axis=1)]
     # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
     eps_at_worst = _Pick(eps_g, c_eps)
@@ -137,6 +137,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
         extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
+        lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
         test_area=np.where(area_found, test_area, TEST_AREA.typical), area_found=area_found,
@@ -419,7 +420,7 @@ def _confidence(inp: Inputs) -> np.ndarray:
     total, count = np.zeros(m), np.zeros(m)
     gm = inp.gm
     for lk in (inp.eps_g, inp.ebd_g):
-        for used in (lk.used0, lk.used1):
+        for used in (lk.used0, lk.used1, lk.shape0, lk.shape1):
             hit = used >= 0
             np.add.at(total, gm[hit], conf_row[used[hit]])
             np.add.at(count, gm[hit], 1.0)

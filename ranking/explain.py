@@ -64,6 +64,11 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
     return code, {}
 
 
+def _rows_behind(lk, c) -> tuple:
+    """The rows behind a lookup's answer: the value's, then the weaker rows that lent its shape, if any."""
+    return (lk.used0[c], lk.used1[c], lk.shape0[c], lk.shape1[c])
+
+
 def _source_key(t: ValueTable, row) -> str:
     return t.source_keys[t.source[int(row)]] if int(row) >= 0 else "—"
 
@@ -142,9 +147,11 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("assumed-shape")
     if not inp.area_found[i]:
         ev.flags.append("assumed-test-area")
+    if inp.lent[i]:
+        ev.flags.append("shape-lent")
     c_eps, c_ebd, sh = inp.c_eps[i], inp.c_ebd[i], inp.sh
-    eps_rows = (inp.eps_g.used0[c_eps], inp.eps_g.used1[c_eps])
-    ebd_rows = (inp.ebd_g.used0[c_ebd], inp.ebd_g.used1[c_ebd])
+    eps_rows = _rows_behind(inp.eps_g, c_eps)
+    ebd_rows = _rows_behind(inp.ebd_g, c_ebd)
     beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
     add("energy", *eps_rows, *ebd_rows, *beta_rows)
     if inp.thick.present[i]:
@@ -181,8 +188,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
         add("loss", inp.ls.used0[c_loss], inp.ls.used1[c_loss])
     cells = range(int(inp.g_start[i]), int(inp.g_start[i + 1]))
     if inp.n_eps_temps[i] >= 2:
-        add("drift", inp.ref.used0[i], inp.ref.used1[i],
-            *[r for c in cells for r in (inp.eps_g.used0[c], inp.eps_g.used1[c])])
+        add("drift", inp.ref.used0[i], inp.ref.used1[i], *[r for c in cells for r in _rows_behind(inp.eps_g, c)])
     elif np.isfinite(inp.d_t_cc[i]):
         cc = inp.cc_rows[inp.reader.mat[inp.cc_rows] == i]
         lst = ev.sources.setdefault("drift", [])
@@ -197,7 +203,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
         add("healing", inp.heal.used0[i], inp.heal.used1[i])
     else:
         ev.flags.append("self-healing not stated")
-    kinds_used = {kinds[src[int(r)]] for c in cells for g in (inp.eps_g, inp.ebd_g) for r in (g.used0[c], g.used1[c])
+    kinds_used = {kinds[src[int(r)]] for c in cells for g in (inp.eps_g, inp.ebd_g) for r in _rows_behind(g, c)
                   if r >= 0}
     kinds_used |= {kinds[src[int(r)]] for r in beta_rows if r >= 0}
     for flag in ("recollection", "invented"):

@@ -154,11 +154,39 @@ def test_lab_rows_supersede_the_catalog(make_material):
     ])
     got = value_at(m, "breakdown_field", temperature_K=25 + C)
     assert got.value == 6.5e8
-    assert got.sources == ["our-lab-2026"]
-    assert got.confidence == 1.0
-    # The lab measured only at 25 °C: 85 °C is outside the lab's data, not silently the handbook's.
+    assert got.sources[0] == "our-lab-2026"
+    # The lab measured only at 25 °C: the handbook curve lends its shape (5/6 from 25 to 85 °C), anchored to the
+    # lab's value, and says so; beyond the handbook's data the answer is refused as before.
+    hot = value_at(m, "breakdown_field", temperature_K=85 + C)
+    assert hot.value == pytest.approx(6.5e8 * 5.0 / 6.0) and hot.lent and not hot.extrapolated
+    assert hot.sources == ["our-lab-2026", "handbook-source"]
     with pytest.raises(DataError):
-        value_at(m, "breakdown_field", temperature_K=85 + C)
+        value_at(m, "breakdown_field", temperature_K=105 + C)
+
+
+def test_recollected_curve_never_displaces_a_published_value(make_material):
+    """A published single value sets the level; a recollected temperature curve lends only its shape."""
+    m = make_material("m", [
+        ("breakdown_field", 6.5e8, "handbook"),
+        ("breakdown_field", 7.0e8, "recollection", {"temperature_K": 25 + C}),
+        ("breakdown_field", 5.6e8, "recollection", {"temperature_K": 105 + C}),
+    ])
+    room = value_at(m, "breakdown_field", temperature_K=25 + C)
+    assert room.value == pytest.approx(6.5e8) and room.lent
+    hot = value_at(m, "breakdown_field", temperature_K=105 + C)
+    assert hot.value == pytest.approx(6.5e8 * 0.8)
+    assert {r.source.kind for r in hot.rows} == {"handbook", "recollection"}
+
+
+def test_a_stronger_curve_ignores_weaker_rows(make_material):
+    m = make_material("m", [
+        ("relative_permittivity", 2.2, "paper", {"temperature_K": 25 + C}),
+        ("relative_permittivity", 2.1, "paper", {"temperature_K": 105 + C}),
+        ("relative_permittivity", 9.9, "recollection", {"temperature_K": 65 + C}),
+    ])
+    got = value_at(m, "relative_permittivity", temperature_K=65 + C)
+    assert got.value == pytest.approx(2.15) and not got.lent
+    assert {r.source.kind for r in got.rows} == {"paper"}
 
 
 def test_a_better_tier_wins_at_the_same_condition(make_material):
