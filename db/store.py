@@ -8,6 +8,7 @@ import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
+from db.bulk import bulk_insert  # noqa: F401  (imported from here by other modules)
 from materials.errors import StoreError
 
 SCHEMA_REVISION = "0002"  # the newest migration in db/migrations/versions
@@ -90,31 +91,6 @@ def _has_schema(engine) -> bool:
     from sqlalchemy import inspect
 
     return inspect(engine).has_table("material")
-
-
-def bulk_insert(conn, table, rows: list[dict]) -> None:
-    """Insert many rows into the Core ``table`` in the caller's transaction (``conn``: Connection or Session).
-
-    On PostgreSQL through psycopg, rows that give every column (an autoincrement id aside) go in with ``COPY``,
-    about three times faster than ``executemany`` for 10⁵ breakdown points (tests/bench/bench_pg_import.py);
-    elsewhere, or when columns are left to their defaults, this is a plain ``executemany``.
-    """
-    from sqlalchemy import insert
-
-    if not rows:
-        return
-    if hasattr(conn, "connection") and not hasattr(conn, "dialect"):  # a Session: use its connection
-        conn = conn.connection()
-    cols = list(rows[0])
-    needed = {c.name for c in table.columns if c is not table.autoincrement_column}
-    if conn.dialect.name == "postgresql" and conn.dialect.driver == "psycopg" and needed <= set(cols):
-        q = conn.dialect.identifier_preparer
-        sql = f"COPY {q.format_table(table)} ({', '.join(q.quote(c) for c in cols)}) FROM STDIN"
-        with conn.connection.driver_connection.cursor() as cur, cur.copy(sql) as copy:
-            for r in rows:
-                copy.write_row([r[c] for c in cols])
-        return
-    conn.execute(insert(table), rows)
 
 
 def write_catalog(session, sources, materials) -> None:
