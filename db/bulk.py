@@ -40,4 +40,4 @@ def insert_rows(session, table, columns: tuple[str, ...], rows) -> None:
         sql = f"INSERT INTO {table.name} ({', '.join(columns)}) VALUES ({', '.join('?' * len(columns))})"
         conn.exec_driver_sql(sql, list(rows))
     else:
-        bulk_insert(conn, table, [dict(zip(columns, r)) for r in rows])
+        bulk_insert(conn, table, [dict(zip(columns, r, strict=True)) for r in rows])

@@ -100,9 +100,11 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
             if not path.exists():  # another command may have built it while this one waited
                 build(url)
     engine = make_engine(url)
+    from sqlalchemy.exc import SQLAlchemyError
+
     try:
         fresh = not _has_schema(engine)
-    except Exception as exc:
+    except (SQLAlchemyError, OSError) as exc:
         engine.dispose()
         raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
     if fresh:

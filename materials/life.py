@@ -26,7 +26,7 @@ from functools import cached_property
 
 import numpy as np
 
-from materials.breakdown import _check_probability, _normal_quantile
+from materials.breakdown.fit import _check_probability, _normal_quantile
 from materials.energy import _out
 from materials.errors import InputError
 from materials.weibull_regression import fit_regression, shape_test

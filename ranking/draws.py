@@ -22,7 +22,7 @@ def _bounds(low, typ, high):
         raise InputError("give the typical matrix, or both the low and the high matrix")
     arrays = [None if a is None else _matrix(a, allow_stack=False) for a in (low, typ, high)]
     shape = next(a.shape for a in arrays if a is not None)
-    for name, a in zip(("low", "typical", "high"), arrays):
+    for name, a in zip(("low", "typical", "high"), arrays, strict=True):
         if a is not None and a.shape != shape:
             raise InputError(f"the {name} matrix has shape {a.shape}, expected {shape}")
     nan = np.full(shape, np.nan)

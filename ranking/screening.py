@@ -41,7 +41,7 @@ def _dominator_counts(worst: np.ndarray, best: np.ndarray, ident: np.ndarray, pi
     ok = np.empty((len(pivots), len(targets)), dtype=bool)
     tmp = np.empty_like(ok)
     np.not_equal(ident[pivots, 0][:, None], ident[targets, 1][None, :], out=ok)
-    for row_w, row_b in zip(worst, best):
+    for row_w, row_b in zip(worst, best, strict=True):
         np.greater_equal(row_w[pivots][:, None], row_b[targets][None, :], out=tmp)
         ok &= tmp
     return np.count_nonzero(ok, axis=0)

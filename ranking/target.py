@@ -80,7 +80,8 @@ class Target:
                 "energy_J": self.energy_J, "energy_density_J_per_m3": self.energy_density_J_per_m3,
                 "frequency_Hz": self.frequency_Hz, "max_loss_tangent": self.max_loss_tangent,
                 "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
-                "segment_area_m2": self.segment_area_m2, "families": list(self.families), "thicknesses_m": list(self.thicknesses_m),
+                "segment_area_m2": self.segment_area_m2, "families": list(self.families),
+                "thicknesses_m": list(self.thicknesses_m),
                 "weights": dict(self.weights), "assume_defaults": self.assume_defaults}
 
 

@@ -37,7 +37,8 @@ def import_breakdown(session, data, *, material_key: str | None = None, new_mate
     n = data.n
     thick = data.thickness_m.tolist() if data.thickness_m is not None else repeat(None, n)
     insert_rows(session, BreakdownPoint.__table__, ("set_id", "seq", "field_V_per_m", "censored", "thickness_m"),
-                 zip(repeat(bset.id, n), range(n), data.fields_V_per_m.tolist(), data.censored.tolist(), thick))
+                 zip(repeat(bset.id, n), range(n), data.fields_V_per_m.tolist(), data.censored.tolist(), thick,
+                     strict=True))
     fit, warnings = _fit_and_store(session, bset, mat, src, data.fields_V_per_m, data.censored,
                                    confidence=confidence, file=data.path)
     return ImportResult(what="breakdown set", material=mat.key, label=bset.label, id=bset.id, n=data.n,
@@ -114,7 +115,7 @@ def refit_set(session, set_id: int, *, confidence: float = DEFAULT_CONFIDENCE,
     same_conditions = all(pv.temperature_K == bset.temperature_K and pv.thickness_m == bset.thickness_m
                           and pv.area_m2 == bset.area_m2 for pv in active)
     if (same_conditions and set(have) == set(want)
-            and all(all(_close(a, b) for a, b in zip(have[p], want[p])) for p in want)):
+            and all(all(_close(a, b) for a, b in zip(have[p], want[p], strict=True)) for p in want)):
         return False
     now = _now()
     for pv in active:
@@ -132,8 +133,8 @@ def read_points(session, material_key: str, label: str):
 
     from db.models import BreakdownPoint, BreakdownSet, Material
 
-    bset = session.execute(select(BreakdownSet).join(Material).where(Material.key == material_key,
-                                                                       BreakdownSet.label == label)).scalar_one_or_none()
+    bset = session.execute(select(BreakdownSet).join(Material).where(
+        Material.key == material_key, BreakdownSet.label == label)).scalar_one_or_none()
     if bset is None:
         raise DataError(f"'{material_key}' has no breakdown set labelled '{label}'")
     rows = session.execute(select(BreakdownPoint.field_V_per_m, BreakdownPoint.censored, BreakdownPoint.thickness_m)

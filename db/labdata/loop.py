@@ -42,7 +42,7 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
     session.flush()
     insert_rows(session, LoopPoint.__table__, ("loop_id", "seq", "field_V_per_m", "polarization_C_per_m2"),
                  zip(repeat(loop.id, data.n), range(data.n), data.fields_V_per_m.tolist(),
-                     data.polarization_C_per_m2.tolist()))
+                     data.polarization_C_per_m2.tolist(), strict=True))
     desc = (f"loop '{loop.label}' (stored {en.stored_J_per_m3:.4g} J/m³, lost {en.lost_J_per_m3:.4g} J/m³, "
             f"halves: {', '.join(en.halves)}; loop integration of E dD)")
     common = dict(material_id=mat.id, temperature_K=c.temperature_K, frequency_Hz=c.frequency_Hz,

@@ -55,8 +55,8 @@ def _refuse_duplicate(session, model, data, mat, *, force: bool, what: str) -> o
                           ).scalar_one_or_none()
     if old is not None and not force:
         raise InputError(f"'{mat.key}' already has a {what} labelled '{old.label}' (from {old.file_name or 'a file'}, "
-                         f"{old.created_at:%Y-%m-%d %H:%M}); use --force to replace it (its derived values are retired, "
-                         "its points kept), or give another --label", file=data.path, field="label")
+                         f"{old.created_at:%Y-%m-%d %H:%M}); use --force to replace it (its derived values are "
+                         "retired, its points kept), or give another --label", file=data.path, field="label")
     return old
 
 

@@ -83,7 +83,7 @@ def _is_unit(text: str) -> bool:
 
     try:
         registry().Unit(text.replace("µ", "u").replace("μ", "u").replace("^", "**"))
-    except Exception:
+    except Exception:  # noqa: BLE001 - pint raises many kinds of error for text that is not a unit; all mean "no"
         return False
     return True
 

@@ -146,7 +146,7 @@ def _topsis_scorer(xf, hi, lo, fixed, b, held):
     def score(columns: np.ndarray, w: np.ndarray) -> np.ndarray:
         w2 = w[:, fixed] ** 2
         s_plus, s_minus = w2 @ to_ideal, w2 @ to_anti
-        for xc, c in zip(columns, cols):
+        for xc, c in zip(columns, cols, strict=True):
             c_hi, c_lo = _combined(xc.max(axis=1), xc.min(axis=1), top[c], bottom[c])
             scale = _per_norm(w[:, c], np.sqrt(np.einsum("ij,ij->i", xc, xc) + sum_sq[c]))[:, None]
             ideal, anti = _ideals(b[c], c_hi, c_lo)

@@ -73,7 +73,7 @@ def _weighted_scorer(xf, hi, lo, fixed, b, held):
 
     def score(columns: np.ndarray, w: np.ndarray) -> np.ndarray:
         total = w[:, fixed] @ values
-        for xc, c in zip(columns, cols):
+        for xc, c in zip(columns, cols, strict=True):
             c_hi, c_lo = _combined(xc.max(axis=1), xc.min(axis=1), top[c], bottom[c])
             total += _minmax_scaled(xc, w[:, c, None], b[c], c_hi[:, None], c_lo[:, None])
         return total
