@@ -11,6 +11,11 @@ from typing import Annotated
 import typer
 
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print machine-readable JSON (SI units, see README).")]
+StrictOpt = Annotated[bool, typer.Option("--strict", help="Refuse assumptions: where the data lack a Weibull shape "
+                                         "or a test area, exclude instead of taking the family's stated range.")]
+# Kept so that older scripts run: assuming the stated ranges is now the default (see --strict).
+DefaultsOpt = Annotated[bool, typer.Option("--assume-defaults", hidden=True, help="No effect: assuming the "
+                                           "stated ranges is the default (see --strict).")]
 
 
 def console(stderr: bool = False):

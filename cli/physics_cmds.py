@@ -6,7 +6,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import JsonOpt
+from cli.output import DefaultsOpt, JsonOpt, StrictOpt
 
 TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
                                                       "repeat for several. Default 25 °C.")]
@@ -17,13 +17,11 @@ ProbOpt = Annotated[Optional[float], typer.Option("--failure-prob", help="Accept
 MarginOpt = Annotated[float, typer.Option("--margin", help="Divides the design field (≥ 1).")]
 ExtrapOpt = Annotated[bool, typer.Option("--extrapolate", help="Hold end values outside the data's temperature "
                                          "range (flagged) instead of refusing.")]
-DefaultsOpt = Annotated[bool, typer.Option("--assume-defaults", help="Where the data lack a Weibull shape or a test "
-                                           "area, take common-practice β = 10 and 1 cm² (named in the answer).")]
-
 
 def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
             temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
-            extrapolate: ExtrapOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+            extrapolate: ExtrapOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
+            json_out: JsonOpt = False):
     """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
     from db.query import load_materials
     from materials.errors import InputError
@@ -40,7 +38,7 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
     with state.store().session(read_only=True) as s:
         mats = {m.key: m for m in load_materials(s, keys)}
     rows = [ceiling_at(mats[k], temperature_K=t, area_m2=a, failure_probability=failure_prob, margin=margin,
-                       extrapolate=extrapolate, assume_defaults=assume_defaults) for k in keys for t in temps]
+                       extrapolate=extrapolate, assume_defaults=not strict) for k in keys for t in temps]
     if json_out:
         from cli.output import print_json
 
@@ -82,7 +80,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
                                                              "segmented electrodes: scale breakdown to one segment "
                                                              "(cm² unless a unit); p is then per segment.")] = None,
-         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+         strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
     from db.query import get_material
     from materials.units import parse_option
@@ -98,7 +96,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         failure_probability=failure_prob, margin=margin,
         ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
-        assume_defaults=assume_defaults,
+        assume_defaults=not strict,
         segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None)
     if json_out:
         from cli.output import print_json

@@ -11,7 +11,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import JsonOpt
+from cli.output import DefaultsOpt, JsonOpt, StrictOpt
 
 chart_app = typer.Typer(
     help="Charts as PNG or SVG (chosen by the --out extension): the permittivity–breakdown map, design energy "
@@ -207,8 +207,8 @@ def chart_ceiling(
                                                           "mark (J/cm³ unless a unit).")] = None,
     op_range: Annotated[Optional[str], typer.Option("--range", metavar="TMIN,TMAX", help="Operating range to "
                                                     "shade (°C unless a unit), e.g. -40,105.")] = None,
-    assume_defaults: Annotated[bool, typer.Option("--assume-defaults", help="Take common-practice β = 10 and a "
-                                                  "1 cm² test area where the data lack them.")] = False,
+    strict: StrictOpt = False,
+    assume_defaults: DefaultsOpt = False,
     out: OutOpt = ...,
     force: ForceOpt = False,
     json_out: JsonOpt = False,
@@ -242,7 +242,7 @@ def chart_ceiling(
     mats = _load(keys)
     fig = ceiling_chart(mats, np.linspace(t0, t1, points), target=target,
                         area_m2=parse_option(area, "capacitor_area", name="--area") if area else None,
-                        failure_probability=failure_prob, assume_defaults=assume_defaults)
+                        failure_probability=failure_prob, assume_defaults=not strict)
     if not fig.curves:
         raise InputError("no material could be charted: " + "; ".join(f"{k}: {r}" for k, r in fig.skipped))
     _save(fig, out, force, f"design energy density of {len(fig.curves)} materials", json_out)

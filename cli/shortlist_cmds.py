@@ -7,7 +7,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import JsonOpt
+from cli.output import DefaultsOpt, JsonOpt, StrictOpt
 
 # Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
 EXCLUDED_SHOWN = 40
@@ -46,8 +46,8 @@ def shortlist(
     = None,
     thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
                                                      "e.g. 2.5,3,4,6um.")] = None,
-    assume_defaults: Annotated[bool, typer.Option("--assume-defaults", help="Take common-practice β = 10 and "
-                                                  "1 cm² test area where the data lack them (flagged).")] = False,
+    strict: StrictOpt = False,
+    assume_defaults: DefaultsOpt = False,
     draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws for p_top.")] = 1000,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
     json_out: JsonOpt = False,
@@ -66,7 +66,7 @@ def shortlist(
     t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
-                            families=family, thicknesses=thickness, weights=weights, assume_defaults=assume_defaults)
+                            families=family, thicknesses=thickness, weights=weights, strict=strict)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.

@@ -19,7 +19,7 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
                                     # then per segment
     families = ["polymer-film", "ceramic-class-1"]
     thicknesses = ["2.5 um", "3 um", "4 um"]   # optional design space of layer thicknesses
-    assume_defaults = false         # allow common-practice β and test area where the data lack them
+    strict = false                  # true: refuse the stated Weibull-shape and test-area priors where data lack them
 
     [weights]                       # criterion = weight (see ranking.criteria.CRITERIA)
     energy = 3
@@ -53,10 +53,13 @@ class Target:
     families: tuple[str, ...] = ()
     thicknesses_m: tuple[float, ...] = ()
     weights: dict = field(default_factory=dict)
-    assume_defaults: bool = False
+    assume_defaults: bool = True    # a missing Weibull shape or test area takes its family's stated prior range
+    strict: bool = False            # refuse assumptions instead (assume_defaults is then False)
     name: str = ""
 
     def __post_init__(self):
+        if self.strict:
+            object.__setattr__(self, "assume_defaults", False)
         if not self.voltage_V > 0:
             raise InputError("voltage must be positive")
         if self.tmin_K > self.tmax_K:
@@ -82,7 +85,7 @@ class Target:
                 "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
                 "segment_area_m2": self.segment_area_m2, "families": list(self.families),
                 "thicknesses_m": list(self.thicknesses_m),
-                "weights": dict(self.weights), "assume_defaults": self.assume_defaults}
+                "weights": dict(self.weights), "assume_defaults": self.assume_defaults, "strict": self.strict}
 
 
 def parse_weights(text: str | None) -> dict:
@@ -155,7 +158,16 @@ def _quantities(given: dict, *, options: bool) -> dict:
 
 
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
-              "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults"}
+              "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults",
+              "strict"}
+
+
+def _flag(table: dict, key: str, default: bool) -> bool:
+    """A yes/no field of a target file: a TOML boolean, never a string or a number read as one."""
+    v = table.get(key, default)
+    if not isinstance(v, bool):
+        raise TypeError(f"'{key}' must be true or false, not {v!r}")
+    return v
 
 
 def load_target(path: Path) -> Target:
@@ -180,7 +192,8 @@ def load_target(path: Path) -> Target:
             max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
             failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
             families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
-            assume_defaults=bool(t.get("assume_defaults", False)), name=str(t.get("name", "")),
+            assume_defaults=_flag(t, "assume_defaults", True), strict=_flag(t, "strict", False),
+            name=str(t.get("name", "")),
         )
     except UnitError as exc:
         raise InputError(str(exc), file=str(path)) from None
@@ -203,7 +216,7 @@ def with_overrides(target: Target, **changes) -> Target:
 def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None, energy=None, energy_density=None,
                         frequency=None, max_loss_tangent=None, failure_probability=None, margin=None, area=None,
                         segment_area=None, families=None, thicknesses=None, weights=None,
-                        assume_defaults: bool = False) -> Target:
+                        assume_defaults: bool = False, strict: bool = False) -> Target:
     """A Target from a target file and/or command options as typed (an option given overrides the file).
 
     Quantities are text, in the option's default unit unless one is written; ``families`` is comma-separated,
@@ -218,6 +231,7 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
         families=tuple(f.strip() for f in families.split(",")) if families else None,
         thicknesses_m=parse_thicknesses(thicknesses) if thicknesses else None,
         assume_defaults=True if assume_defaults else None,
+        strict=True if strict else None,
     )
     w = parse_weights(weights) if weights else None
     if target_file:

@@ -102,12 +102,17 @@ def test_reason_names_missing_property(make_material):
     assert "breakdown_field missing" in reasons and "max_temperature missing" in reasons
 
 
-def test_missing_shape_needs_consent_for_defaults(make_material):
+def test_missing_shape_is_an_assumption_unless_strict(make_material):
     m = film(make_material, "f")
     m.values = [v for v in m.values if v.property != "weibull_shape"]
-    assert "weibull_shape missing" in shortlist([m], target(), draws=10)["excluded"][0]["reasons"][0]
-    res = shortlist([m], target(assume_defaults=True), draws=10)
-    assert res["ranked"] and "assumed-shape" in res["ranked"][0]["flags"]
+    strict = shortlist([m], target(strict=True), draws=10)["excluded"][0]["reasons"][0]
+    assert "weibull_shape missing" in strict and "--strict" in strict
+    res = shortlist([m], target(), draws=10)
+    row = res["ranked"][0]
+    assert "assumed-shape" in row["flags"]
+    assert any("β = 10 assumed (range 5–20" in a for a in row["design"]["assumptions"])
+    # the assumption is priced: the energy range spans the design at β = 5 and at β = 20
+    assert row["criteria_low"]["energy"] < 0.8 * row["criteria"]["energy"] < row["criteria_high"]["energy"]
 
 
 def test_energy_density_target_excludes_with_reason(make_material):
