@@ -16,6 +16,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from materials.errors import InputError
+from materials.numfmt import fmt_number, pretty_unit
+from materials.numfmt import to_display as convert
 
 FORMATS = ("csv", "xlsx", "md", "html", "json")
 FLAG_KINDS = ("recollection", "invented")
@@ -29,31 +31,6 @@ ASSUMPTION_COLUMNS = {"density": ("mass",), "assumed-shape": ("energy", "volume"
                       "assumed-test-area": ("energy", "volume", "mass")}
 CAUTION = ("These figures compare dielectric materials from cited property values; they do not rate a part. "
            "Confirm any design against the applicable standards, local codes and qualified testing of real parts.")
-
-_PRETTY = (("**3", "³"), ("**2", "²"), ("^3", "³"), ("^2", "²"), ("um", "µm"), ("degC", "°C"), ("ohm", "Ω"))
-
-
-def pretty_unit(unit: str | None) -> str:
-    """A pint unit string as a reader writes it (``J/cm**3`` → ``J/cm³``)."""
-    if not unit or unit == "1":
-        return ""
-    for a, b in _PRETTY:
-        unit = unit.replace(a, b)
-    return unit
-
-
-def convert(value, unit: str | None, display_unit: str | None):
-    """``value`` in SI ``unit`` expressed in ``display_unit`` (``%`` multiplies a fraction by 100)."""
-    if value is None or (isinstance(value, float) and math.isnan(value)):
-        return None
-    if not display_unit or display_unit == (unit or ""):
-        return float(value)
-    if display_unit == "%":
-        return float(value) * 100.0
-    from materials.units import SI_UNITS, from_si
-
-    return float(from_si(float(value), display_unit, unit if unit in SI_UNITS else "1"))
-
 
 @dataclass(frozen=True)
 class Column:
@@ -628,20 +605,6 @@ def _notes(rep: Report) -> list[str]:
 
 
 # --- shared text helpers -----------------------------------------------------------------------------------
-
-def fmt_number(v, digits: int = 4) -> str:
-    """A number with ``digits`` significant figures, positional between 1e-4 and 1e7; '—' when missing."""
-    if v is None or (isinstance(v, float) and math.isnan(v)):
-        return "—"
-    if v == 0:
-        return "0"
-    a = abs(v)
-    if 1e-4 <= a < 1e7:
-        decimals = max(0, digits - 1 - math.floor(math.log10(a)))
-        text = f"{v:.{decimals}f}"
-        return text.rstrip("0").rstrip(".") if "." in text else text
-    return f"{v:.{digits - 1}e}"
-
 
 def _cell_value(rep: Report, r: Row, c: Column) -> str:
     v = convert(r.values.get(c.name), c.unit, c.display_unit)

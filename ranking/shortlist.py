@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from functools import lru_cache
-
 import numpy as np
 
 from materials.errors import InputError
@@ -45,21 +43,11 @@ def _impute(typ: dict, lo: dict, hi: dict, names: list[str], flags: list[list[st
             flags[i].append(f"{name} missing: worst of the field assumed")
 
 
-@lru_cache(maxsize=None)
-def _display_scale(display_unit: str, unit: str) -> float:
-    """SI value per display unit of a criterion (criteria units are all proportional: no offsets)."""
-    from materials.units import from_si
-
-    return 1.0 / from_si(1.0, display_unit, unit)
-
-
 def _fmt_criterion(name: str, value: float) -> str:
+    from materials.numfmt import fmt_quantity
+
     c = CRITERIA[name]
-    if c.display_unit == "%":
-        return f"{value * 100:.3g} %"
-    if c.display_unit:
-        return f"{value / _display_scale(c.display_unit, c.unit):.4g} {c.display_unit.replace('**3', '³')}"
-    return f"{value:.3g}"
+    return fmt_quantity(value, c.display_unit, c.unit, 3 if c.display_unit in ("", "%") else 4)
 
 
 def _label(key: str, thickness_m: float | None) -> str:
