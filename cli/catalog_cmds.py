@@ -52,8 +52,8 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
         print_json(rows)
         return
     from cli.fmt import display
-    from materials.numfmt import fmt_celsius
     from cli.output import table
+    from materials.numfmt import fmt_celsius
 
     body = []
     for r in rows:

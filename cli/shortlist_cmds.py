@@ -94,8 +94,11 @@ def shortlist(
 
     if top < 1:
         raise InputError("--top must be at least 1")
-    if export and export.exists() and not force:
-        raise InputError(f"{export} exists (use --force to overwrite)")
+    if export:
+        from ranking.outfile import check_output
+        from ranking.report import ALIASES, FORMATS
+
+        check_output(export, FORMATS, force=force, aliases=ALIASES)
     t = build_target(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy_density=energy_density,
                      energy=energy, frequency=frequency, max_loss=max_loss, failure_prob=failure_prob,
                      margin=margin, area=area, family=family, weights=weights, thickness=thickness,
