@@ -58,8 +58,9 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
                      ("extrapolated " if r.extrapolated else "") + r.method, ", ".join(r.sources)])
     cond = []
     cond.append(f"area {fmt_number(a)} m²" if a else "at the test area")
-    cond.append(f"failure probability {failure_prob:g}" if failure_prob is not None else "Weibull scale (63.2 %)")
-    cond.append(f"margin {margin:g}")
+    cond.append(f"failure probability {fmt_number(failure_prob, 6)}" if failure_prob is not None
+                else "Weibull scale (63.2 %)")
+    cond.append(f"margin {fmt_number(margin, 6)}")
     table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
           right={2, 3, 4, 5, 6}, caption="design: " + ", ".join(cond))
     for r in rows:

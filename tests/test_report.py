@@ -247,6 +247,19 @@ def test_refuses_to_overwrite_and_unknown_extensions(result, tmp_path):
         report.load_json(tmp_path / "x.json")
 
 
+def test_exports_and_charts_pass_the_same_check_before_writing(result, tmp_path):
+    from ranking import charts
+    from ranking.outfile import check_output
+
+    missing = tmp_path / "no-such-folder"
+    for write in (lambda: report.write(result, missing / "r.md"), lambda: charts.save(None, missing / "c.png")):
+        with pytest.raises(InputError, match="no-such-folder does not exist"):
+            write()
+    assert check_output(tmp_path / "R.HTM", report.FORMATS, aliases=report.ALIASES) == (tmp_path / "R.HTM", "html")
+    with pytest.raises(InputError, match=r"'\.pdf': use \.csv, \.xlsx, \.md, \.html or \.json"):
+        check_output(tmp_path / "r.pdf", report.FORMATS)
+
+
 # --- HTML -------------------------------------------------------------------------------------------------------
 
 class _Collect(HTMLParser):

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from materials.errors import InputError
-from materials.numfmt import pretty_unit
+from materials.numfmt import fmt_celsius, pretty_unit
 
 FLAG_KINDS = ("recollection", "invented")
 MARKS = {"recollection": "†", "invented": "‡", "assumed": "*"}
@@ -239,7 +239,7 @@ def from_materials(materials, *, temperature_K: float | None = None, frequency_H
         _add_ceiling(row, m, temperature_K, extrapolate)
         rows.append(row)
     used = {k for r in rows for lst in r.sources.values() for k in lst}
-    where = "about 25 °C" if temperature_K is None else f"{temperature_K - 273.15:g} °C"
+    where = "about 25 °C" if temperature_K is None else fmt_celsius(temperature_K, 6)
     return Report(kind="comparison", title=f"Dielectric comparison at {where}", columns=columns, rows=rows,
                   sources={k: sources[k] for k in sorted(used)}, cautions=[CAUTION],
                   condition={"temperature_K": temperature_K, "frequency_Hz": frequency_Hz,
