@@ -23,7 +23,6 @@ from functools import cached_property
 import numpy as np
 
 from materials.errors import InputError
-from materials.numfmt import fmt_number
 
 #: Bernard's median-rank constant: F = (i - a)/(n + 1 - 2a) with a = 0.3 (Fothergill 1990 found it the most
 #: accurate of the usual approximations).
@@ -372,9 +371,9 @@ class WeibullFit:
         stat = abs(math.log(b_low / b_up))
         if stat <= MIXTURE_LIMIT / math.sqrt(r):
             return None
-        return (f"Weibull plot bends: shape about {fmt_number(1 / b_low, 3)} over the lower half of the failures "
-                f"and {fmt_number(1 / b_up, 3)} over the upper half (beyond the 1 % limit for one population); the "
-                "data may hold two populations (for example weak spots), and area scaling of such data is unreliable")
+        return (f"Weibull plot bends: shape about {1 / b_low:.3g} over the lower half of the failures and "
+                f"{1 / b_up:.3g} over the upper half (beyond the 1 % limit for one population); the data may hold "
+                "two populations (for example weak spots), and area scaling of such data is unreliable")
 
     def as_dict(self) -> dict:
         """The fit as plain numbers with SI-suffixed keys (the `breakdown fit` JSON contract)."""

@@ -2,14 +2,16 @@
 
 One number formatter (:func:`fmt_number`) and one unit pretty-printer (:func:`pretty_unit`) for the whole
 program; :func:`to_display` carries an SI value into a display unit and :func:`fmt_quantity` puts the three
-together. Pure text: pint is imported (through :mod:`materials.units`) only when a value is converted.
+together. Pure text; a conversion goes through :mod:`materials.units` (its table of everyday units, pint for
+the rest).
 """
 
 from __future__ import annotations
 
-import math
 import re
-from decimal import Decimal
+from functools import lru_cache
+
+from materials.units import SI_UNITS, from_si
 
 MISSING = "—"
 
@@ -26,25 +28,28 @@ def fmt_number(v, digits: int = 4) -> str:
     """``v`` rounded to ``digits`` significant figures: positional from 1e-4 to below 1e7 (``0.0002``, ``73060``,
     ``725000``), scientific outside (``1.447e-05``, ``1.35e+07``); trailing zeros dropped; ``—`` when missing
     (None or NaN)."""
-    if v is None:
-        return MISSING
-    v = float(v)
-    if math.isnan(v):
+    if v is None or v != v:
         return MISSING
     if v == 0:
         return "0"
-    if math.isinf(v):
-        return f"{v}"
-    text = f"{v:.{digits - 1}e}"  # one rounding, whichever notation is written
-    mantissa, exponent = text.split("e")
-    if -4 <= int(exponent) < 7:
-        text = format(Decimal(text), "f")
-        return text.rstrip("0").rstrip(".") if "." in text else text
+    text = f"{v:.{digits - 1}e}"
+    mantissa, _e, exponent = text.partition("e")
+    if not exponent:  # infinite
+        return text
+    exp = int(exponent)  # after rounding: 9.99996 to 4 figures is 1.000e+01
+    if -4 <= exp < 7:
+        # Rounded at the same decimal place as the scientific form (a carry into the next power of ten gives the
+        # same number one place sooner).
+        places = digits - 1 - exp
+        if places <= 0:
+            return f"{round(v, places):.0f}"
+        return f"{v:.{places}f}".rstrip("0").rstrip(".")
     if "." in mantissa:
         mantissa = mantissa.rstrip("0").rstrip(".")
     return f"{mantissa}e{exponent}"
 
 
+@lru_cache(maxsize=256)
 def pretty_unit(unit: str | None) -> str:
     """A pint unit string as a reader writes it: ``J/cm**3`` → ``J/cm³``, ``V/um`` → ``V/µm``,
     ``degC`` → ``°C``, ``ohm m`` → ``Ω·m``; empty for a dimensionless unit (``""``, ``"1"`` or None)."""
@@ -58,14 +63,12 @@ def pretty_unit(unit: str | None) -> str:
 def to_display(value, unit: str | None, display_unit: str | None) -> float | None:
     """``value`` in SI ``unit`` expressed in ``display_unit`` (``%`` multiplies a fraction by 100); None when the
     value is missing. No display unit, or the SI unit itself, leaves the number as it is."""
-    if value is None or (isinstance(value, float) and math.isnan(value)):
+    if value is None or value != value:  # missing, or NaN
         return None
     if not display_unit or display_unit == (unit or ""):
         return float(value)
     if display_unit == "%":
         return float(value) * 100.0
-    from materials.units import SI_UNITS, from_si
-
     return float(from_si(float(value), display_unit, unit if unit in SI_UNITS else "1"))
 
 

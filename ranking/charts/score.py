@@ -24,9 +24,9 @@ def score_chart(result: dict):
     scores = [float(r.get("score") or 0.0) for r in ranked]
     y = np.arange(len(ranked))[::-1]
     bars = ax.barh(y, scores, color="0.6", edgecolor="black", linewidth=0.6, height=0.6, label="score")
-    for b, r in zip(bars, ranked):
+    for b, r in zip(bars, ranked, strict=True):
         b.set_gid(f"score:{r.get('label') or r['key']}")
-    for yi, r, s in zip(y, ranked, scores):
+    for yi, r, s in zip(y, ranked, scores, strict=True):
         pt = r.get("p_top")
         if pt is not None:
             ax.text(s, yi, f"  P(first) {pt:.0%}", va="center", fontsize=7)

@@ -7,7 +7,6 @@ at one condition) and the marks every format explains; :mod:`~ranking.report.fra
 """
 
 from materials.numfmt import fmt_number, pretty_unit
-from materials.numfmt import to_display as convert
 from ranking.report.document import cell_value, document, md_escape
 from ranking.report.export import ALIASES, FORMATS, export_result, write
 from ranking.report.figures import report_charts
@@ -34,7 +33,7 @@ from ranking.report.xlsx import write_xlsx
 
 __all__ = [
     "ALIASES", "ASSUMPTION_COLUMNS", "CAUTION", "CEILING", "COMPARED", "FLAG_KINDS", "FORMATS", "LEGEND", "MARKS",
-    "Column", "Report", "Row", "as_report", "cell_value", "comparison_frame", "convert", "document",
+    "Column", "Report", "Row", "as_report", "cell_value", "comparison_frame", "document",
     "excluded_frame", "export_result", "fmt_number", "from_materials", "from_shortlist", "load_json", "md_escape",
     "plain", "pretty_unit", "report_charts", "row_flags", "sources_frame", "svg_inline", "target_rows", "to_html",
     "to_json", "to_markdown", "write", "write_xlsx",

@@ -21,12 +21,11 @@ def cell_value(r: Row, c: Column) -> str:
 def generated() -> str:
     """Today's date and the program's version, for the head of a document."""
     import datetime
+    from importlib.metadata import PackageNotFoundError, version
 
     try:
-        from importlib.metadata import version
-
         ver = version("holdoff")
-    except Exception:  # an uninstalled checkout has no metadata
+    except PackageNotFoundError:  # an uninstalled checkout has no metadata
         ver = "dev"
     return f"{datetime.date.today().isoformat()}, holdoff {ver}"
 
