@@ -10,14 +10,17 @@ $(BIN)/holdoff: pyproject.toml
 	$(BIN)/pip install -q -e '.[test]'
 	@touch $@
 
-.PHONY: install demo test bench
+.PHONY: install demo lint test bench
 install: $(BIN)/holdoff
 
 demo: install
 	$(BIN)/holdoff shortlist --target examples/dc-link-target.toml --top 10
 
 
-test: install
+lint: install
+	$(BIN)/ruff check .
+
+test: lint
 	$(BIN)/python -m pytest
 
 bench: install

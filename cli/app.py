@@ -7,21 +7,39 @@ import typer
 from typer.core import TyperGroup
 
 from cli import state
-from materials.errors import HoldoffError
+from materials.errors import STORE_UNREACHABLE, HoldoffError
 
 
 class _Group(TyperGroup):
-    """Maps holdoff's domain errors to one line on stderr and exit code 2; anything else stays a traceback."""
+    """The one place errors become exit codes: a store that cannot be opened or reached exits 3, any other domain
+    error (bad input or usage) exits with its code, 2; each with one line on stderr and never a password. Anything
+    else is a bug and keeps its traceback."""
 
     def invoke(self, ctx):
         try:
             return super().invoke(ctx)
-        except HoldoffError as exc:
-            msg = " ".join(str(exc).split())
-            typer.echo(f"holdoff: error: {msg}", err=True)
-            raise typer.Exit(exc.exit_code) from None
+        except Exception as exc:
+            status = _exit_status(exc)
+            if status is None:
+                raise
+            code, msg = status
+            typer.echo(f"holdoff: error: {' '.join(msg.split())}", err=True)
+            raise typer.Exit(code) from None
         finally:
             state.reset()
+
+
+def _exit_status(exc: Exception) -> tuple[int, str] | None:
+    """(exit code, message) for an error a user can act on, None for a bug."""
+    from db.engine import failure_text, unreachable
+
+    url = state.url()
+    cause = unreachable(exc, url)
+    if cause is not None:
+        return STORE_UNREACHABLE, str(exc) if isinstance(exc, HoldoffError) else failure_text(cause, url)
+    if isinstance(exc, HoldoffError):
+        return exc.exit_code, str(exc)
+    return None
 
 
 app = typer.Typer(

@@ -11,6 +11,14 @@ from cli.output import JsonOpt
 FLAG_KINDS = ("recollection", "invented")
 
 
+def _nothing_matched(rows, *filters) -> None:
+    """Exit 1 (after the listing is printed) when a filter was given and nothing passed it."""
+    if not rows and any(filters):
+        from materials.errors import NOTHING_MATCHED
+
+        raise typer.Exit(NOTHING_MATCHED)
+
+
 def _value_json(v) -> dict:
     from materials.properties import PROPERTIES
 
@@ -33,7 +41,8 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
             where: Annotated[Optional[str], typer.Option("--where", help="Filter, e.g. "
                              "\"relative_permittivity > 3 and max_temperature >= 125 degC\".")] = None,
             json_out: JsonOpt = False):
-    """List materials with their headline values (reference: small-signal, ~25 °C, ~1 kHz)."""
+    """List materials with their headline values (reference: small-signal, ~25 °C, ~1 kHz); exit code 1 when
+    --family or --where leaves none."""
     from db.query import summaries
     from materials.errors import InputError
     from materials.properties import FAMILIES
@@ -50,6 +59,7 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
         from cli.output import print_json
 
         print_json(rows)
+        _nothing_matched(rows, family, where)
         return
     from cli.fmt import display
     from cli.output import table
@@ -65,6 +75,7 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
     table(["key", "name", "family", "εr", "tan δ", "E_bd", "rated T", "flags"], body, right={3, 4, 5},
           title=f"{len(rows)} materials", caption="εr, tan δ and E_bd at about 25 °C and 1 kHz; "
           "flags name source kinds that are not published (see 'holdoff show KEY').")
+    _nothing_matched(rows, family, where)
 
 
 def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff catalog').")],
@@ -126,7 +137,8 @@ def _sets(session, key: str) -> dict:
 
 def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sources of this kind.")] = None,
             json_out: JsonOpt = False):
-    """The bibliography: every source, its evidence tier and how many values cite it."""
+    """The bibliography: every source, its evidence tier and how many values cite it; exit code 1 when --kind
+    leaves none."""
     from db.query import counts_by_kind, sources as list_sources
     from materials.errors import InputError
     from materials.properties import PUBLISHED_KINDS, SOURCE_KINDS
@@ -143,6 +155,7 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
         from cli.output import print_json
 
         print_json({"sources": rows, "values_by_kind": counts, "values": total, "published_share": share})
+        _nothing_matched(rows, kind)
         return
     from cli.output import say, table
 
@@ -154,3 +167,4 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
     say("kinds: handbook/standard/paper/web = published, cited with edition/table or DOI/URL; common-practice = a "
         "fact of the trade with no single source; recollection = remembered, not checked; lab = your own "
         "measurements; invented = demo data only.")
+    _nothing_matched(rows, kind)

@@ -13,41 +13,6 @@ from cli.output import JsonOpt
 EXCLUDED_SHOWN = 40
 
 
-def build_target(*, target_file, voltage, tmin, tmax, energy_density, energy, frequency, max_loss, failure_prob,
-                 margin, area, family, weights, thickness, assume_defaults, segment_area=None):
-    """A Target from a file and/or options (options override the file)."""
-    from materials.errors import InputError
-    from materials.units import parse_option
-    from ranking.target import Target, load_target, parse_thicknesses, parse_weights, with_overrides
-
-    opts = dict(
-        voltage_V=parse_option(voltage, "voltage", name="--voltage") if voltage else None,
-        tmin_K=parse_option(tmin, "temperature", name="--tmin") if tmin else None,
-        tmax_K=parse_option(tmax, "temperature", name="--tmax") if tmax else None,
-        energy_density_J_per_m3=(parse_option(energy_density, "energy_density", name="--energy-density")
-                                 if energy_density else None),
-        energy_J=parse_option(energy, "energy", name="--energy") if energy else None,
-        frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
-        max_loss_tangent=max_loss, failure_probability=failure_prob, margin=margin,
-        area_m2=parse_option(area, "capacitor_area", name="--area") if area else None,
-        segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None,
-        families=tuple(f.strip() for f in family.split(",")) if family else None,
-        thicknesses_m=parse_thicknesses(thickness) if thickness else None,
-        assume_defaults=True if assume_defaults else None,
-    )
-    w = parse_weights(weights) if weights else None
-    if target_file:
-        t = with_overrides(load_target(target_file), **opts)
-        if w:
-            t = with_overrides(t, weights={**t.weights, **w})
-        return t
-    missing = [n for n, k in (("--voltage", "voltage_V"), ("--tmin", "tmin_K"), ("--tmax", "tmax_K"))
-               if opts[k] is None]
-    if missing:
-        raise InputError(f"{', '.join(missing)} needed (or a --target file)")
-    return Target(weights=w or {}, **{k: v for k, v in opts.items() if v is not None})
-
-
 def shortlist(
     voltage: Annotated[Optional[str], typer.Option("--voltage", help="Working voltage (V unless a unit).")] = None,
     tmin: Annotated[Optional[str], typer.Option("--tmin", help="Lowest temperature (°C unless a unit).")] = None,
@@ -87,10 +52,12 @@ def shortlist(
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
     json_out: JsonOpt = False,
 ):
-    """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason."""
+    """Rank dielectrics for a voltage, temperature range and energy; every exclusion with its reason. Exit code 1
+    when none is ranked."""
     from db.query import load_table
     from materials.errors import InputError
     from ranking.shortlist import shortlist as run
+    from ranking.target import target_from_options
 
     if top < 1:
         raise InputError("--top must be at least 1")
@@ -99,10 +66,10 @@ def shortlist(
         from ranking.report import ALIASES, FORMATS
 
         check_output(export, FORMATS, force=force, aliases=ALIASES)
-    t = build_target(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy_density=energy_density,
-                     energy=energy, frequency=frequency, max_loss=max_loss, failure_prob=failure_prob,
-                     margin=margin, area=area, family=family, weights=weights, thickness=thickness,
-                     assume_defaults=assume_defaults, segment_area=segment_area)
+    t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
+                            energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
+                            failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
+                            families=family, thicknesses=thickness, weights=weights, assume_defaults=assume_defaults)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.
@@ -119,12 +86,16 @@ def shortlist(
         from cli.output import print_json
 
         print_json(result)
-        return
-    render(result, top=top)
-    if export:
-        from cli.output import say
+    else:
+        render(result, top=top)
+        if export:
+            from cli.output import say
 
-        say(f"wrote {export}")
+            say(f"wrote {export}")
+    if not result["ranked"]:
+        from materials.errors import NOTHING_MATCHED
+
+        raise typer.Exit(NOTHING_MATCHED)
 
 
 def render(result: dict, *, top: int) -> None:

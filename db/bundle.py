@@ -281,7 +281,7 @@ class _Loader:
         for i, p in enumerate(points):
             if not isinstance(p, list) or len(p) != len(cols):
                 raise self.error(f"point {i + 1} does not have {len(cols)} entries", "points")
-            self._queue(ptable, {fk: owner, **dict(zip(cols, p))})
+            self._queue(ptable, {fk: owner, **dict(zip(cols, p, strict=True))})
 
     def _queue(self, table: str, row: dict) -> None:
         self.pending[table].append(row)

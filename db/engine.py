@@ -55,6 +55,11 @@ def error_text(exc: BaseException, url: str) -> str:
     return f"{type(orig).__name__}: {text}"
 
 
+def failure_text(exc: BaseException, url: str, what: str = "open store") -> str:
+    """The one line for a store that could not be opened or used: ``cannot WHAT URL: Error: text``, no password."""
+    return f"cannot {what} {mask_url(url)}: {error_text(exc, url)}"
+
+
 @contextlib.contextmanager
 def connect_errors(url: str, what: str = "open store"):
     """Turn a connection-level failure (server down, wrong password, locked file) into a one-line StoreError."""
@@ -63,7 +68,59 @@ def connect_errors(url: str, what: str = "open store"):
     try:
         yield
     except (OperationalError, InterfaceError) as exc:
-        raise StoreError(f"cannot {what} {mask_url(url)}: {error_text(exc, url)}") from None
+        raise StoreError(failure_text(exc, url, what)) from None
+
+
+# SQLite's words for a file it cannot open, read or write, or that another writer held past the busy timeout.
+_SQLITE_UNREACHABLE = ("unable to open database file", "not a database", "disk i/o error", "readonly database",
+                       "database disk image is malformed", "database is locked", "database is busy")
+# SQLSTATE classes of a refused or lost PostgreSQL connection: 08 connection exception, 28 invalid authorization
+# (wrong password), 3D invalid catalog name (no such database), 57P operator intervention (shutting down, starting).
+_PG_UNREACHABLE = ("08", "28", "3D", "57P")
+
+
+def unreachable(exc: BaseException, url: str) -> BaseException | None:
+    """The error in ``exc``'s chain (itself, then its cause or context) that means the store at ``url`` cannot be
+    opened or reached, else None.
+
+    That is: a driver error of a refused, failed or lost connection (server down, login refused, no such database);
+    a SQLite file that cannot be opened, is not a database or stayed locked; an OS error on the store's file, its
+    lock or its folder (missing and impossible to create, or not writable); or any :class:`StoreError` about a
+    SQLite store whose file is not there. A bad URL, a bad query or a bug is not.
+    """
+    path = sqlite_file(url)
+    seen: set[int] = set()
+    while exc is not None and id(exc) not in seen:
+        seen.add(id(exc))
+        if _cannot_reach(exc, path):
+            return exc
+        exc = exc.__cause__ or exc.__context__
+    return None
+
+
+def _cannot_reach(exc: BaseException, path: Path | None) -> bool:
+    import sqlite3
+    import sys
+
+    if isinstance(exc, StoreError):
+        return path is not None and not path.exists()
+    if getattr(exc, "connection_invalidated", False):  # SQLAlchemy saw the connection drop
+        return True
+    if isinstance(exc, sqlite3.DatabaseError):
+        return any(words in str(exc).lower() for words in _SQLITE_UNREACHABLE)
+    psycopg = sys.modules.get("psycopg")  # only loaded when a PostgreSQL store was used
+    if psycopg is not None and isinstance(exc, psycopg.OperationalError):
+        state = getattr(exc, "sqlstate", None)
+        return state is None or state.startswith(_PG_UNREACHABLE)
+    if isinstance(exc, OSError) and exc.filename is not None and path is not None:
+        return _store_file(Path(str(exc.filename)), path)
+    return False
+
+
+def _store_file(name: Path, path: Path) -> bool:
+    """Whether ``name`` is the store file ``path``, a file beside it named after it (lock, WAL) or a folder above."""
+    name, path = Path(os.path.abspath(name)), Path(os.path.abspath(path))
+    return name == path or name in path.parents or (name.parent == path.parent and name.name.startswith(path.name))
 
 
 def sqlite_file(url: str) -> Path | None:
@@ -93,10 +150,12 @@ def make_engine(url: str, *, create_dirs: bool = True):
 
             kwargs["poolclass"] = StaticPool
             kwargs["connect_args"]["check_same_thread"] = False
+    from sqlalchemy.exc import ArgumentError
+
     try:
         engine = create_engine(url, future=True, **kwargs)
-    except Exception as exc:
-        raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
+    except (ArgumentError, ImportError, ValueError) as exc:  # a URL that cannot be parsed, or no such driver
+        raise StoreError(failure_text(exc, url)) from None
     if is_sqlite:
         @event.listens_for(engine, "connect")
         def _pragmas(dbapi_conn, _record):  # pragma: no cover - exercised by every SQLite test

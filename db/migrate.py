@@ -84,18 +84,18 @@ def upgrade_store(url: str, revision: str = "head") -> str:
                 raise StoreError(f"the store at {mask_url(url)} is empty (run 'holdoff db init')")
             cfg = config(connection=conn)
             rev = current_revision(conn)
-            if rev is None:
+            if not rev:
                 # Built before migrations were installed: its revision is in the meta table.
                 rev = conn.execute(text("SELECT value FROM meta WHERE key = 'schema_revision'")).scalar() \
                     if insp.has_table("meta") else None
-                if rev is None:
+                if not rev:
                     raise StoreError(f"the store at {mask_url(url)} has no schema revision; "
                                      "dump it with 'holdoff db dump' and load the bundle into a new store")
                 command.stamp(cfg, rev)
             scripts = ScriptDirectory.from_config(cfg)
             try:
                 scripts.get_revision(rev)
-            except Exception:
+            except CommandError:
                 raise StoreError(f"the store is at revision {rev}, which this holdoff does not know (its newest is "
                                  f"{scripts.get_current_head()}); upgrade holdoff") from None
             try:

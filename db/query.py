@@ -80,7 +80,7 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         wanted = {r[0] for r in mats}
         rows = [r for r in rows if r[0] in wanted]
     n = len(rows)
-    cols = list(zip(*rows)) if rows else [()] * 12
+    cols = list(zip(*rows, strict=True)) if rows else [()] * 12
     # Store ids to table positions through lookup arrays (ids are positive integers).
     mat_ids = np.fromiter((r[0] for r in mats), dtype=np.int64, count=len(mats))
     src_ids = np.fromiter((r[0] for r in srcs), dtype=np.int64, count=len(srcs))
@@ -122,12 +122,12 @@ def summaries(session, *, family: str | None = None, where: str | None = None) -
     """The catalog listing: each material of ``family`` that satisfies ``where``, with its headline reference
     values (small-signal, nearest 25 °C and 1 kHz; None where missing) and the kinds of source behind its values.
 
-    Read column-wise (:func:`materials.lookup_columns.reference_values`): the same numbers as
+    Read column-wise (:func:`materials.lookup.reference_values`): the same numbers as
     :func:`list_materials` with :func:`materials.lookup.reference_value`, without a record per value.
     """
     import numpy as np
 
-    from materials.lookup_columns import reference_values
+    from materials.lookup import reference_values
 
     keys, pred = set(), None
     if where:

@@ -10,8 +10,9 @@ Grammar (case-insensitive keywords)::
     ATTR    := "family" | "response" | "origin"
 
 A quantity is a number with a unit (``125 degC``, ``400 V/um``, ``1.2 g/cm^3``, ``0.2 W/(m K)``: brackets right
-after a ``/`` belong to the unit); dimensionless properties take a bare number. A property is compared by its reference value (small-signal, nearest 25 °C and 1 kHz); a material
-without the property fails every comparison on it (so ``not`` of such a comparison holds).
+after a ``/`` belong to the unit); dimensionless properties take a bare number. A property is compared by its
+reference value (small-signal, nearest 25 °C and 1 kHz); a material without the property fails every comparison
+on it (so ``not`` of such a comparison holds).
 """
 
 from __future__ import annotations

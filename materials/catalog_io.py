@@ -98,7 +98,7 @@ def load_sources(path: Path) -> dict[str, SourceRec]:
     data, lines = _load_toml(path)
     out: dict[str, SourceRec] = {}
     for key, body in data.items():
-        line = next((i for i, l in enumerate(lines, 1) if l.strip() == f"[{key}]"), None)
+        line = next((i for i, text in enumerate(lines, 1) if text.strip() == f"[{key}]"), None)
         err = dict(file=str(path), line=line, entry=key)
         if not isinstance(body, dict):
             raise InputError("each source must be a table", **err)

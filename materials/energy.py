@@ -40,12 +40,64 @@ def linear_energy_density(relative_permittivity, field_V_per_m):
 
 # --- DC-bias curves ------------------------------------------------------------------------------------------
 
+class CurveSet:
+    """Many DC-bias curves at once: differential permittivity εr,diff(|E|) piecewise-linear between knots.
+
+    ``fields``/``eps`` are ``(M, K)``, row ``i`` holding ``n[i]`` knots from zero field up (columns past ``n[i]``
+    repeat the last knot). Beyond the last knot the last permittivity is held. Methods take row indices ``i`` and
+    fields ``E`` of one shape and are exact for the interpolant: ``D = ε0·∫εr de`` and ``u = ε0·∫e·εr de`` summed
+    segment by segment (a cumulative sum of the exact segment integrals).
+    """
+
+    def __init__(self, fields, eps, n=None):
+        e = np.atleast_2d(np.asarray(fields, dtype=float))
+        k = np.atleast_2d(np.asarray(eps, dtype=float))
+        self.n = np.full(e.shape[0], e.shape[1]) if n is None else np.asarray(n, dtype=np.int64)
+        self.e, self.k = e, k
+        de = np.diff(e, axis=1)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            slope = np.where(de > 0, np.diff(k, axis=1) / np.where(de > 0, de, 1.0), 0.0)
+        self.slope = np.concatenate([slope, np.zeros((e.shape[0], 1))], axis=1)
+        s = slope
+        seg_d = k[:, :-1] * de + s * de**2 / 2
+        seg_u = e[:, :-1] * k[:, :-1] * de + (e[:, :-1] * s + k[:, :-1]) * de**2 / 2 + s * de**3 / 3
+        zero = np.zeros((e.shape[0], 1))
+        self.cum_d = np.concatenate([zero, np.cumsum(seg_d, axis=1)], axis=1)
+        self.cum_u = np.concatenate([zero, np.cumsum(seg_u, axis=1)], axis=1)
+        self.top = e[np.arange(e.shape[0]), np.maximum(self.n - 1, 0)]
+
+    def _locate(self, i, field_V_per_m):
+        i = np.asarray(i, dtype=np.int64)
+        mag = np.abs(np.asarray(field_V_per_m, dtype=float))
+        i, mag = np.broadcast_arrays(i, mag)
+        last = np.maximum(self.n[i] - 1, 0)
+        j = np.minimum((self.e[i] <= mag[..., None]).sum(axis=-1) - 1, last)
+        j = np.maximum(j, 0)
+        s = mag - self.e[i, j]
+        q = np.where(mag > self.top[i], 0.0, self.slope[i, j])
+        return i, j, s, q
+
+    def permittivity(self, i, field_V_per_m):
+        i, j, s, q = self._locate(i, field_V_per_m)
+        return self.k[i, j] + q * s
+
+    def charge(self, i, field_V_per_m):
+        f = np.asarray(field_V_per_m, dtype=float)
+        i, j, s, q = self._locate(i, f)
+        return EPSILON_0 * np.sign(f) * (self.cum_d[i, j] + self.k[i, j] * s + q * s**2 / 2)
+
+    def energy(self, i, field_V_per_m):
+        i, j, s, q = self._locate(i, field_V_per_m)
+        ei, ki = self.e[i, j], self.k[i, j]
+        return EPSILON_0 * (self.cum_u[i, j] + ei * ki * s + (ei * q + ki) * s**2 / 2 + q * s**3 / 3)
+
+
 class BiasCurve:
-    """A DC-bias curve: differential permittivity εr,diff(|E|), piecewise-linear between the given fields.
+    """One DC-bias curve: differential permittivity εr,diff(|E|), piecewise-linear between the given fields.
 
     Methods ``permittivity(E, extrapolate)``, ``charge(E, extrapolate)`` (D, C/m²) and
-    ``energy(E, extrapolate)`` (∫E dD, J/m³) are exact for the interpolant and vectorised over E; build one
-    when evaluating the same curve many times.
+    ``energy(E, extrapolate)`` (∫E dD, J/m³) are exact for the interpolant and vectorised over E; the arithmetic is
+    :class:`CurveSet`'s with one row.
     """
 
     def __init__(self, bias_field_V_per_m, differential_permittivity):
@@ -67,41 +119,29 @@ class BiasCurve:
             # εr(E) is even in E, so its slope is zero at E = 0: hold the lowest-field value down to zero.
             e, k = np.concatenate([[0.0], e]), np.concatenate([[k[0]], k])
         self.e, self.k = e, k
-        de = np.diff(e)
-        self.slope = np.concatenate([np.diff(k) / de, [0.0]]) if e.size > 1 else np.zeros(1)
-        # exact segment integrals of εr and e·εr, accumulated at the knots
-        seg_d = k[:-1] * de + self.slope[:-1] * de**2 / 2
-        seg_u = e[:-1] * k[:-1] * de + (e[:-1] * self.slope[:-1] + k[:-1]) * de**2 / 2 + self.slope[:-1] * de**3 / 3
-        self.cum_d = np.concatenate([[0.0], np.cumsum(seg_d)])
-        self.cum_u = np.concatenate([[0.0], np.cumsum(seg_u)])
+        self._set = CurveSet(e[None, :], k[None, :])
 
-    def _locate(self, field_V_per_m, extrapolate: bool):
+    def _check(self, field_V_per_m, extrapolate: bool):
         f = np.asarray(field_V_per_m, dtype=float)
         if not np.all(np.isfinite(f)):
             raise InputError("fields must be finite", field="field_V_per_m")
-        mag = np.abs(f)
         top = self.e[-1]
-        if not extrapolate and np.any(mag > top * (1 + 1e-12)):
-            raise DataError(f"field {mag.max():.4g} V/m is beyond the DC-bias curve, which ends at {top:.4g} V/m; "
-                            "pass extrapolate=True to hold the last permittivity constant beyond it")
-        i = np.clip(np.searchsorted(self.e, mag, side="right") - 1, 0, self.e.size - 1)
-        slope = np.where(mag > top, 0.0, self.slope[i])
-        return f, mag, i, mag - self.e[i], slope
+        if not extrapolate and np.any(np.abs(f) > top * (1 + 1e-12)):
+            raise DataError(f"field {np.abs(f).max():.4g} V/m is beyond the DC-bias curve, which ends at {top:.4g} "
+                            "V/m; pass extrapolate=True to hold the last permittivity constant beyond it")
+        return f
 
     def permittivity(self, field_V_per_m, extrapolate: bool = False):
-        _, _, i, s, q = self._locate(field_V_per_m, extrapolate)
-        return self.k[i] + q * s
+        f = self._check(field_V_per_m, extrapolate)
+        return self._set.permittivity(np.zeros(f.shape, np.int64), f)
 
     def charge(self, field_V_per_m, extrapolate: bool = False):
-        f, _, i, s, q = self._locate(field_V_per_m, extrapolate)
-        d = self.cum_d[i] + self.k[i] * s + q * s**2 / 2
-        return EPSILON_0 * np.sign(f) * d
+        f = self._check(field_V_per_m, extrapolate)
+        return self._set.charge(np.zeros(f.shape, np.int64), f)
 
     def energy(self, field_V_per_m, extrapolate: bool = False):
-        _, _, i, s, q = self._locate(field_V_per_m, extrapolate)
-        ei, ki = self.e[i], self.k[i]
-        u = self.cum_u[i] + ei * ki * s + (ei * q + ki) * s**2 / 2 + q * s**3 / 3
-        return EPSILON_0 * u
+        f = self._check(field_V_per_m, extrapolate)
+        return self._set.energy(np.zeros(f.shape, np.int64), f)
 
 
 def nonlinear_energy_density(bias_field_V_per_m, differential_permittivity, field_V_per_m, *, extrapolate=False):
@@ -308,7 +348,7 @@ def loop_energies(field_V_per_m, polarization_C_per_m2) -> LoopEnergies:
         if "discharge" in problems:
             raise InputError("the loop never returns toward zero field after its peak", field="field")
         raise InputError("the loop has no charging branch rising from near zero field", field="field")
-    stored, recovered, e_max, p_max, p_r = (float(np.mean(col)) for col in zip(*results))
+    stored, recovered, e_max, p_max, p_r = (float(np.mean(col)) for col in zip(*results, strict=True))
     if stored <= 0:
         raise InputError("the charging branch stores no energy: check the sign and order of the samples",
                          field="polarization")

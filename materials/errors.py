@@ -1,16 +1,20 @@
-"""One exception family for holdoff.
+"""One exception family for holdoff, and the exit codes a script can rely on.
 
-A :class:`HoldoffError` is a domain error: the CLI prints its one-line message and exits with code 2.
-Anything else is a bug and keeps its traceback.
+A :class:`HoldoffError` is a domain error: the CLI prints its one-line message and exits with code 2, or 3 when the
+store cannot be opened or reached (decided in one place, cli/app.py). Anything else is a bug and keeps its traceback.
 """
 
 from __future__ import annotations
+
+NOTHING_MATCHED = 1  # a shortlist that ranks nothing, a filtered listing that lists nothing
+BAD_INPUT = 2  # bad input or usage: a HoldoffError
+STORE_UNREACHABLE = 3  # the store cannot be opened or reached
 
 
 class HoldoffError(Exception):
     """A domain error with a one-line message for the user."""
 
-    exit_code = 2
+    exit_code = BAD_INPUT
 
 
 class InputError(HoldoffError):

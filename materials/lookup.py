@@ -1,8 +1,21 @@
-"""A property's value at a condition, from the rows a material holds.
+"""A property's value at a condition, for every material of a :class:`ValueTable` at once (one material is a
+table of one row).
 
-Piecewise-linear interpolation over temperature (and over DC-bias field for a bias curve). Asking outside the
-range the data cover is refused unless extrapolation is asked for; then the end value is held and the answer is
-flagged. The answer carries the rows (and so the sources) it came from.
+The reading rules, written once:
+
+* a material's lab rows alone where it has any (a lab's own measurement supersedes the catalog's generic value);
+* where frequencies are stated, the rows at the stated frequency nearest the one asked (log scale, the lower of two
+  equally near; 1 kHz when none is asked) plus the rows that state none;
+* small-signal rows (no bias field) where the material has any;
+* at one temperature the row of the more direct evidence (:data:`TIER`), then one that states no thickness (a
+  general figure), else the thickest specimen (breakdown falls with thickness: the conservative one), then the
+  first entered;
+* piecewise-linear interpolation between temperatures; outside the data the end value is held and flagged
+  (``extrapolated``), and the single-material :func:`value_at` refuses it unless asked.
+
+DC-bias curves (:func:`bias_curves`) are read the same way at the temperature asked: the bias rows at the stated
+temperature nearest to it, one row per field by evidence, and the small-signal value at that temperature as the
+zero-field point.
 """
 
 from __future__ import annotations
@@ -10,8 +23,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from materials.errors import DataError
 from materials.records import MaterialData, StoredValue
+from materials.table import ValueTable
 
 # When several rows give a property at the same condition, the more direct evidence wins.
 TIER = {"lab": 0, "standard": 1, "handbook": 2, "paper": 3, "web": 4, "common-practice": 5, "recollection": 6,
@@ -21,6 +37,345 @@ CONFIDENCE = {"lab": 1.0, "standard": 1.0, "handbook": 0.9, "paper": 0.85, "web"
               "recollection": 0.35, "invented": 0.1}
 REFERENCE_TEMPERATURE_K = 298.15
 REFERENCE_FREQUENCY_HZ = 1e3
+
+
+def fmt_temperature(t_K: float) -> str:
+    return f"{t_K - 273.15:g} °C"
+
+
+def fmt_field(e_V_per_m: float) -> str:
+    return f"{e_V_per_m / 1e6:g} V/µm"
+
+
+def outside_data_message(prop: str, lo, hi, x, what=fmt_temperature) -> str:
+    """The words for a value asked outside the conditions its data cover."""
+    return (f"{prop} is known only over {what(lo)}…{what(hi)}; {what(x)} is outside the data "
+            "(ask for extrapolation to hold the end value)")
+
+
+# --- column-wise reading ------------------------------------------------------------------------------------
+
+
+class Curve:
+    """One property's rows of every material, prepared for interpolation over temperature.
+
+    ``xs``/``row`` are ``(M, K)``: the temperatures of each material's points (+inf padding) and the row behind
+    each (the row trusted at that temperature); ``unstated`` is the row used when no temperature applies (the best
+    row stating none, or the best of all rows if every row states one); ``has`` whether the material holds the
+    property at all.
+    """
+
+    def __init__(self, t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, tier: np.ndarray):
+        temp = t.temperature_K[rows]
+        thick = t.thickness_m[rows]
+        key_t = np.where(np.isnan(temp), np.inf, temp)
+        order = np.lexsort((t.ids[rows], -np.nan_to_num(thick, nan=0.0), ~np.isnan(thick), tier[rows],
+                            key_t, mat))
+        rs, ms, ts = rows[order], mat[order], key_t[order]
+        self.has = np.zeros(m, dtype=bool)
+        self.has[ms] = True
+        first = np.ones(rs.size, dtype=bool)
+        first[1:] = (ms[1:] != ms[:-1]) | (ts[1:] != ts[:-1])
+        stated = first & np.isfinite(ts)
+        pm, pt, pr = ms[stated], ts[stated], rs[stated]
+        self.n = np.bincount(pm, minlength=m)
+        k = max(1, int(self.n.max()) if pm.size else 1)
+        slot = np.arange(pm.size) - np.searchsorted(pm, pm)
+        self.xs = np.full((m, k), np.inf)
+        self.row = np.full((m, k), -1, dtype=np.int64)
+        self.xs[pm, slot] = pt
+        self.row[pm, slot] = pr
+        self.unstated = np.full(m, -1, dtype=np.int64)
+        uns = first & ~np.isfinite(ts)
+        self.unstated[ms[uns]] = rs[uns]
+        need = self.has & (self.unstated < 0)
+        if need.any():
+            order2 = np.lexsort((t.ids[rows], -np.nan_to_num(thick, nan=0.0), ~np.isnan(thick), tier[rows], mat))
+            r2, m2 = rows[order2], mat[order2]
+            f2 = np.ones(r2.size, dtype=bool)
+            f2[1:] = m2[1:] != m2[:-1]
+            best_all = np.full(m, -1, dtype=np.int64)
+            best_all[m2[f2]] = r2[f2]
+            self.unstated[need] = best_all[need]
+
+
+class Lookup:
+    """Values of a :class:`Curve` for query materials ``q`` at temperatures ``x`` (NaN: none asked, read at 25 °C
+    where the data state temperatures). ``used0``/``used1`` are the rows behind each answer (-1: none).
+
+    With a ``weak`` curve and a ``lend`` mask (per material), a material whose strongest evidence states fewer than
+    two temperatures takes the *shape* of its weaker curve anchored to the strongest value:
+    ``v(T) = v_strong(T_a) · v_weak(T)/v_weak(T_a)``, with ``T_a`` the strong value's temperature (25 °C when it
+    states none). ``lent`` marks those answers; ``shape0``/``shape1`` are the weaker rows that lent the shape.
+    """
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray, *, weak: Curve | None = None,
+                 lend: np.ndarray | None = None):
+        self._read(t, curve, q, x)
+        self.lent = np.zeros(q.size, dtype=bool)
+        self.shape0 = self.shape1 = np.full(q.size, -1, dtype=np.int64)
+        if weak is None or lend is None or not lend[q].any():
+            return
+        k = np.flatnonzero(lend[q])
+        qk = q[k]
+        anchor = np.where(curve.n[qk] > 0, curve.xs[qk, 0], REFERENCE_TEMPERATURE_K)
+        at_x, at_a = _Read(t, weak, qk, x[k]), _Read(t, weak, qk, anchor)
+        with np.errstate(all="ignore"):
+            ratio = at_x.value / at_a.value
+        ok = np.isfinite(ratio) & (at_a.value != 0)
+        k, ratio, qk = k[ok], ratio[ok], qk[ok]
+        base = _Read(t, curve, qk, anchor[ok])
+        self.value[k], self.low[k], self.high[k] = base.value * ratio, base.low * ratio, base.high * ratio
+        self.extrapolated[k] = at_x.extrapolated[ok]
+        self.lo_x[k], self.hi_x[k] = weak.xs[qk, 0], weak.xs[qk, np.maximum(weak.n[qk] - 1, 0)]
+        self.used0[k], self.used1[k] = base.used0, -1
+        self.shape0, self.shape1 = self.shape0.copy(), self.shape1.copy()
+        self.shape0[k], self.shape1[k] = at_x.used0[ok], at_x.used1[ok]
+        self.lent[k] = True
+
+    def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+        # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
+        val, lo_r, hi_r = (np.append(a, np.nan) for a in (t.value, _filled(t.low, t.value),
+                                                          _filled(t.high, t.value)))
+        n = curve.n[q]
+        pts = n > 0
+        x = np.where(np.isnan(x) & pts, REFERENCE_TEMPERATURE_K, x)
+        xs = curve.xs[q]
+        rows = curve.row[q]
+        idx = np.arange(q.size)
+        last = np.maximum(n - 1, 0)
+        lo_x, hi_x = xs[:, 0], xs[idx, last]
+        xq = np.where(pts, x, 0.0)
+        cnt = (xs <= xq[:, None]).sum(axis=1)
+        j = np.clip(cnt, 1, np.maximum(last, 1))
+        r0, r1 = rows[idx, j - 1], rows[idx, np.minimum(j, last)]
+        x0, x1 = xs[idx, j - 1], xs[idx, np.minimum(j, last)]
+        below, above = xq <= lo_x, xq >= hi_x
+        inside = pts & ~below & ~above
+        r_first, r_last = rows[:, 0], rows[idx, last]
+        u = curve.unstated[q]
+
+        def interp(col):
+            y0, y1 = col[r0], col[r1]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                mid = y0 + (y1 - y0) * (xq - x0) / (x1 - x0)
+            out = np.where(below, col[r_first], np.where(above, col[r_last], mid))
+            return np.where(pts, out, col[u])
+
+        self.value, self.low, self.high = interp(val), interp(lo_r), interp(hi_r)
+        tol = 1e-9 * np.maximum(1.0, np.abs(np.where(pts, hi_x, 0.0)))
+        self.extrapolated = pts & ((xq < lo_x - tol) | (xq > hi_x + tol))
+        self.lo_x, self.hi_x, self.x = np.where(pts, lo_x, np.nan), np.where(pts, hi_x, np.nan), xq
+        i = np.clip(cnt - 1, 0, last)
+        at_point = np.abs(xs[idx, i] - xq) <= tol
+        single = ~inside | at_point
+        self.used0 = np.where(pts, rows[idx, i], u)
+        self.used1 = np.where(pts & ~single, rows[idx, np.minimum(i + 1, last)], -1)
+        self.present = curve.has[q]
+
+
+class _Read(Lookup):
+    """A plain read of one curve (no lending)."""
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+        self._read(t, curve, q, np.asarray(x, dtype=float))
+
+
+def pick_rows(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, frequency_Hz: float | None) -> np.ndarray:
+    """The rows a temperature lookup reads (see the module docstring): the nearest stated frequency plus rows
+    stating none; small-signal rows where the material has any."""
+    rows = _nearest_frequency(t, rows, mat, m, frequency_Hz)
+    e = t.field_V_per_m[rows]
+    small = np.isnan(e) | (e == 0)
+    if small.all():
+        return rows
+    has_small = np.bincount(mat[rows][small], minlength=m) > 0
+    return rows[small | ~has_small[mat[rows]]]
+
+
+def _nearest_frequency(t: ValueTable, rows, mat, m, frequency_Hz):
+    rm = mat[rows]
+    f = t.frequency_Hz[rows]
+    stated = ~np.isnan(f) & (f != 0)  # a zero frequency counts as not stated
+    if not stated.any():
+        return rows
+    want = frequency_Hz or REFERENCE_FREQUENCY_HZ
+    freqs = np.unique(f[stated])
+    dist = np.array([abs(math.log(x / want)) for x in freqs.tolist()])
+    rank = np.empty(freqs.size, dtype=np.int64)
+    rank[np.lexsort((freqs, dist))] = np.arange(freqs.size)
+    r_of = np.full(rows.size, np.iinfo(np.int64).max)
+    r_of[stated] = rank[np.searchsorted(freqs, f[stated])]
+    best = np.full(m, np.iinfo(np.int64).max)
+    np.minimum.at(best, rm, r_of)
+    return rows[~stated | (r_of == best[rm])]
+
+
+def _filled(a, fallback):
+    return np.where(np.isnan(a), fallback, a)
+
+
+def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
+    """Per row: whether its source is a lab's, and its source's evidence tier (:data:`TIER`)."""
+    if not t.source.size:
+        return np.zeros(0, bool), np.zeros(0, np.int64)
+    lab = np.array([k == "lab" for k in t.source_kinds], dtype=bool)
+    tier = np.array([TIER.get(k, 9) for k in t.source_kinds], dtype=np.int64)
+    return lab[t.source], tier[t.source]
+
+
+def distinct_temperatures(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int) -> np.ndarray:
+    """Per material, how many distinct temperatures ``rows`` (of one property, in table order) state."""
+    rows = rows[~np.isnan(t.temperature_K[rows])]
+    rm, rt = mat[rows], t.temperature_K[rows]
+    new = np.ones(rows.size, dtype=bool)
+    new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])  # table order: by material, then temperature
+    return np.bincount(rm[new], minlength=m)
+
+
+class Reader:
+    """A table prepared for lookups: active rows, their material, lab flag and evidence tier, computed once."""
+
+    def __init__(self, t: ValueTable):
+        self.t = t
+        self.m = len(t)
+        self.mat = t.material_of_row
+        self.active = ~t.retired
+        self.lab_row, self.tier = row_sources(t)
+        self._curves: dict = {}
+
+    def rows_of(self, prop: str, mask: np.ndarray | None = None) -> np.ndarray:
+        c = self.t.code(prop)
+        if c < 0:
+            return np.zeros(0, np.int64)
+        sel = self.active & (self.t.prop == c)
+        return np.flatnonzero(sel if mask is None else sel & mask[self.mat])
+
+    def curves(self, prop: str, frequency_Hz: float | None = None) -> tuple[Curve, Curve, np.ndarray]:
+        """The small-signal temperature curves of ``prop`` for every material, prepared once per frequency: the
+        curve of the strongest evidence each material holds, the curve of its weaker rows, and whether the weaker
+        curve lends its shape (the strongest evidence states fewer than two temperatures, the weaker two or more)."""
+        key = (prop, frequency_Hz)
+        if key not in self._curves:
+            rows = pick_rows(self.t, self.rows_of(prop), self.mat, self.m, frequency_Hz)
+            rm = self.mat[rows]
+            best = np.full(self.m, np.iinfo(np.int64).max)
+            np.minimum.at(best, rm, self.tier[rows])
+            strong = self.tier[rows] == best[rm]
+            c_strong = Curve(self.t, rows[strong], rm[strong], self.m, self.tier)
+            c_weak = Curve(self.t, rows[~strong], rm[~strong], self.m, self.tier)
+            lend = (c_strong.n < 2) & (c_weak.n >= 2)
+            self._curves[key] = (c_strong, c_weak, lend)
+        return self._curves[key]
+
+    def curve(self, prop: str, frequency_Hz: float | None = None) -> Curve:
+        """The curve of the strongest evidence each material holds for ``prop``."""
+        return self.curves(prop, frequency_Hz)[0]
+
+    def lookup(self, prop: str, q: np.ndarray, x: np.ndarray, *, frequency_Hz: float | None = None) -> Lookup:
+        """``prop`` of materials ``q`` at temperatures ``x`` by the evidence order (see :class:`Lookup`)."""
+        strong, weak, lend = self.curves(prop, frequency_Hz)
+        return Lookup(self.t, strong, q, x, weak=weak, lend=lend)
+
+    def at(self, prop: str, temperature_K=None, *, frequency_Hz: float | None = None,
+           materials: np.ndarray | None = None) -> Lookup:
+        """``prop`` of ``materials`` (all by default) at ``temperature_K`` (one or one per material; None: 25 °C
+        where temperatures are stated, else the unstated value)."""
+        q = np.arange(self.m) if materials is None else np.asarray(materials, dtype=np.int64)
+        x = np.broadcast_to(np.asarray(np.nan if temperature_K is None else temperature_K, dtype=float),
+                            q.shape).copy()
+        return self.lookup(prop, q, x, frequency_Hz=frequency_Hz)
+
+
+@dataclass
+class BiasCurves:
+    """DC-bias curves of every material, padded: ``fields``/``eps``/``low``/``high``/``row`` are ``(M, K)`` with
+    the zero-field point in column 0 and ``n`` points per material (``n == 0``: no bias data). Padding repeats the
+    last point. ``temperature_K`` is the temperature of the bias rows used (NaN: not stated)."""
+
+    n: np.ndarray
+    fields: np.ndarray
+    eps: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    row: np.ndarray
+    temperature_K: np.ndarray
+
+    @property
+    def has(self) -> np.ndarray:
+        return self.n > 0
+
+
+def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup) -> BiasCurves:
+    """Every material's DC-bias curve at (the bias data nearest) ``temperature_K`` (per material), with
+    ``zero`` — the small-signal permittivity at that temperature — as its zero-field point."""
+    t, m = r.t, r.m
+    code = t.code("relative_permittivity")
+    sel = r.active & (t.prop == code) & np.isfinite(t.field_V_per_m) & (t.field_V_per_m != 0) if code >= 0 else None
+    rows = np.flatnonzero(sel) if sel is not None else np.zeros(0, np.int64)
+    want = np.where(np.isnan(temperature_K), REFERENCE_TEMPERATURE_K, temperature_K)
+    rm, rt = r.mat[rows], t.temperature_K[rows]
+    # Bias data at several temperatures (an unstated one counts as one): the stated temperature nearest the one
+    # asked, the lower of two equally near.
+    key_t = np.where(np.isnan(rt), np.inf, rt)
+    o = np.lexsort((key_t, rm))
+    new = np.ones(o.size, dtype=bool)
+    new[1:] = (rm[o][1:] != rm[o][:-1]) | (key_t[o][1:] != key_t[o][:-1])
+    n_temps = np.bincount(rm[o][new], minlength=m)
+    dist = np.where(np.isnan(rt), np.inf, np.abs(rt - want[rm]))
+    o = np.lexsort((key_t, dist, rm))
+    first = np.ones(o.size, dtype=bool)
+    first[1:] = rm[o][1:] != rm[o][:-1]
+    chosen = np.full(m, np.nan)
+    chosen[rm[o][first]] = rt[o][first]
+    keep = (n_temps[rm] <= 1) | (rt == chosen[rm])
+    rows, rm = rows[keep], rm[keep]
+    # One row per field: the more direct evidence, then the first in table order.
+    e = t.field_V_per_m[rows]
+    o = np.lexsort((rows, r.tier[rows], e, rm))
+    rows, rm, e = rows[o], rm[o], e[o]
+    first = np.ones(rows.size, dtype=bool)
+    first[1:] = (rm[1:] != rm[:-1]) | (e[1:] != e[:-1])
+    rows, rm = rows[first], rm[first]
+    n_b = np.bincount(rm, minlength=m)
+    k = int(n_b.max()) + 1 if rows.size else 1
+    slot = np.arange(rows.size) - np.searchsorted(rm, rm) + 1
+    has = n_b > 0
+    fields = np.zeros((m, k))
+    eps = np.repeat(zero.value[:, None], k, axis=1)
+    low = np.repeat(zero.low[:, None], k, axis=1)
+    high = np.repeat(zero.high[:, None], k, axis=1)
+    row = np.full((m, k), -1, dtype=np.int64)
+    row[:, 0] = zero.used0
+    fields[rm, slot] = t.field_V_per_m[rows]
+    eps[rm, slot] = t.value[rows]
+    low[rm, slot] = _filled(t.low, t.value)[rows]
+    high[rm, slot] = _filled(t.high, t.value)[rows]
+    row[rm, slot] = rows
+    n = np.where(has, n_b + 1, 0)
+    # pad with the last point so that every column past n holds the curve's end
+    last = np.maximum(n - 1, 0)
+    pad = np.arange(k)[None, :] >= n[:, None]
+    pr, pc = np.nonzero(pad)
+    for a in (fields, eps, low, high, row):
+        a[pr, pc] = a[pr, last[pr]]
+    used_t = np.full(m, np.nan)
+    used_t[rm] = t.temperature_K[rows]
+    return BiasCurves(n=n, fields=fields, eps=eps, low=low, high=high, row=row, temperature_K=used_t)
+
+
+def reference_values(t: ValueTable, props) -> dict[str, np.ndarray]:
+    """Each material's reference value of each of ``props`` (small-signal, nearest 25 °C and 1 kHz, SI), NaN
+    where the material lacks the property: what ``--where`` filters and listings compare."""
+    r = Reader(t)
+    out = {}
+    for prop in props:
+        lk = r.at(prop)
+        out[prop] = np.where(lk.present, lk.value, np.nan)
+    return out
+
+
+# --- one material -------------------------------------------------------------------------------------------
 
 
 @dataclass(frozen=True)
@@ -34,6 +389,7 @@ class ValueAt:
     extrapolated: bool = False
     rows: tuple[StoredValue, ...] = field(default_factory=tuple)
     covered: tuple[float, float] | None = None  # abscissa range of the data (K or V/m), None if a single value
+    lent: bool = False   # the shape over temperature comes from weaker evidence, anchored to the stronger value
 
     @property
     def sources(self) -> list[str]:
@@ -48,94 +404,17 @@ class ValueAt:
         return min((CONFIDENCE.get(r.source.kind, 0.0) for r in self.rows), default=0.0)
 
 
-def _best(rows: list[StoredValue]) -> StoredValue:
-    """The row to trust among rows at one condition: the more direct evidence first; then a row that states no
-    thickness (a general figure), else the thickest specimen (breakdown falls with thickness, so the conservative
-    one); then the first entered."""
-    return min(rows, key=lambda r: (TIER.get(r.source.kind, 9), r.thickness_m is not None, -(r.thickness_m or 0.0),
-                                    r.id))
+def reader_of(material: MaterialData) -> tuple[Reader, list[StoredValue]]:
+    """A one-material table of ``material`` and its rows in table order, prepared once per state of its values."""
+    cache = material.cache()
+    if "reader" not in cache:
+        t = ValueTable.from_materials([material])
+        cache["reader"] = (Reader(t), t.materials([0])[0].values)
+    return cache["reader"]
 
 
-def _pick_frequency(rows: list[StoredValue], frequency_Hz: float | None) -> list[StoredValue]:
-    """Rows at the stated frequency nearest (on a log scale) to the one asked; unstated only if nothing else."""
-    stated = [r for r in rows if r.frequency_Hz]
-    if not stated:
-        return rows
-    want = frequency_Hz or REFERENCE_FREQUENCY_HZ
-    best = min({r.frequency_Hz for r in stated}, key=lambda f: (abs(math.log(f / want)), f))
-    return [r for r in stated if r.frequency_Hz == best] + [r for r in rows if not r.frequency_Hz]
-
-
-def _interp(xs, ys, x):
-    """np.interp for short lists (ends held), in plain Python: a curve has a handful of points."""
-    import bisect
-
-    if x <= xs[0]:
-        return float(ys[0])
-    if x >= xs[-1]:
-        return float(ys[-1])
-    j = bisect.bisect_right(xs, x)
-    x0, x1 = xs[j - 1], xs[j]
-    return float(ys[j - 1] + (ys[j] - ys[j - 1]) * (x - x0) / (x1 - x0))
-
-
-class _Curve:
-    """Rows of one property prepared once for interpolation over ``attr``; rows without it are one unstated point."""
-
-    __slots__ = ("rows", "attr", "with_x", "unstated", "xs", "pts", "vals", "lows", "highs")
-
-    def __init__(self, rows: list[StoredValue], attr: str):
-        self.rows, self.attr = rows, attr
-        self.with_x = [r for r in rows if getattr(r, attr) is not None]
-        pool = [r for r in rows if getattr(r, attr) is None] or rows
-        self.unstated = _best(pool)
-        by_x: dict[float, list[StoredValue]] = {}
-        for r in self.with_x:
-            by_x.setdefault(getattr(r, attr), []).append(r)
-        self.xs = sorted(by_x)
-        self.pts = [_best(by_x[k]) for k in self.xs]
-        self.vals = [p.value for p in self.pts]
-        self.lows = [p.low if p.low is not None else p.value for p in self.pts]
-        self.highs = [p.high if p.high is not None else p.value for p in self.pts]
-
-    def at(self, x: float | None, *, prop: str, extrapolate: bool, what) -> ValueAt:
-        if not self.with_x or x is None:
-            if x is None and self.with_x and self.attr == "temperature_K":
-                return self.at(REFERENCE_TEMPERATURE_K, prop=prop, extrapolate=True, what=what)
-            r = self.unstated
-            return ValueAt(prop, r.value, r.low if r.low is not None else r.value,
-                           r.high if r.high is not None else r.value, False, (r,), None)
-        xs, pts = self.xs, self.pts
-        lo_x, hi_x = xs[0], xs[-1]
-        tol = 1e-9 * max(1.0, abs(hi_x))
-        outside = x < lo_x - tol or x > hi_x + tol
-        if outside and not extrapolate:
-            raise DataError(f"{prop} is known only over {what(lo_x)}…{what(hi_x)}; {what(x)} is outside the data "
-                            "(ask for extrapolation to hold the end value)")
-        # The rows that bracket x are the evidence for the answer.
-        i = max(0, min(len(xs) - 1, sum(1 for k in xs if k <= x) - 1))
-        used = (pts[i],) if (x <= lo_x or x >= hi_x or abs(xs[i] - x) <= tol) else (pts[i], pts[i + 1])
-        return ValueAt(prop, _interp(xs, self.vals, x), _interp(xs, self.lows, x), _interp(xs, self.highs, x),
-                       bool(outside), used, (lo_x, hi_x))
-
-
-def _curve(rows: list[StoredValue], attr: str, x: float | None, *, prop: str, extrapolate: bool,
-           what) -> ValueAt:
-    """Interpolate ``rows`` over ``attr`` at ``x``; rows without the attribute count as one unstated point."""
-    return _Curve(rows, attr).at(x, prop=prop, extrapolate=extrapolate, what=what)
-
-
-def _fmt_T(t):
-    return f"{t - 273.15:g} °C"
-
-
-def _fmt_E(e):
-    return f"{e / 1e6:g} V/µm"
-
-
-def small_signal_rows(rows: list[StoredValue]) -> list[StoredValue]:
-    """Rows with no bias field (or zero): the small-signal value."""
-    return [r for r in rows if not r.field_V_per_m]
+def _stored(rows: list[StoredValue], *idx) -> tuple[StoredValue, ...]:
+    return tuple(rows[int(i)] for i in idx if i >= 0)
 
 
 def value_at(material: MaterialData, prop: str, *, temperature_K: float | None = None,
@@ -143,82 +422,67 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
              extrapolate: bool = False) -> ValueAt:
     """The value of ``prop`` for ``material`` at a temperature (K) and, for a bias curve, a field (V/m).
 
-    Lab rows, where there are any, stand alone: a lab's own measurement of its own material supersedes the
-    catalog's generic value. Raises DataError if the property is missing or the condition is outside the data.
+    Read by the rules of this module (the same code that reads a whole store). Raises DataError if the property
+    is missing or the condition lies outside the data and ``extrapolate`` is not asked for.
     """
-    if not field_V_per_m:
-        curve = _temperature_curve(material, prop, frequency_Hz)
-        if curve is None:
-            raise DataError(f"{material.key} has no {prop}")
-        return curve.at(temperature_K, prop=prop, extrapolate=extrapolate, what=_fmt_T)
-    rows = material.rows(prop)
-    if not rows:
-        raise DataError(f"{material.key} has no {prop}")
-    lab = [r for r in rows if r.source.kind == "lab"]
-    rows = lab or rows
-    rows = _pick_frequency(rows, frequency_Hz)
+    r, stored = reader_of(material)
     if field_V_per_m:
-        bias = [r for r in rows if r.field_V_per_m is not None]
-        if not bias:
-            raise DataError(f"{material.key} has no {prop} under DC bias")
-        temps = {r.temperature_K for r in bias}
-        if len(temps) > 1:
-            want = temperature_K or REFERENCE_TEMPERATURE_K
-            near = min((t for t in temps if t is not None), key=lambda t: abs(t - want))
-            bias = [r for r in bias if r.temperature_K == near]
-        first = min(r.field_V_per_m for r in bias)
-        small = small_signal_rows(rows)
-        if 0 < field_V_per_m < first and small:
-            # Below the first bias point the curve runs to the small-signal value at zero field, which is data.
-            zero = value_at(material, prop, temperature_K=temperature_K, frequency_Hz=frequency_Hz,
-                            extrapolate=extrapolate)
-            end = _best([r for r in bias if r.field_V_per_m == first])
-            w = field_V_per_m / first
-
-            def lerp(a, b):
-                return a + (b - a) * w
-
-            return ValueAt(prop, lerp(zero.value, end.value),
-                           lerp(zero.low, end.low if end.low is not None else end.value),
-                           lerp(zero.high, end.high if end.high is not None else end.value), zero.extrapolated,
-                           zero.rows + (end,), (0.0, max(r.field_V_per_m for r in bias)))
-        return _curve(bias, "field_V_per_m", field_V_per_m, prop=prop, extrapolate=extrapolate, what=_fmt_E)
-    rows = small_signal_rows(rows) or rows
-    return _curve(rows, "temperature_K", temperature_K, prop=prop, extrapolate=extrapolate, what=_fmt_T)
+        return _bias_value_at(material, r, stored, prop, temperature_K, field_V_per_m, extrapolate)
+    lk = r.at(prop, temperature_K, frequency_Hz=frequency_Hz)
+    if not lk.present[0]:
+        raise DataError(f"{material.key} has no {prop}")
+    if lk.extrapolated[0] and not extrapolate and temperature_K is not None:
+        raise DataError(outside_data_message(prop, lk.lo_x[0], lk.hi_x[0], temperature_K))
+    covered = None if np.isnan(lk.lo_x[0]) else (float(lk.lo_x[0]), float(lk.hi_x[0]))
+    return ValueAt(prop, float(lk.value[0]), float(lk.low[0]), float(lk.high[0]), bool(lk.extrapolated[0]),
+                   _stored(stored, lk.used0[0], lk.used1[0], lk.shape0[0], lk.shape1[0]), covered, bool(lk.lent[0]))
 
 
-def _temperature_curve(material: MaterialData, prop: str, frequency_Hz: float | None) -> _Curve | None:
-    """The small-signal temperature curve of ``prop``, prepared once per material, property and frequency."""
-    cache = material.cache()
-    key = ("T", prop, frequency_Hz)
-    if key not in cache:
-        rows = material.rows(prop)
-        if rows:
-            rows = [r for r in rows if r.source.kind == "lab"] or rows
-            rows = _pick_frequency(rows, frequency_Hz)
-            rows = small_signal_rows(rows) or rows
-        cache[key] = _Curve(rows, "temperature_K") if rows else None
-    return cache[key]
+def _bias_value_at(material, r, stored, prop, temperature_K, e, extrapolate) -> ValueAt:
+    if prop != "relative_permittivity":
+        raise DataError(f"{material.key} has no {prop} under DC bias")
+    bc = bias_at(material, temperature_K=temperature_K)
+    if bc is None:
+        raise DataError(f"{material.key} has no {prop} under DC bias")
+    n = int(bc.n[0])
+    xs = bc.fields[0, :n]
+    first, top = xs[1], xs[-1]
+    if e > top * (1 + 1e-9) and not extrapolate:
+        raise DataError(outside_data_message(prop, first, top, e, fmt_field))
+    j = int(np.clip(np.searchsorted(xs, e, side="right"), 1, n - 1))
+    if e >= top:
+        used = (bc.row[0, n - 1],)
+    elif abs(xs[j - 1] - e) <= 1e-9 * top:
+        used = (bc.row[0, j - 1],)
+    else:
+        used = (bc.row[0, j - 1], bc.row[0, j])
+
+    def interp(a):
+        return float(np.interp(e, xs, a[0, :n]))
+
+    return ValueAt(prop, interp(bc.eps), interp(bc.low), interp(bc.high), bool(e > top * (1 + 1e-9)),
+                   _stored(stored, *used), (float(first), float(top)))
+
+
+def bias_at(material: MaterialData, *, temperature_K: float | None = None) -> BiasCurves | None:
+    """The one-row :class:`BiasCurves` of ``material`` at ``temperature_K`` (25 °C if None); None if absent."""
+    r, _ = reader_of(material)
+    t = np.array([REFERENCE_TEMPERATURE_K if temperature_K is None else temperature_K])
+    zero = r.at("relative_permittivity", t)
+    if not zero.present[0]:
+        return None
+    bc = bias_curves(r, t, zero)
+    return bc if bc.n[0] else None
 
 
 def bias_curve(material: MaterialData, *, temperature_K: float | None = None):
     """(fields V/m, differential εr, rows) of the DC-bias curve, including the zero-field point; None if absent."""
-    rows = [r for r in material.rows("relative_permittivity") if r.field_V_per_m]
-    if not rows:
+    bc = bias_at(material, temperature_K=temperature_K)
+    if bc is None:
         return None
-    temps = {r.temperature_K for r in rows}
-    if len(temps) > 1:
-        want = temperature_K or REFERENCE_TEMPERATURE_K
-        near = min((t for t in temps if t is not None), key=lambda t: abs(t - want))
-        rows = [r for r in rows if r.temperature_K == near]
-    by_e: dict[float, StoredValue] = {}
-    for r in rows:
-        if r.field_V_per_m not in by_e or TIER.get(r.source.kind, 9) < TIER.get(by_e[r.field_V_per_m].source.kind, 9):
-            by_e[r.field_V_per_m] = r
-    zero = value_at(material, "relative_permittivity", temperature_K=temperature_K, extrapolate=True)
-    fields = [0.0] + sorted(by_e)
-    eps = [zero.value] + [by_e[e].value for e in sorted(by_e)]
-    return fields, eps, list(zero.rows) + [by_e[e] for e in sorted(by_e)]
+    _, stored = reader_of(material)
+    n = int(bc.n[0])
+    return (bc.fields[0, :n].tolist(), bc.eps[0, :n].tolist(), list(_stored(stored, *bc.row[0, :n])))
 
 
 def temperature_points(material: MaterialData, props) -> list[float]:

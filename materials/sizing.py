@@ -17,17 +17,18 @@ import numpy as np
 
 from materials.energy import EPSILON_0, BiasCurve
 from materials.errors import DataError, InputError
+from materials.priors import TEST_AREA as _TEST_AREA, assumed_area_note, assumed_shape_note, shape_prior
+
+_FILM_PRIOR = shape_prior("polymer-film")
 
 CAUTION = ("Caution: the stored energy and the voltage of a capacitor can kill, also after the supply is removed. "
            "These figures are screening estimates, not a rating; follow the applicable standards and local codes, "
            "and confirm any design by qualified testing.")
 
-#: Weibull shape assumed when none is known and defaults are allowed: a common-practice screening value for thin
-#: polymer films (an assumption, not a measurement; lower shapes give more area derating).
-DEFAULT_SHAPE = 10.0
-#: Test electrode area assumed when none is known: 1 cm², the usual small-electrode manual test area
-#: (as compared against by Rytöluoto et al., IEEE TDEI 2015).
-DEFAULT_TEST_AREA_M2 = 1e-4
+#: Weibull shape and test electrode area assumed when none is known and defaults are allowed: the typical values of
+#: the film priors of :mod:`materials.priors` (assumptions with a stated range, not measurements).
+DEFAULT_SHAPE = _FILM_PRIOR.typical
+DEFAULT_TEST_AREA_M2 = _TEST_AREA.typical
 
 
 _SEGMENT_NOTE = ("self-healing segmented electrode: weakest-link scaling over one segment; the failure probability "
@@ -115,6 +116,17 @@ def design_field(*, scale_V_per_m, shape, test_area_m2, area_m2, failure_probabi
     return float(out) if out.ndim == 0 else out
 
 
+def failure_probability(field_V_per_m, *, scale_V_per_m, shape, test_area_m2, area_m2):
+    """Short-term failure probability of an area at a field: the two-parameter Weibull with weakest-link area
+    scaling, ``P = 1 − exp(−(A/A_test)·(E/α)^β)`` (IEEE Std 930-2004 / IEC 62539), computed as ``−expm1`` so that
+    small probabilities keep their digits. Arrays broadcast."""
+    e, a, b, at, ar = (np.asarray(v, dtype=float) for v in (field_V_per_m, scale_V_per_m, shape, test_area_m2,
+                                                             area_m2))
+    with np.errstate(all="ignore"):
+        out = -np.expm1(-(ar / at) * np.power(e / a, b))
+    return float(out) if out.ndim == 0 else out
+
+
 def _breakdown_inputs(scale, shape, test_area, assume_defaults):
     notes = []
     missing = [name for name, v in (("shape", shape), ("test_area_m2", test_area)) if v is None]
@@ -123,10 +135,10 @@ def _breakdown_inputs(scale, shape, test_area, assume_defaults):
                         "defaults with assume_defaults=True)")
     if shape is None:
         shape = DEFAULT_SHAPE
-        notes.append(f"Weibull shape not known: assumed {DEFAULT_SHAPE:g} (common-practice screening value)")
+        notes.append(assumed_shape_note(DEFAULT_SHAPE, _FILM_PRIOR))
     if test_area is None:
         test_area = DEFAULT_TEST_AREA_M2
-        notes.append("breakdown test area not known: assumed 1 cm² (usual small-electrode test area)")
+        notes.append(assumed_area_note(DEFAULT_TEST_AREA_M2, _TEST_AREA))
     scale = _positive("scale_V_per_m", scale)
     shape = _positive("shape", shape)
     if shape <= 1:
@@ -163,7 +175,7 @@ def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, sha
     volume = area * d
     capacitance = charge_per_m2 * area / voltage
     link = area if segment_area is None else segment_area
-    failure = -math.expm1(-(link / test_area) * (e_op / scale) ** shape)
+    failure = failure_probability(e_op, scale_V_per_m=scale, shape=shape, test_area_m2=test_area, area_m2=link)
     if limited_by == "min_thickness":
         notes.append(f"limited by the minimum thickness {d:.4g} m: the operating field is below the design field")
     mass = None if density is None else _positive("density_kg_per_m3", density) * volume
@@ -184,6 +196,127 @@ def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, sha
         small_signal_capacitance_F=small_signal,
         energy_density_J_per_m3=energy / volume,
     )
+
+
+def root_in_bracket(func, lo, hi, *, f_lo, f_hi, xtol: float = 1e-13, maxiter: int = 200):
+    """Roots of increasing functions with ``f_lo <= 0 <= f_hi``, many at once: regula falsi (Illinois variant)
+    kept in its bracket (Dowell & Jarratt, BIT 11, 168 (1971)), with a convergence mask.
+
+    ``func(x, idx)`` evaluates the functions of rows ``idx`` at ``x`` (arrays of one shape). Returns ``(x,
+    iterations, converged)`` as arrays (one entry per row). Written here rather than importing scipy.optimize, whose
+    import costs most of a second on every command; checked against ``scipy.optimize.brentq`` in the tests.
+    """
+    lo, hi, f_lo, f_hi = (np.array(v, dtype=float, ndmin=1) for v in np.broadcast_arrays(lo, hi, f_lo, f_hi))
+    n = lo.size
+    x = np.where(f_lo == 0, lo, hi)
+    its = np.zeros(n, dtype=np.int64)
+    done = (f_lo == 0) | (f_hi == 0)
+    side = np.zeros(n, dtype=np.int64)
+    for k in range(1, maxiter + 1):
+        a = np.flatnonzero(~done)
+        if not a.size:
+            break
+        lw, h, fl, fh = lo[a], hi[a], f_lo[a], f_hi[a]
+        with np.errstate(all="ignore"):
+            xa = np.where(fh != fl, h - fh * (h - lw) / (fh - fl), 0.5 * (lw + h))
+        xa = np.where((xa > lw) & (xa < h), xa, 0.5 * (lw + h))
+        fx = np.asarray(func(xa, a), dtype=float)
+        x[a], its[a] = xa, k
+        stop = (fx == 0) | (h - lw <= xtol * np.maximum(1.0, np.abs(xa)))
+        neg, pos = (fx < 0) & ~stop, (fx > 0) & ~stop
+        an, ap = a[neg], a[pos]
+        lo[an], f_lo[an] = xa[neg], fx[neg]
+        f_hi[an] = np.where(side[an] == -1, 0.5 * f_hi[an], f_hi[an])
+        side[an] = -1
+        hi[ap], f_hi[ap] = xa[pos], fx[pos]
+        f_lo[ap] = np.where(side[ap] == 1, 0.5 * f_lo[ap], f_lo[ap])
+        side[ap] = 1
+        done[a[stop | ~np.isfinite(fx)]] = True
+        if not np.all(np.isfinite(fx)):
+            x[a[~np.isfinite(fx)]] = np.nan
+    converged = done & np.isfinite(x)
+    return x, its, converged
+
+
+def size_columns(*, energy_J, voltage_V, log_k, shape, relative_permittivity, energy_density=None,
+                 nonlinear=None, segment_area_m2=None, min_thickness_m=None) -> dict:
+    """Self-consistent sizing of many layers at once (the rule of :func:`size_linear` and :func:`size_nonlinear`).
+
+    Per row: ``log_k`` (ln K of ``E_design(A) = K·A^(-1/β)``), ``shape`` β, ``relative_permittivity`` (the linear
+    εr, or the zero-field εr of a nonlinear row, used for the first guess), ``segment_area_m2`` (NaN: the whole
+    area is the weakest link), ``min_thickness_m`` (NaN: none). ``nonlinear`` marks rows whose energy density at a
+    field is ``energy_density(idx, E)`` (J/m³) instead of ``½·ε0·εr·E²``.
+
+    Linear rows: ``A = (cV/K)^(β/(β-1))`` with ``c = 2W/(ε0·εr·V²)``. Nonlinear rows: ``W(A) =
+    (V/K)·A^(1+1/β)·u(K·A^(-1/β))`` solved for ln A by :func:`root_in_bracket` after bracketing from the linear
+    estimate. Rows with β ≤ 1 and a whole-area weakest link have no self-consistent size (NaN, not converged).
+    Returns arrays ``thickness_m, area_m2, design_field_V_per_m, at_min (bool), iterations, converged (bool)``.
+    """
+    b = np.asarray(shape, dtype=float)
+    m = b.size
+    log_k = np.broadcast_to(np.asarray(log_k, dtype=float), (m,))
+    er = np.broadcast_to(np.asarray(relative_permittivity, dtype=float), (m,))
+    nl = np.zeros(m, bool) if nonlinear is None else np.broadcast_to(np.asarray(nonlinear, bool), (m,))
+    seg = np.full(m, np.nan) if segment_area_m2 is None else np.broadcast_to(
+        np.asarray(segment_area_m2, dtype=float), (m,))
+    d_min = np.full(m, np.nan) if min_thickness_m is None else np.broadcast_to(
+        np.asarray(min_thickness_m, dtype=float), (m,))
+    energy, v = float(energy_J), float(voltage_V)
+    has_seg = np.isfinite(seg)
+    with np.errstate(all="ignore"):
+        log_c = np.log(2.0 * energy / (EPSILON_0 * er * v**2))
+        log_area = np.where(has_seg, np.log(seg), (log_c + math.log(v) - log_k) * b / (b - 1.0))
+        log_area = np.where(has_seg | (b > 1), log_area, np.nan)
+    its = np.zeros(m, dtype=np.int64)
+    ok = np.isfinite(log_area)
+    roots = np.flatnonzero(nl & ~has_seg & ok)
+    if roots.size:
+        lk, bb = log_k[roots], b[roots]
+        log_w = math.log(energy)
+
+        def f(x, idx):
+            r = roots[idx]
+            e = np.exp(lk[idx] - x / bb[idx])
+            with np.errstate(all="ignore"):
+                return x + math.log(v) - np.log(e) + np.log(energy_density(r, e)) - log_w
+
+        x0 = log_area[roots]
+        everyone = np.arange(roots.size)
+        lo, hi = x0.copy(), x0.copy()
+        f_lo = f_hi = f(x0, everyone)
+        f_lo, f_hi = f_lo.copy(), f_hi.copy()
+        step = math.log(10.0)
+        for _ in range(200):
+            need_lo, need_hi = f_lo > 0, f_hi < 0
+            if not (need_lo.any() or need_hi.any()):
+                break
+            i = np.flatnonzero(need_lo)
+            lo[i] -= step
+            f_lo[i] = f(lo[i], i)
+            i = np.flatnonzero(need_hi)
+            hi[i] += step
+            f_hi[i] = f(hi[i], i)
+        bracketed = (f_lo <= 0) & (f_hi >= 0)
+        x, n_it, conv = root_in_bracket(f, np.where(bracketed, lo, 0.0),
+                                        np.where(bracketed, hi, 1.0), f_lo=np.where(bracketed, f_lo, -1.0),
+                                        f_hi=np.where(bracketed, f_hi, 1.0))
+        good = bracketed & conv
+        log_area[roots] = np.where(good, x, np.nan)
+        its[roots] = n_it
+        ok[roots] = good
+    with np.errstate(all="ignore"):
+        d = np.exp(math.log(v) + log_area / b - log_k)
+        at_min = np.isfinite(d_min) & (d < d_min)
+        d = np.where(at_min, d_min, d)
+        lin_area = np.exp(log_c) * d
+        area = np.where(nl, np.exp(log_area), lin_area)
+        redo = np.flatnonzero(nl & (at_min | has_seg) & ok)
+        if redo.size:
+            area[redo] = energy / (d[redo] * energy_density(redo, v / d[redo]))
+        link = np.where(has_seg, seg, area)
+        e_design = np.exp(log_k - np.log(link) / b)
+    return {"thickness_m": d, "area_m2": area, "design_field_V_per_m": e_design, "at_min": at_min,
+            "iterations": its, "converged": ok}
 
 
 def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, shape=None, test_area_m2=None,
@@ -219,53 +352,21 @@ def size_linear(*, energy_J, voltage_V, relative_permittivity, scale_V_per_m, sh
     scale, shape, test_area, notes = _breakdown_inputs(scale_V_per_m, shape, test_area_m2, assume_defaults)
     p, margin = _probability(failure_probability), _positive("margin", margin)
     log_k = _design_constant(scale, shape, test_area, p, margin)
-
-    log_c = math.log(2.0 * energy / (EPSILON_0 * er * voltage**2))
     if segment_area_m2 is not None:
-        d = voltage / math.exp(log_k - math.log(_positive("segment_area_m2", segment_area_m2)) / shape)
+        _positive("segment_area_m2", segment_area_m2)
         notes = notes + [_SEGMENT_NOTE]
-    else:
-        log_area = (log_c + math.log(voltage) - log_k) * shape / (shape - 1.0)
-        d = math.exp(log_area - log_c)
-    limited_by = "breakdown"
-    if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
-        d, limited_by = float(min_thickness_m), "min_thickness"
-    area = math.exp(log_c) * d
+    if min_thickness_m is not None:
+        _positive("min_thickness_m", min_thickness_m)
+    sol = size_columns(energy_J=energy, voltage_V=voltage, log_k=log_k, shape=np.array([shape]),
+                       relative_permittivity=er, segment_area_m2=segment_area_m2 or np.nan,
+                       min_thickness_m=min_thickness_m or np.nan)
+    d, area = float(sol["thickness_m"][0]), float(sol["area_m2"][0])
     capacitance = EPSILON_0 * er * area / d
     return _finish(d=d, area=area, voltage=voltage, charge_per_m2=EPSILON_0 * er * voltage / d,
                    energy=0.5 * capacitance * voltage**2, small_signal=capacitance, scale=scale, shape=shape,
-                   test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=0,
-                   density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
+                   test_area=test_area, log_k=log_k, limited_by="min_thickness" if sol["at_min"][0] else "breakdown",
+                   iterations=0, density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
                    frequency=frequency_Hz, notes=notes, segment_area=segment_area_m2)
-
-
-def root_in_bracket(func, lo: float, hi: float, *, f_lo: float, f_hi: float, xtol: float = 1e-13,
-                    maxiter: int = 200) -> tuple[float, int]:
-    """Root of an increasing ``func`` with ``f_lo <= 0 <= f_hi``: regula falsi (Illinois variant) kept in its bracket.
-
-    Written here rather than importing scipy.optimize, whose import alone costs most of a second on every
-    command; it converges superlinearly and never leaves the bracket (Dowell & Jarratt, BIT 11, 168 (1971)).
-    """
-    side = 0
-    x = lo
-    for i in range(1, maxiter + 1):
-        x = hi - f_hi * (hi - lo) / (f_hi - f_lo) if f_hi != f_lo else 0.5 * (lo + hi)
-        if not lo < x < hi:
-            x = 0.5 * (lo + hi)
-        fx = func(x)
-        if fx == 0 or hi - lo <= xtol * max(1.0, abs(x)):
-            return x, i
-        if fx < 0:
-            lo, f_lo = x, fx
-            if side == -1:
-                f_hi *= 0.5
-            side = -1
-        else:
-            hi, f_hi = x, fx
-            if side == 1:
-                f_lo *= 0.5
-            side = 1
-    return x, maxiter
 
 
 def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_permittivity, scale_V_per_m,
@@ -276,7 +377,7 @@ def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_perm
 
     The stored energy is ``W = A·d·u(V/d)`` with ``u(E) = ∫0^E e dD`` from
     :func:`materials.energy.nonlinear_energy_density`, and breakdown fixes ``d = V·A^(1/β)/K`` as in
-    :func:`size_linear`. Then ``W(A) = (V/K)·A^(1+1/β)·u(K·A^(-1/β))`` is solved for A by Brent's method on ln A
+    :func:`size_linear`. Then ``W(A) = (V/K)·A^(1+1/β)·u(K·A^(-1/β))`` is solved for A by a bracketed root on ln A
     (:func:`root_in_bracket`, checked against scipy.optimize.brentq in the tests) after bracketing from the
     small-signal linear estimate. W(A) increases, so the root is
     unique, whenever u grows more slowly than E^(β+1) (always for a saturating or linear material).
@@ -296,53 +397,27 @@ def size_nonlinear(*, energy_J, voltage_V, bias_field_V_per_m, differential_perm
     scale, shape, test_area, notes = _breakdown_inputs(scale_V_per_m, shape, test_area_m2, assume_defaults)
     p, margin = _probability(failure_probability), _positive("margin", margin)
     log_k = _design_constant(scale, shape, test_area, p, margin)
-    log_v = math.log(voltage)
-
-    def log_energy(log_area):
-        log_d = log_v + log_area / shape - log_k
-        e = math.exp(log_k - log_area / shape)
-        return log_area + log_d + math.log(float(curve.energy(e, True))) - math.log(energy)
-
     if segment_area_m2 is not None:
-        log_area, iterations = math.log(_positive("segment_area_m2", segment_area_m2)), 0
+        _positive("segment_area_m2", segment_area_m2)
         notes = notes + [_SEGMENT_NOTE]
-    else:
-        # start from the linear solution with the permittivity at zero field, then widen until the sign changes
-        er0 = float(curve.k[0])
-        x0 = (math.log(2.0 * energy / (EPSILON_0 * er0 * voltage**2)) + log_v - log_k) * shape / (shape - 1.0)
-        lo = hi = x0
-        f_lo = f_hi = log_energy(x0)
-        for _ in range(200):
-            if f_lo <= 0 <= f_hi:
-                break
-            if f_lo > 0:
-                lo -= math.log(10.0)
-                f_lo = log_energy(lo)
-            if f_hi < 0:
-                hi += math.log(10.0)
-                f_hi = log_energy(hi)
-        else:  # pragma: no cover - W(A) spans many decades for any physical curve
-            raise InputError("no area stores the energy at this voltage: check the DC-bias curve")
-        if f_lo == 0:
-            log_area, iterations = lo, 0
-        elif f_hi == 0:
-            log_area, iterations = hi, 0
-        else:
-            log_area, iterations = root_in_bracket(log_energy, lo, hi, f_lo=f_lo, f_hi=f_hi)
-    d = math.exp(log_v + log_area / shape - log_k)
-    limited_by = "breakdown"
-    if min_thickness_m is not None and d < _positive("min_thickness_m", min_thickness_m):
-        d, limited_by = float(min_thickness_m), "min_thickness"
+    if min_thickness_m is not None:
+        _positive("min_thickness_m", min_thickness_m)
+    sol = size_columns(energy_J=energy, voltage_V=voltage, log_k=log_k, shape=np.array([shape]),
+                       relative_permittivity=float(curve.k[0]), nonlinear=True,
+                       energy_density=lambda idx, e: curve.energy(e, True),
+                       segment_area_m2=segment_area_m2 or np.nan, min_thickness_m=min_thickness_m or np.nan)
+    if not sol["converged"][0]:  # pragma: no cover - W(A) spans many decades for any physical curve
+        raise InputError("no area stores the energy at this voltage: check the DC-bias curve")
+    d, area = float(sol["thickness_m"][0]), float(sol["area_m2"][0])
     e_op = voltage / d
     u = float(curve.energy(e_op, extrapolate))  # raises DataError beyond the curve unless extrapolate
     if e_op > curve.e[-1]:
         notes.append(f"operating field {e_op:.4g} V/m beyond the DC-bias curve (ends at {curve.e[-1]:.4g} V/m): "
                      "last permittivity held constant")
-    area = (math.exp(log_area) if limited_by == "breakdown" and segment_area_m2 is None
-            else energy / (d * u))
     small_signal = EPSILON_0 * float(curve.permittivity(e_op, True)) * area / d
     return _finish(d=d, area=area, voltage=voltage, charge_per_m2=float(curve.charge(e_op, True)),
                    energy=area * d * u, small_signal=small_signal, scale=scale, shape=shape,
-                   test_area=test_area, log_k=log_k, limited_by=limited_by, iterations=iterations,
-                   density=density_kg_per_m3, loss_tangent=loss_tangent, ripple=ripple_current_A,
-                   frequency=frequency_Hz, notes=notes, segment_area=segment_area_m2)
+                   test_area=test_area, log_k=log_k,
+                   limited_by="min_thickness" if sol["at_min"][0] else "breakdown",
+                   iterations=int(sol["iterations"][0]), density=density_kg_per_m3, loss_tangent=loss_tangent,
+                   ripple=ripple_current_A, frequency=frequency_Hz, notes=notes, segment_area=segment_area_m2)

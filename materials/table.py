@@ -89,7 +89,7 @@ class ValueTable:
             self._py["prop"] = [self.prop_names[c] for c in self.prop.tolist()]
             self._py["source"] = self.source.tolist()
             self._py["refs"] = [SourceRef(key=k, kind=t, citation=c) for k, t, c in
-                                zip(self.source_keys, self.source_kinds, self.source_citations)]
+                                zip(self.source_keys, self.source_kinds, self.source_citations, strict=True)]
         py = self._py
         cols = [py[c] for c in FLOAT_COLUMNS]
         ids, props, srcs, refs, words = py["ids"], py["prop"], py["source"], py["refs"], self.words
@@ -165,7 +165,7 @@ class ValueTable:
                 s = (v.source.key, v.source.kind, v.source.citation)
                 if s not in src_index:
                     src_index[s] = len(src_cols["keys"])
-                    for col, x in zip(("keys", "kinds", "citations"), s):
+                    for col, x in zip(("keys", "kinds", "citations"), s, strict=True):
                         src_cols[col].append(x)
                 vals["material"].append(i)
                 vals["source"].append(src_index[s])

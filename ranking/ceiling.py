@@ -15,12 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from materials.errors import DataError
-from materials.lookup import ValueAt, bias_curve, value_at
 from materials.records import MaterialData
-
-# Common-practice defaults, used only when the caller asks for them (assume_defaults=True).
-DEFAULT_WEIBULL_SHAPE = 10.0      # small-area ramp tests on capacitor films commonly give β ≈ 8–20
-DEFAULT_TEST_AREA_M2 = 1e-4       # 1 cm² electrodes, the usual laboratory coupon
 
 
 @dataclass
@@ -37,7 +32,6 @@ class Ceiling:
     extrapolated: bool
     sources: list[str]
     notes: list[str] = field(default_factory=list)
-    inputs: dict[str, ValueAt] = field(default_factory=dict)
     method: str = "linear"
 
     def to_dict(self) -> dict:
@@ -50,88 +44,85 @@ class Ceiling:
                 "notes": self.notes}
 
 
-def energy_density_at(material: MaterialData, field_V_per_m: float, *, temperature_K: float,
-                      eps: ValueAt | None = None) -> tuple[float, str]:
-    """Stored energy density (J/m³) at a field, and the method used (linear, bias-curve or loop)."""
-    from materials.energy import linear_energy_density, nonlinear_energy_density
+def _one(material: MaterialData, temperature_K: float, assume_defaults: bool):
+    from materials.lookup import reader_of
+    from ranking.engine import worst_inputs
 
-    curve = bias_curve(material, temperature_K=temperature_K)
-    if curve is not None:
-        fields, eps_diff, _rows = curve
-        return float(nonlinear_energy_density(fields, eps_diff, field_V_per_m, extrapolate=True)), "bias-curve"
-    if material.response == "nonlinear" and material.has("recoverable_energy_density"):
-        rows = sorted((r for r in material.rows("recoverable_energy_density") if r.field_V_per_m),
-                      key=lambda r: r.field_V_per_m)
-        if rows:
-            ref = max(rows, key=lambda r: r.field_V_per_m)
-            e = min(field_V_per_m, ref.field_V_per_m)
-            return ref.value * (e / ref.field_V_per_m) ** 2, "loop"
-    if eps is None:
-        eps = value_at(material, "relative_permittivity", temperature_K=temperature_K, extrapolate=True)
-    method = "linear" if material.response == "linear" else "linear-upper-bound"
-    return float(linear_energy_density(eps.value, field_V_per_m)), method
+    r, _ = reader_of(material)
+    return worst_inputs(r, tmin_K=temperature_K, tmax_K=temperature_K, assume_defaults=assume_defaults)
+
+
+def energy_density_at(material: MaterialData, field_V_per_m: float, *, temperature_K: float) -> tuple[float, str]:
+    """Stored energy density (J/m³) at a field, and the method used (linear, bias-curve, loop or the linear upper
+    bound of a nonlinear material known only by εr): :func:`ranking.engine.energy_density` for one material."""
+    from ranking.engine import METHOD_NAMES, energy_density
+
+    inp = _one(material, temperature_K, True)
+    return float(energy_density(inp, [0], [field_V_per_m])[0]), METHOD_NAMES[int(inp.kind[0])]
 
 
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,
                failure_probability: float | None = None, margin: float = 1.0, extrapolate: bool = False,
                assume_defaults: bool = False) -> Ceiling:
-    """The ceiling and design energy density of ``material`` at ``temperature_K``.
+    """The ceiling and design energy density of ``material`` at ``temperature_K``, from the evaluation engine.
 
     With no ``failure_probability`` the design field is the Weibull scale at the part's area (63.2 % failure),
     divided by ``margin``. With no ``area_m2`` no area scaling is done (the test coupon's area is assumed).
     Raises DataError naming a missing property or a temperature outside the data.
     """
-    from materials.energy import linear_energy_density
-    from materials.sizing import design_field
+    import math
 
-    eps = value_at(material, "relative_permittivity", temperature_K=temperature_K, extrapolate=extrapolate)
-    ebd = value_at(material, "breakdown_field", temperature_K=temperature_K, extrapolate=extrapolate)
-    inputs = {"relative_permittivity": eps, "breakdown_field": ebd}
+    from materials.energy import linear_energy_density
+    from materials.lookup import outside_data_message
+    from materials.sizing import design_field
+    from ranking.engine import METHOD_NAMES, energy_density
+    from ranking.reasons import words
+
+    inp = _one(material, temperature_K, assume_defaults)
+    for prop, has, lk, c in (("relative_permittivity", inp.eps_has, inp.eps_g, inp.c_eps),
+                             ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
+        if not has[0]:
+            raise DataError(f"{material.key} has no {prop}")
+        if lk.extrapolated[c[0]] and not extrapolate:
+            raise DataError(outside_data_message(prop, lk.lo_x[c[0]], lk.hi_x[c[0]], temperature_K))
+    eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
-    ceiling = float(linear_energy_density(eps.value, ebd.value))
-    try:
-        beta = value_at(material, "weibull_shape", temperature_K=temperature_K, extrapolate=True)
-        inputs["weibull_shape"] = beta
-        shape = beta.value
-    except DataError:
-        shape = None
-    test_area = next((r.area_m2 for r in ebd.rows if r.area_m2), None)
+    ceiling = float(linear_energy_density(eps, ebd))
+    shape = float(inp.beta[0]) if inp.shape_found[0] else None
+    test_area = float(inp.test_area[0]) if inp.area_found[0] else None
     need_scaling = area_m2 is not None or failure_probability is not None
     if need_scaling and shape is None:
         if not assume_defaults:
-            raise DataError(f"{material.key} has no weibull_shape: its breakdown field cannot be scaled to the "
-                            "part's area or failure probability (allow common-practice defaults to take "
-                            f"β = {DEFAULT_WEIBULL_SHAPE:g})")
-        shape = DEFAULT_WEIBULL_SHAPE
-        notes.append(f"weibull_shape not in the data: common-practice β = {DEFAULT_WEIBULL_SHAPE:g} assumed")
+            raise DataError(f"{material.key}: " + words("shape-missing"))
+        shape = float(inp.beta[0])
+        notes.append(words("assumed-shape", shape=shape, family=material.family))
     if area_m2 is not None and test_area is None:
         if not assume_defaults:
-            raise DataError(f"{material.key}: the electrode area of its breakdown test is not stated, so it cannot "
-                            "be scaled to the part's area (allow common-practice defaults to take 1 cm²)")
-        test_area = DEFAULT_TEST_AREA_M2
-        notes.append("breakdown test area not stated: common-practice 1 cm² assumed")
+            raise DataError(f"{material.key}: " + words("test-area-missing"))
+        test_area = float(inp.test_area[0])
+        notes.append(words("assumed-test-area", area_m2=test_area))
     if need_scaling:
         # Without a part area there is no area scaling: any equal pair of areas gives the ratio 1.
         ref_area = test_area if test_area is not None else 1.0
-        e_design = float(design_field(scale_V_per_m=ebd.value, shape=shape, test_area_m2=ref_area,
+        e_design = float(design_field(scale_V_per_m=ebd, shape=shape, test_area_m2=ref_area,
                                       area_m2=area_m2 if area_m2 is not None else ref_area,
                                       failure_probability=failure_probability if failure_probability is not None
-                                      else 1 - 2.718281828459045 ** -1, margin=margin))
+                                      else -math.expm1(-1.0), margin=margin))
     else:
-        e_design = ebd.value / margin
-    u_design, method = energy_density_at(material, e_design, temperature_K=temperature_K, eps=eps)
-    extrap = any(v.extrapolated for v in inputs.values())
-    srcs = []
-    for v in inputs.values():
-        for s in v.sources:
-            if s not in srcs:
-                srcs.append(s)
+        e_design = ebd / margin
+    u_design = float(energy_density(inp, [0], [e_design])[0])
+    method = METHOD_NAMES[int(inp.kind[0])]
+    t = inp.reader.t
+    rows = [inp.eps_g.used0[inp.c_eps[0]], inp.eps_g.used1[inp.c_eps[0]], inp.ebd_g.used0[inp.c_ebd[0]],
+            inp.ebd_g.used1[inp.c_ebd[0]]]
+    if inp.shape_found[0]:
+        rows += [inp.sh.used0[0], inp.sh.used1[0]]
+    srcs = list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0))
     if method == "linear-upper-bound":
-        notes.append("nonlinear material without a DC-bias curve or loop: ½·ε0·εr·E² with the small-signal εr "
-                     "overstates its energy")
+        notes.append(words("linear-upper-bound"))
     if method == "loop":
-        notes.append("nonlinear: loop's recoverable density scaled by (E/E_loop)², capped at the loop's field")
-    return Ceiling(key=material.key, temperature_K=temperature_K, relative_permittivity=eps.value,
-                   breakdown_field_V_per_m=ebd.value, ceiling_J_per_m3=ceiling, design_field_V_per_m=e_design,
-                   design_J_per_m3=u_design, weibull_shape=shape, test_area_m2=test_area, extrapolated=extrap,
-                   sources=srcs, notes=notes, inputs=inputs, method=method)
+        notes.append(words("loop-scaled"))
+    return Ceiling(key=material.key, temperature_K=temperature_K, relative_permittivity=eps,
+                   breakdown_field_V_per_m=ebd, ceiling_J_per_m3=ceiling, design_field_V_per_m=e_design,
+                   design_J_per_m3=u_design, weibull_shape=shape, test_area_m2=test_area,
+                   extrapolated=bool(inp.extrapolated[0]), sources=srcs, notes=notes, method=method)

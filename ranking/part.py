@@ -1,79 +1,89 @@
-"""Sizing one part at the worst case of its temperature range (``holdoff size``)."""
+"""Sizing one part at the worst case of its temperature range (``holdoff size``), through the evaluation engine."""
 
 from __future__ import annotations
 
-from materials.errors import DataError
+from materials.errors import DataError, InputError
 from materials.records import MaterialData
-from ranking.worstcase import WorstCase, worst_case
+
+#: Rules that only note a limit when one part is sized (the designer chose the material).
+_RATED = ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min")
 
 
 def self_heals(material: MaterialData) -> bool:
-    from materials.lookup import value_at
+    from materials.lookup import reference_value
 
-    return material.has("self_healing") and value_at(material, "self_healing").value >= 0.5
-
-
-def size_worst_case(material: MaterialData, wc: WorstCase, *, energy_J: float, voltage_V: float,
-                    failure_probability: float, margin: float, ripple_current_A=None, frequency_Hz=None,
-                    segment_area_m2=None):
-    """A :class:`materials.sizing.SizingResult` from worst-case inputs; linear or along the DC-bias curve.
-
-    A segment area applies only to a self-healing material (a breakdown clears or disconnects one segment).
-    """
-    from materials.sizing import size_linear, size_nonlinear
-
-    common = dict(energy_J=energy_J, voltage_V=voltage_V, scale_V_per_m=wc.ebd.value, shape=wc.beta,
-                  test_area_m2=wc.test_area_m2, failure_probability=failure_probability, margin=margin,
-                  density_kg_per_m3=wc.density.value if wc.density else None,
-                  min_thickness_m=wc.min_thickness.value if wc.min_thickness else None,
-                  loss_tangent=wc.loss.value if wc.loss else None, ripple_current_A=ripple_current_A,
-                  frequency_Hz=frequency_Hz,
-                  segment_area_m2=segment_area_m2 if segment_area_m2 and self_heals(material) else None)
-    curve = wc.bias_curve(material)
-    if curve is not None:
-        fields, eps, _rows = curve
-        return size_nonlinear(bias_field_V_per_m=fields, differential_permittivity=eps, extrapolate=True,
-                              **common)
-    if material.response != "linear":
-        raise DataError(f"{material.key} is nonlinear and has no DC-bias curve: it cannot be sized")
-    return size_linear(relative_permittivity=wc.eps.value, **common)
+    v = reference_value(material, "self_healing")
+    return v is not None and v >= 0.5
 
 
 def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, tmin_K: float, tmax_K: float,
                   failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
                   frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None) -> dict:
-    """Size ``material`` for ``energy_J`` at ``voltage_V`` over ``tmin_K…tmax_K``: the ``size`` JSON contract."""
-    from materials.sizing import CAUTION
+    """Size ``material`` for ``energy_J`` at ``voltage_V`` over ``tmin_K…tmax_K``: the ``size`` JSON contract.
+
+    The rules are the shortlist's (:func:`ranking.engine.evaluate` on a table of one row): a rated range that does
+    not cover the target is noted, not refused; anything else that excludes the material is an error naming it.
+    """
+    import numpy as np
+
+    from materials.energy import EPSILON_0
+    from materials.sizing import CAUTION, _finish, _SEGMENT_NOTE
+    from materials.table import ValueTable
+    from ranking.engine import BIAS, charge_density, energy_density, evaluate, small_signal_permittivity
+    from ranking.explain import assumption_notes, reasons
+    from ranking.reasons import words
+    from ranking.target import Target
 
     if tmin_K > tmax_K:
-        from materials.errors import InputError
-
         raise InputError("--tmin is above --tmax")
+    target = Target(voltage_V=voltage_V, tmin_K=tmin_K, tmax_K=tmax_K, energy_J=energy_J,
+                    failure_probability=failure_probability, margin=margin, segment_area_m2=segment_area_m2,
+                    frequency_Hz=frequency_Hz, assume_defaults=assume_defaults)
+    cols = evaluate(ValueTable.from_materials([material]), target)
     notes = []
-    for prop, need, bad in (("max_temperature", tmax_K, lambda r, t: r < t), ("min_temperature", tmin_K,
-                                                                            lambda r, t: r > t)):
-        if material.has(prop):
-            from materials.lookup import value_at
-
-            rated = value_at(material, prop).value
-            if bad(rated, need):
-                notes.append(f"outside the rated range: {prop} is {rated - 273.15:g} °C")
-    try:
-        wc = worst_case(material, tmin_K=tmin_K, tmax_K=tmax_K, frequency_Hz=frequency_Hz,
-                        assume_defaults=assume_defaults)
-    except DataError as exc:
-        raise DataError(f"{material.key}: {exc}") from None
-    res = size_worst_case(material, wc, energy_J=energy_J, voltage_V=voltage_V,
-                          failure_probability=failure_probability, margin=margin,
-                          ripple_current_A=ripple_current_A, frequency_Hz=frequency_Hz,
-                          segment_area_m2=segment_area_m2)
-    if segment_area_m2 and not self_heals(material):
-        notes.append("segment area ignored: the material is not self-healing, so the whole area counts")
+    for code, q in reasons(cols, 0):
+        if code == "rated-outside":
+            notes.append(words("outside-rating", **q))
+    for code, q in reasons(cols, 0, ignore=_RATED):
+        raise DataError(f"{material.key}: {words(code, **q)}")
+    P, inp = cols.parts, cols.parts["inputs"]
+    d, area = float(P["d"][0]), float(P["area"][0])
+    e_op = voltage_V / d
+    u = float(energy_density(inp, [0], [e_op])[0])
+    seg = float(P["seg"][0]) if P["has_seg"][0] else None
+    res_notes = assumption_notes(cols, 0)
+    if seg:
+        res_notes.append(_SEGMENT_NOTE)
+    if inp.kind[0] == BIAS and e_op > inp.bias.fields[0, int(inp.bias.n[0]) - 1]:
+        res_notes.append(f"operating field {e_op:.4g} V/m beyond the DC-bias curve: last permittivity held constant")
+    small = float(small_signal_permittivity(inp, [0], [e_op])[0])
+    loss = float(cols.values["loss"][0]) if np.isfinite(cols.values["loss"][0]) else None
+    density = float(inp.density[0]) if np.isfinite(inp.density[0]) else None
+    res = _finish(d=d, area=area, voltage=voltage_V, charge_per_m2=float(charge_density(inp, [0], [e_op])[0]),
+                  energy=area * d * u, small_signal=EPSILON_0 * small * area / d, scale=float(inp.ebd_v[0]),
+                  shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k"][0]),
+                  limited_by="min_thickness" if P["at_min"][0] else "breakdown",
+                  iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=ripple_current_A,
+                  frequency=frequency_Hz, notes=res_notes, segment_area=seg)
+    if segment_area_m2 and not inp.heals[0]:
+        notes.append(words("segment-ignored"))
+    t = inp.reader.t
+    rows = []
+    for lk, c in ((inp.eps_g, inp.c_eps[0]), (inp.ebd_g, inp.c_ebd[0])):
+        rows += [lk.used0[c], lk.used1[c]]
+    for lk in (inp.sh, inp.thick, inp.dens):
+        if lk.present[0]:
+            rows += [lk.used0[0], lk.used1[0]]
+    if inp.has_loss[0]:
+        rows += [inp.ls.used0[inp.c_loss[0]], inp.ls.used1[inp.c_loss[0]]]
+    flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("assumed-shape", not inp.shape_found[0]),
+                             ("assumed-test-area", not inp.area_found[0])) if on]
     out = {"key": material.key, "name": material.name, "voltage_V": voltage_V, "tmin_K": tmin_K, "tmax_K": tmax_K,
-           **res.as_dict(), "worst_temperature_K": wc.t_ebd, "worst_permittivity_temperature_K": wc.t_eps,
-           "relative_permittivity": wc.eps.value, "breakdown_field_V_per_m": wc.ebd.value,
-           "weibull_shape": wc.beta, "test_area_m2": wc.test_area_m2, "sources": wc.sources(),
-           "flags": wc.flags}
-    out["notes"] = notes + wc.notes + list(out["notes"])
+           **res.as_dict(), "worst_temperature_K": float(inp.t_ebd[0]),
+           "worst_permittivity_temperature_K": float(inp.t_eps[0]), "relative_permittivity": float(inp.eps_v[0]),
+           "breakdown_field_V_per_m": float(inp.ebd_v[0]), "weibull_shape": float(inp.beta[0]),
+           "test_area_m2": float(inp.test_area[0]),
+           "sources": list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0)), "flags": flags}
+    out["notes"] = notes + list(out["notes"])
     out["cautions"] = [CAUTION]
     return out

@@ -1,36 +1,13 @@
 """How stable a ranking is when the weights and the property values are uncertain (Monte Carlo).
 
-Each draw perturbs the weights and every entry of the decision matrix, ranks the candidates, and the ranks are
-tallied over all draws:
+Each draw perturbs the weights and every entry of the decision matrix (:mod:`ranking.draws`), ranks the candidates
+(:mod:`ranking.methods`), and the ranks are tallied over all draws. Ranks within a draw are ordinal; exact ties are
+broken at random, so tied candidates share the first place evenly on average and ``p_first`` sums to 1. The same
+inputs and seed give the same result.
 
-* weights from a Dirichlet distribution centred on the given weights, ``alpha = concentration · w / sum(w)``
-  (mean = the normalised weights; larger concentration = tighter; a zero weight stays zero; ``inf`` keeps the
-  weights fixed);
-* each entry from a triangular distribution on ``(low, typical, high)``, or uniform on ``[low, high]`` where the
-  typical value is missing (NaN), independently per entry and per draw; an entry with no range (low or high NaN,
-  or ``low == high``) stays at its typical value.
-
-Ranks within a draw are ordinal; exact ties are broken at random, so tied candidates share the first place evenly
-on average and ``p_first`` sums to 1. The same inputs and seed give the same result.
-
-Screening (``screen=True``) leaves out of the draws the candidates that can never reach the top ``k``. Candidate
-``i`` *interval-dominates* ``j`` when, on every criterion of positive weight, ``i``'s worst end (low for a benefit
-criterion, high for a cost criterion) is at least as good as ``j``'s best end, and strictly better on at least one
-*firm* criterion: one whose Dirichlet alpha ``concentration · w`` is at least 1 (any positive weight when the
-weights are fixed). In every draw ``i``'s value is then at least as good as ``j``'s on each weighted criterion and
-strictly better on the firm one, whose drawn weight is positive (a draw whose gamma variates all underflow keeps
-the given weights). Both methods normalise all candidates by the same column aggregates, so they are monotone
-under this: in TOPSIS ``i`` is nowhere farther from the ideal nor nearer the anti-ideal, and strictly on the
-strict column (not constant there, so its norm is positive and ideal ≠ anti-ideal), so ``S+_i < S+_j``,
-``S-_i > S-_j`` and ``C_i > C_j``; in the weighted sum each min–max term of ``i`` is at least ``j``'s and the
-strict one larger (span > 0). Columns that are constant, all zero or have ideal = anti-ideal in a draw add the
-same to everybody and are never the strict one. So ``i`` scores strictly higher, no random tie-break can put
-``j`` above it, and a candidate with ``top_k`` such dominators is never in the top ``top_k``.
-
-Why firm: that argument is exact arithmetic. Below alpha = 1 the gamma density piles up at 0, drawn weights
-under 1e-16 are common (probability about ``1e-16 ** alpha``) and can even underflow to 0, and an advantage
-weighted that little vanishes in rounding into a tie the random tie-break may resolve for ``j``. What remains is
-an advantage within rounding in the values themselves (relative gaps near 1e-16).
+Screening (``screen=True``) leaves out of the draws the candidates that can never reach the top ``k``: those with
+``k`` interval dominators (:mod:`ranking.screening`, which gives the argument). The survivors are then scored among
+the screened candidates held at their typical values (:func:`ranking.methods.survivor_scorer`).
 """
 
 from __future__ import annotations
@@ -41,16 +18,16 @@ from dataclasses import dataclass
 import numpy as np
 
 from materials.errors import InputError
-from ranking.methods import (_BLOCK_CELLS, ArrayLike, _benefit, _column_extremes, _matrix, _weights, topsis,
-                             weighted_sum)
+from ranking.draws import _bounds, _draw_columns, _draw_values, _draw_weights
+from ranking.methods import METHODS, ArrayLike, held_columns, survivor_scorer
+from ranking.methods.held import check_method
+from ranking.methods.matrix import _benefit, _weights
+from ranking.screening import _screen
 
-METHODS = {"topsis": topsis, "weighted": weighted_sum}
 # Cells (draws × candidates × criteria) drawn and ranked at once; bounds memory for large problems.
 _CHUNK_CELLS = 1 << 21
 # Cells (draws × survivors) of one drawn column at once in a screened run: small enough to stay in cache.
 _SCREEN_CELLS = 1 << 15
-# Candidates taken per block by the dominator search (their pairs among themselves fit in one work array).
-_SCREEN_BLOCK = 1024
 
 
 @dataclass(frozen=True)
@@ -70,299 +47,6 @@ class MonteCarloResult:
     seed: int
     screened: np.ndarray | None = None  # True = screened out (never drawn); None when screening was not asked for
 
-
-def _bounds(low, typ, high):
-    """Checked ``(low, typ, high)`` arrays; missing bounds fall back on the typical value."""
-    if typ is None and (low is None or high is None):
-        raise InputError("give the typical matrix, or both the low and the high matrix")
-    arrays = [None if a is None else _matrix(a, allow_stack=False) for a in (low, typ, high)]
-    shape = next(a.shape for a in arrays if a is not None)
-    for name, a in zip(("low", "typical", "high"), arrays):
-        if a is not None and a.shape != shape:
-            raise InputError(f"the {name} matrix has shape {a.shape}, expected {shape}")
-    nan = np.full(shape, np.nan)
-    lo, ty, hi = (nan if a is None else a for a in arrays)
-    if np.isinf(lo).any() or np.isinf(ty).any() or np.isinf(hi).any():
-        raise InputError("property ranges must be finite")
-    lo = np.where(np.isnan(lo), ty, lo)
-    hi = np.where(np.isnan(hi), ty, hi)
-    if np.isnan(lo).any() or np.isnan(hi).any():
-        where = tuple(np.argwhere(np.isnan(lo) | np.isnan(hi))[0].tolist())
-        raise InputError(f"entry {where} has neither a typical value nor a full low–high range")
-    if (lo > hi).any():
-        raise InputError(f"entry {tuple(np.argwhere(lo > hi)[0].tolist())} has low > high")
-    outside = ~np.isnan(ty) & ((ty < lo) | (ty > hi))
-    if outside.any():
-        raise InputError(f"entry {tuple(np.argwhere(outside)[0].tolist())} has a typical value outside low–high")
-    return lo, ty, hi
-
-
-def _draw_values(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:
-    """``k`` matrices, triangular on (lo, ty, hi) per entry, uniform where ``ty`` is NaN (inverse CDF).
-
-    Columns without any range are not drawn (they are the same in every draw), which keeps big stores cheap.
-    """
-    varied = (hi > lo).any(axis=0)
-    if not varied.all():
-        out = np.broadcast_to(np.where(np.isnan(ty), lo, ty), (k,) + lo.shape).copy()
-        if varied.any():
-            out[:, :, varied] = _draw_values(rng, k, lo[:, varied], ty[:, varied], hi[:, varied])
-        return out
-    u = rng.random((k,) + lo.shape)
-    width = hi - lo
-    uniform = np.isnan(ty)
-    mode = np.where(uniform, lo, ty)
-    split = np.divide(mode - lo, width, out=np.zeros(width.shape), where=width > 0)
-    left = lo + np.sqrt(u * (width * (mode - lo)))
-    right = hi - np.sqrt((1.0 - u) * (width * (hi - mode)))
-    out = np.where(u < split, left, right)
-    return np.where(uniform, lo + u * width, out)
-
-
-def _draw_columns(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:
-    """``k`` draws of the same model as :func:`_draw_values` for columns given as rows ``(c, s)``: ``(c, k, s)``.
-
-    One contiguous ``(k, s)`` slab per column. The triangular comes from two uniforms without a branch,
-    ``lo + width · (split · max(u, v) + (1 - split) · min(u, v))`` (Stein & Keblis 2009, *Math. Comput.
-    Modelling* 49, 1143), which is cheaper here than the inverse CDF; uniform entries use ``u`` alone.
-    """
-    c, s = lo.shape
-    out = np.empty((c, k, s))
-    width = hi - lo
-    uniform = np.isnan(ty)
-    split = np.divide(np.where(uniform, lo, ty) - lo, width, out=np.zeros(width.shape), where=width > 0)
-    for j in range(c):
-        u, v = rng.random((k, s)), rng.random((k, s))
-        big = np.maximum(u, v)
-        np.minimum(u, v, out=u)
-        big *= split[j]
-        u *= 1.0 - split[j]
-        big += u
-        if uniform[j].any():
-            big = np.where(uniform[j], v, big)
-        big *= width[j]
-        np.add(big, lo[j], out=out[j])
-    return out
-
-
-def _draw_weights(rng: np.random.Generator, k: int, w: np.ndarray, concentration: float) -> np.ndarray:
-    """``k`` weight vectors from Dirichlet(concentration · w) via normalised gamma variates (zero alpha → 0)."""
-    if np.isinf(concentration):
-        return np.broadcast_to(w, (k, w.size)).copy()
-    alpha = concentration * w
-    g = np.zeros((k, w.size))
-    live = alpha > 0
-    g[:, live] = rng.standard_gamma(alpha[live], size=(k, int(live.sum())))
-    total = g.sum(axis=1, keepdims=True)
-    # Tiny alphas can underflow every gamma variate of a draw to 0; such a draw keeps the given weights.
-    return np.where(total > 0, g / np.where(total > 0, total, 1.0), w)
-
-
-# ------------------------------------------------------------------------------------------------- screening
-
-def _dominator_counts(worst: np.ndarray, best: np.ndarray, ident: np.ndarray, pivots, targets) -> np.ndarray:
-    """How many of ``pivots`` interval-dominate each of ``targets`` (index arrays into the columns).
-
-    ``worst`` and ``best`` hold the ends as rows ``(criteria, m)``, turned larger-is-better. Given "no worse on
-    every criterion", strictness fails only when the pivot's worst ends equal the target's best ends exactly on
-    the firm criteria; ``ident`` numbers the distinct rows of those so that this costs one comparison: column 0
-    the worst-end rows, column 1 the best-end rows.
-    """
-    ok = np.empty((len(pivots), len(targets)), dtype=bool)
-    tmp = np.empty_like(ok)
-    np.not_equal(ident[pivots, 0][:, None], ident[targets, 1][None, :], out=ok)
-    for row_w, row_b in zip(worst, best):
-        np.greater_equal(row_w[pivots][:, None], row_b[targets][None, :], out=tmp)
-        ok &= tmp
-    return np.count_nonzero(ok, axis=0)
-
-
-def _screen(lo: np.ndarray, hi: np.ndarray, w: np.ndarray, b: np.ndarray, firm: np.ndarray, top_k: int,
-            method: str, budget: int) -> np.ndarray:
-    """Mask of the candidates with at least ``top_k`` interval dominators (module notes; ``firm`` criteria are
-    the ones that may give the strict advantage).
-
-    Candidates are taken in the order of their pessimistic score (every value at its worst end, scored by
-    ``method``), where a dominator always comes first: it dominates there too, so it scores strictly higher. Each
-    is compared with the survivors found before it, strongest first, then with its own block, until ``top_k``
-    dominators are counted. Within the budget this finds every screenable candidate: of ``j``'s dominators, the
-    ``top_k`` earliest have fewer than ``top_k`` dominators themselves (theirs come earlier still and dominate
-    ``j`` too), so they are survivors compared with ``j``. Rounding in the pessimistic score can only make it miss
-    some; every dominator counted is checked by exact comparisons, so no candidate is screened without the
-    certificate. The search stops comparing after about ``budget`` pairs (the rest then survive).
-    """
-    m = lo.shape[0]
-    order = np.argsort(-METHODS[method](np.where(b, lo, hi), w, b), kind="stable")
-    worst = np.where(b, lo, -hi)[order]
-    best = np.where(b, hi, -lo)[order]
-    # Only criteria of positive weight count; one whose ends are all equal (min worst = max best) never decides.
-    live = (w > 0) & (worst.min(axis=0) < best.max(axis=0))
-    firm = firm & live
-    if not firm.any():
-        return np.zeros(m, dtype=bool)
-    # "+ 0.0" turns -0.0 into 0.0, so equal rows are equal bytes.
-    rows = np.ascontiguousarray(np.concatenate([worst[:, firm], best[:, firm]]) + 0.0)
-    ident = np.unique(rows.view(np.dtype((np.void, rows.itemsize * rows.shape[1]))).ravel(),
-                      return_inverse=True)[1].reshape(2, m).T
-    worst, best = np.ascontiguousarray(worst[:, live].T), np.ascontiguousarray(best[:, live].T)
-    kept = np.empty(m, dtype=np.intp)     # survivors so far, in order
-    n_kept, pairs = 0, 0
-    out = np.zeros(m, dtype=bool)
-    for start in range(0, m, _SCREEN_BLOCK):
-        if pairs > budget:
-            break
-        block = np.arange(start, min(m, start + _SCREEN_BLOCK))
-        alive, count = block, np.zeros(block.size, dtype=np.intp)
-        i, step = 0, 32
-        while i < n_kept and alive.size:
-            pivots = kept[i:min(i + step, n_kept)]
-            count += _dominator_counts(worst, best, ident, pivots, alive)
-            pairs += pivots.size * alive.size
-            more = count < top_k
-            alive, count = alive[more], count[more]
-            i += pivots.size
-            step = min(4 * step, max(32, _BLOCK_CELLS // max(alive.size, 1)))
-        if alive.size:
-            count += _dominator_counts(worst, best, ident, block, alive)
-            pairs += block.size * alive.size
-            alive = alive[count < top_k]
-        out[block] = True
-        out[alive] = False
-        kept[n_kept:n_kept + alive.size] = alive
-        n_kept += alive.size
-    mask = np.zeros(m, dtype=bool)
-    mask[order] = out
-    return mask
-
-
-# ---------------------------------------------------------------------------------- scoring among held rows
-
-def held_columns(held: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """What both methods need of rows held fixed: per column the sum of squares, the max and the min.
-
-    Args:
-        held: ``(h, n)`` values of the held rows (``h`` may be 0).
-
-    Returns:
-        ``(sum_sq, hi, lo)``, each ``(n,)``; ``(0, -inf, inf)`` when no rows are held.
-    """
-    x = _matrix(held, allow_stack=False)
-    if x.shape[0] == 0:
-        n = x.shape[1]
-        return np.zeros(n), np.full(n, -np.inf), np.full(n, np.inf)
-    hi, lo = _column_extremes(x)
-    return np.einsum("ij,ij->j", x, x), hi, lo
-
-
-def _combined(hi: np.ndarray, lo: np.ndarray, top, bottom) -> tuple[np.ndarray, np.ndarray]:
-    """Column max and min of survivors and held rows together, checked finite."""
-    hi, lo = np.maximum(hi, top), np.minimum(lo, bottom)
-    if not (np.isfinite(hi).all() and np.isfinite(lo).all()):
-        raise InputError("decision matrix has a non-finite value (NaN or infinity)")
-    return hi, lo
-
-
-def survivor_scorer(method: str, survivors: ArrayLike, varied: ArrayLike, benefit: ArrayLike,
-                    held: tuple[np.ndarray, np.ndarray, np.ndarray]) -> Callable[[np.ndarray, np.ndarray], np.ndarray]:
-    """Scores of survivor rows ranked together with held rows, knowing only the held rows' column aggregates.
-
-    Both methods sum over criteria terms that depend on the cell and on its column's sum of squares, max and min
-    (TOPSIS: ``(w_j (x_ij - ideal_j) / ||x_j||)²`` and the same to the anti-ideal; the weighted sum: ``w_j`` times
-    the min–max value), and a whole column's aggregates combine the held rows' with the survivors'. So a draw
-    costs ``O(survivors)``, and the terms of the columns that are not drawn are computed once, here. The scores
-    equal :func:`ranking.methods.topsis` / :func:`ranking.methods.weighted_sum` of the whole matrix (held rows
-    and survivors) on the survivors' rows, degenerate answers included. Values should be of moderate magnitude
-    (below about 1e150; :func:`monte_carlo` first rescales each column by a power of two).
-
-    Args:
-        method: ``"topsis"`` or ``"weighted"``.
-        survivors: ``(s, n)`` the survivors' values; those in the varied columns are not read.
-        varied: ``(n,)`` booleans, True for the columns given anew in each call.
-        benefit: ``(n,)`` booleans, True where larger is better.
-        held: :func:`held_columns` of the held rows.
-
-    Returns:
-        ``score(columns, w)`` giving the ``(k, s)`` scores of ``k`` draws: ``columns`` ``(c, k, s)`` holds the
-        survivors' values of the ``c`` varied columns (one ``(k, s)`` slab per column, in column order), ``w``
-        ``(k, n)`` the weights of each draw, summing to 1.
-    """
-    if method not in METHODS:
-        raise InputError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
-    x = _matrix(survivors, allow_stack=False)
-    n = x.shape[1]
-    b, varied = _benefit(benefit, n), _benefit(varied, n)
-    held = tuple(np.asarray(a, dtype=np.float64) for a in held)
-    if len(held) != 3 or any(a.shape != (n,) for a in held):
-        raise InputError(f"held must be (sum of squares, max, min) of shape ({n},) each, as held_columns gives")
-    fixed = ~varied
-    xf = x[:, fixed]
-    hi, lo = _column_extremes(xf) if fixed.any() else (np.empty(0), np.empty(0))
-    hi, lo = _combined(hi, lo, held[1][fixed], held[2][fixed])
-    prepare = _topsis_scorer if method == "topsis" else _weighted_scorer
-    return prepare(xf, hi, lo, fixed, b, held)
-
-
-def _topsis_scorer(xf, hi, lo, fixed, b, held):
-    """:func:`survivor_scorer` for TOPSIS: fixed columns' squared normalised distances, once; the rest per draw."""
-    sum_sq, top, bottom = held
-    norm = np.sqrt(sum_sq[fixed] + np.einsum("ij,ij->j", xf, xf))
-    inv = np.divide(1.0, norm, out=np.zeros(norm.shape), where=norm > 0)
-    to_ideal = np.ascontiguousarray((((xf - np.where(b[fixed], hi, lo)) * inv) ** 2).T)
-    to_anti = np.ascontiguousarray((((xf - np.where(b[fixed], lo, hi)) * inv) ** 2).T)
-    cols = np.flatnonzero(~fixed)
-
-    def score(columns: np.ndarray, w: np.ndarray) -> np.ndarray:
-        w2 = w[:, fixed] ** 2
-        s_plus, s_minus = w2 @ to_ideal, w2 @ to_anti
-        for xc, c in zip(columns, cols):
-            c_hi, c_lo = _combined(xc.max(axis=1), xc.min(axis=1), top[c], bottom[c])
-            norm = np.sqrt(np.einsum("ij,ij->i", xc, xc) + sum_sq[c])
-            scale = np.divide(w[:, c], norm, out=np.zeros(norm.shape), where=norm > 0)[:, None]
-            ideal, anti = (c_hi, c_lo) if b[c] else (c_lo, c_hi)
-            d = xc - ideal[:, None]
-            d *= scale
-            d *= d
-            s_plus += d
-            np.subtract(xc, anti[:, None], out=d)
-            d *= scale
-            d *= d
-            s_minus += d
-        np.sqrt(s_plus, out=s_plus)
-        np.sqrt(s_minus, out=s_minus)
-        s_plus += s_minus
-        # Everybody at the ideal point: closeness 1.0, as ranking.methods.topsis.
-        return np.divide(s_minus, s_plus, out=np.ones(s_minus.shape), where=s_plus > 0)
-    return score
-
-
-def _weighted_scorer(xf, hi, lo, fixed, b, held):
-    """:func:`survivor_scorer` for the weighted sum: fixed columns' min–max values, once; the rest per draw."""
-    _, top, bottom = held
-    span = hi - lo
-    inv = np.divide(1.0, span, out=np.zeros(span.shape), where=span > 0)
-    # Benefit: (x - min)/span; cost: (max - x)/span; a constant column is 1 (as ranking.methods.weighted_sum).
-    values = np.ascontiguousarray(((xf - np.where(b[fixed], lo, hi)) * np.where(b[fixed], inv, -inv)
-                                   + (span == 0)).T)
-    cols = np.flatnonzero(~fixed)
-
-    def score(columns: np.ndarray, w: np.ndarray) -> np.ndarray:
-        total = w[:, fixed] @ values
-        for xc, c in zip(columns, cols):
-            c_hi, c_lo = _combined(xc.max(axis=1), xc.min(axis=1), top[c], bottom[c])
-            span = c_hi - c_lo
-            if not np.isfinite(span).all():
-                raise InputError("a criterion's range (max - min) is too large to represent")
-            constant = span == 0
-            inv = np.divide(1.0, span, out=np.zeros(span.shape), where=~constant)
-            t = xc - (c_lo if b[c] else c_hi)[:, None]
-            t *= (w[:, c] * (inv if b[c] else -inv))[:, None]
-            t += (w[:, c] * constant)[:, None]
-            total += t
-        return total
-    return score
-
-
-# ------------------------------------------------------------------------------------------------- the draws
 
 class _ZeroWeight(Exception):
     """A weight draw put exactly 0 on a firm criterion: the screening certificate may not hold for it."""
@@ -470,21 +154,20 @@ def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matr
         rank_stats: also compute every candidate's full rank in every draw (rank mean and percentiles); without
             it only the top ``top_k`` of each draw are found (a partition, not a sort: much faster for big sets),
             and the rank statistics are NaN.
-        screen: leave out of the draws the candidates with at least ``top_k`` interval dominators (module
-            notes), which never reach the top ``top_k``: their ``p_first`` and ``p_top_k`` are exactly 0 and
-            their ``score_mean`` NaN (not computed). They stay in every draw's normalisation (TOPSIS column norms,
-            ideal and anti-ideal; weighted-sum min and max) at their typical values (the middle of the range
-            where there is none), so the survivors' normalisation moves a little less than in a full run. Needs
-            ``rank_stats=False`` (the screened candidates' ranks are not computed). If nothing is screened the
-            result is the unscreened run's, bit for bit. Should a weight draw still put exactly 0 on a firm
-            criterion (module notes; not expected for an alpha of 1 or more), the call falls back on the
-            unscreened run, with nothing screened.
+        screen: leave out of the draws the candidates with at least ``top_k`` interval dominators
+            (:mod:`ranking.screening`), which never reach the top ``top_k``: their ``p_first`` and ``p_top_k`` are
+            exactly 0 and their ``score_mean`` NaN (not computed). They stay in every draw's normalisation (TOPSIS
+            column norms, ideal and anti-ideal; weighted-sum min and max) at their typical values (the middle of
+            the range where there is none), so the survivors' normalisation moves a little less than in a full
+            run. Needs ``rank_stats=False`` (the screened candidates' ranks are not computed). If nothing is
+            screened the result is the unscreened run's, bit for bit. Should a weight draw still put exactly 0 on
+            a firm criterion (:mod:`ranking.screening`; not expected for an alpha of 1 or more), the call falls
+            back on the unscreened run, with nothing screened.
 
     Returns:
         A :class:`MonteCarloResult`; its ``screened`` mask is None unless ``screen`` is True.
     """
-    if method not in METHODS:
-        raise InputError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
+    check_method(method)
     if int(draws) != draws or draws < 1:
         raise InputError(f"draws must be a positive whole number, got {draws}")
     if int(top_k) != top_k or top_k < 1:

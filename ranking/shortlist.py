@@ -7,8 +7,7 @@ from functools import lru_cache
 import numpy as np
 
 from materials.errors import InputError
-from materials.records import MaterialData
-from ranking.criteria import CRITERIA, Evaluation, evaluate
+from ranking.criteria import CRITERIA, Evaluation
 
 METHODS = ("topsis", "weighted", "pareto")
 FLAGGED_KINDS = ("recollection", "invented")
@@ -68,14 +67,15 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
               rows: int | None = None, excluded_rows: int | None = None) -> dict:
     """Rank ``materials`` against ``target``; the result follows the shortlist JSON contract (see README).
 
-    ``materials`` is a list of :class:`MaterialData` or a :class:`materials.table.ValueTable`. Criteria are computed
-    column-wise for the materials :mod:`ranking.columnar` covers and per material for the rest. ``rows`` and
+    ``materials`` is a list of :class:`materials.records.MaterialData` or a :class:`materials.table.ValueTable`;
+    every candidate goes through the one evaluation engine (:mod:`ranking.engine`). ``rows`` and
     ``excluded_rows`` build only the first so many entries of ``ranked`` and ``excluded``; ``counts`` always
     gives the full numbers.
     """
     from materials.table import ValueTable
     from ranking import methods as M
-    from ranking.columnar import evaluate_columns, explain, prepare_explain
+    from ranking.engine import evaluate, worst_inputs
+    from ranking.explain import explain
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:
@@ -86,34 +86,21 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
     names = [n for n in CRITERIA if weights.get(n, 0) > 0]
     if not names:
         raise InputError("every criterion has weight 0")
-    loaded: dict[int, MaterialData] = {}
     evals: dict[tuple[int, int], Evaluation] = {}
 
     def full(i: int, ti: int) -> Evaluation:
         if (i, ti) not in evals:
-            if not cols[ti].slow[i]:
-                evals[i, ti] = explain(cols[ti], i)
-            else:
-                if i not in loaded:
-                    loaded[i] = table.material(i)
-                evals[i, ti] = evaluate(loaded[i], target, thickness_m=thicknesses[ti])
+            evals[i, ti] = explain(cols[ti], i)
         return evals[i, ti]
 
-    cols = [evaluate_columns(table, target, thickness_m=t) for t in thicknesses]
-    # Candidates in material-major order, as the per-material loop would visit them: (material, thickness) pairs
-    # flattened as material · T + thickness. Slow candidates take their numbers from the per-material path.
+    inputs = worst_inputs(table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
+                          assume_defaults=target.assume_defaults)
+    cols = [evaluate(inputs, target, thickness_m=t) for t in thicknesses]
+    # Candidates in material-major order: (material, thickness) pairs flattened as material · T + thickness.
     n_t = len(thicknesses)
-    slow = np.column_stack([c.slow for c in cols]).ravel()
     ok = np.column_stack([c.ok for c in cols]).ravel()
     typ_all, lo_all, hi_all = ({n: np.column_stack([getattr(c, part)[n] for c in cols]).ravel() for n in names}
                                for part in ("values", "low", "high"))
-    for flat in np.flatnonzero(slow).tolist():
-        e = full(flat // n_t, flat % n_t)
-        ok[flat] = e.ok
-        if e.ok:
-            for n in names:
-                v = e.values.get(n, np.nan)
-                typ_all[n][flat], lo_all[n][flat], hi_all[n][flat] = v, e.low.get(n, v), e.high.get(n, v)
     good = np.flatnonzero(ok)
     cand_ok = [(f // n_t, f % n_t) for f in good.tolist()]
     cand_bad = [(f // n_t, f % n_t) for f in np.flatnonzero(~ok).tolist()]
@@ -151,9 +138,6 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
             p_first, p_top_k = rob.p_first, rob.p_top_k
         else:
             p_first = p_top_k = np.full(n_ok, np.nan)
-        if rows is None or rows > 200:
-            for c in cols:
-                prepare_explain(c)  # many rows to explain: index Python lists, not arrays
         win = order[0]
         win_values = {n: float(typ[win, j]) for j, n in enumerate(names)}
         for rank, c in enumerate(order[:rows] if rows is not None else order, 1):
@@ -184,7 +168,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         excluded.append({"key": e.key, "name": e.name, "family": e.family, "label": e.label,
                          "thickness_m": e.thickness_m, "reasons": e.reasons})
     srcs = {k: {"kind": kind, "citation": cit} for k, kind, cit in
-            zip(table.source_keys, table.source_kinds, table.source_citations)}
+            zip(table.source_keys, table.source_kinds, table.source_citations, strict=True)}
     used = {k for r in ranked for lst in r["sources"].values() for k in lst}
     from materials.sizing import CAUTION
 

@@ -80,7 +80,8 @@ class Target:
                 "energy_J": self.energy_J, "energy_density_J_per_m3": self.energy_density_J_per_m3,
                 "frequency_Hz": self.frequency_Hz, "max_loss_tangent": self.max_loss_tangent,
                 "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
-                "segment_area_m2": self.segment_area_m2, "families": list(self.families), "thicknesses_m": list(self.thicknesses_m),
+                "segment_area_m2": self.segment_area_m2, "families": list(self.families),
+                "thicknesses_m": list(self.thicknesses_m),
                 "weights": dict(self.weights), "assume_defaults": self.assume_defaults}
 
 
@@ -134,6 +135,25 @@ def parse_thicknesses(text) -> tuple[float, ...]:
     return tuple(sorted(set(out)))
 
 
+# The quantities of a target: file key (and option name), the Target field it fills, the unit kind it is read as.
+_QUANTITIES = (("voltage", "voltage_V", "voltage"), ("tmin", "tmin_K", "temperature"),
+               ("tmax", "tmax_K", "temperature"), ("energy", "energy_J", "energy"),
+               ("energy_density", "energy_density_J_per_m3", "energy_density"),
+               ("frequency", "frequency_Hz", "frequency"), ("area", "area_m2", "capacitor_area"),
+               ("segment_area", "segment_area_m2", "electrode_area"))
+
+
+def _option(key: str) -> str:
+    """The command option of a file key: ``energy_density`` → ``--energy-density``."""
+    return "--" + key.replace("_", "-")
+
+
+def _quantities(given: dict, *, options: bool) -> dict:
+    """The quantities among ``given`` (by file key) as SI Target fields; errors name the option if ``options``."""
+    return {attr: parse_option(given[key], kind, name=_option(key) if options else None)
+            for key, attr, kind in _QUANTITIES if key in given}
+
+
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
               "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults"}
 
@@ -156,16 +176,9 @@ def load_target(path: Path) -> Target:
             raise InputError("missing", file=str(path), field=required)
     try:
         kw = dict(
-            voltage_V=parse_option(t["voltage"], "voltage"), tmin_K=parse_option(t["tmin"], "temperature"),
-            tmax_K=parse_option(t["tmax"], "temperature"),
-            energy_J=parse_option(t["energy"], "energy") if "energy" in t else None,
-            energy_density_J_per_m3=(parse_option(t["energy_density"], "energy_density")
-                                     if "energy_density" in t else None),
-            frequency_Hz=parse_option(t["frequency"], "frequency") if "frequency" in t else None,
+            **_quantities(t, options=False),
             max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
             failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
-            area_m2=parse_option(t["area"], "capacitor_area") if "area" in t else None,
-            segment_area_m2=parse_option(t["segment_area"], "electrode_area") if "segment_area" in t else None,
             families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
             assume_defaults=bool(t.get("assume_defaults", False)), name=str(t.get("name", "")),
         )
@@ -185,3 +198,34 @@ def load_target(path: Path) -> Target:
 def with_overrides(target: Target, **changes) -> Target:
     """A copy of ``target`` with the options given on the command line (None = keep the file's)."""
     return replace(target, **{k: v for k, v in changes.items() if v is not None})
+
+
+def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None, energy=None, energy_density=None,
+                        frequency=None, max_loss_tangent=None, failure_probability=None, margin=None, area=None,
+                        segment_area=None, families=None, thicknesses=None, weights=None,
+                        assume_defaults: bool = False) -> Target:
+    """A Target from a target file and/or command options as typed (an option given overrides the file).
+
+    Quantities are text, in the option's default unit unless one is written; ``families`` is comma-separated,
+    ``thicknesses`` as :func:`parse_thicknesses`, ``weights`` as :func:`parse_weights` (merged over the file's).
+    Without a file, voltage, tmin and tmax are needed. Errors name the option.
+    """
+    given = {"voltage": voltage, "tmin": tmin, "tmax": tmax, "energy": energy, "energy_density": energy_density,
+             "frequency": frequency, "area": area, "segment_area": segment_area}
+    opts = _quantities({k: v for k, v in given.items() if v}, options=True)
+    opts.update(
+        max_loss_tangent=max_loss_tangent, failure_probability=failure_probability, margin=margin,
+        families=tuple(f.strip() for f in families.split(",")) if families else None,
+        thicknesses_m=parse_thicknesses(thicknesses) if thicknesses else None,
+        assume_defaults=True if assume_defaults else None,
+    )
+    w = parse_weights(weights) if weights else None
+    if target_file:
+        t = with_overrides(load_target(target_file), **opts)
+        if w:
+            t = with_overrides(t, weights={**t.weights, **w})
+        return t
+    missing = [_option(k) for k in ("voltage", "tmin", "tmax") if not given[k]]
+    if missing:
+        raise InputError(f"{', '.join(missing)} needed (or a --target file)")
+    return Target(weights=w or {}, **{k: v for k, v in opts.items() if v is not None})

@@ -7,6 +7,8 @@ from pathlib import Path
 
 import pytest
 
+from pg import backend_url, pg_url  # noqa: F401  (fixtures offered to every test module)
+
 DATA = Path(__file__).parent / "data"
 MINI_CATALOG = DATA / "mini_catalog_foundation"
 
@@ -58,6 +60,25 @@ def mini_store(mini_catalog):
     store = memory_store(mini_catalog)
     yield store
     store.dispose()
+
+
+@pytest.fixture(scope="session")
+def mini_db(tmp_path_factory) -> str:
+    """The URL of a SQLite store built once from the mini catalog, shared by read-only CLI tests: do not write."""
+    from db.store import build
+
+    url = f"sqlite:///{tmp_path_factory.mktemp('mini-db') / 'holdoff.sqlite'}"
+    build(url, catalog_dir=MINI_CATALOG)
+    return url
+
+
+@pytest.fixture
+def mini_cli(cli, mini_db):
+    """``mini_cli("catalog", "--json")``: ``holdoff ARGS`` on the shared mini-catalog store (``db=`` for another)."""
+    def go(*args, db=None, **kw):
+        return cli(list(args), db=db or mini_db, catalog=MINI_CATALOG, **kw)
+
+    return go
 
 
 @pytest.fixture

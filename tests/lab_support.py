@@ -45,7 +45,7 @@ def write_set(path: Path, fields, censored=None, *, unit: str = "V/um", header: 
         lines += [repr(float(x)) for x in fields]
     else:
         lines.append(f"field [{unit}],censored")
-        lines += [f"{float(x)!r},{int(bool(c))}" for x, c in zip(fields, censored)]
+        lines += [f"{float(x)!r},{int(bool(c))}" for x, c in zip(fields, censored, strict=True)]
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return path
 
@@ -54,6 +54,6 @@ def write_loop(path: Path, fields_kV_per_cm, pol_uC_per_cm2, *, header: dict | N
     """A loop file in kV/cm and µC/cm²."""
     lines = [f"# {k}: {v}" for k, v in (header or {}).items()]
     lines.append("field [kV/cm],polarization [uC/cm^2]")
-    lines += [f"{float(e)!r},{float(p)!r}" for e, p in zip(fields_kV_per_cm, pol_uC_per_cm2)]
+    lines += [f"{float(e)!r},{float(p)!r}" for e, p in zip(fields_kV_per_cm, pol_uC_per_cm2, strict=True)]
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return path

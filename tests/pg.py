@@ -4,7 +4,7 @@ PostgreSQL comes from ``HOLDOFF_TEST_PG_URL`` (``.ci/postgres.sh start`` exports
 ``@pytest.mark.postgres`` skip when it is unset. Each test gets its own schema on that server (selected through the
 URL's ``search_path``), dropped afterwards, so tests never see each other's tables.
 
-Import the fixtures into a test module with ``from pg import backend_url, pg_url  # noqa: F401``.
+Its fixtures ``backend_url`` and ``pg_url`` are imported by conftest.py, so every test module can ask for them.
 """
 
 from __future__ import annotations

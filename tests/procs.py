@@ -25,4 +25,4 @@ def run_together(worker_code: str, argvs: list[list[str]], *, env=None, timeout:
         for p in procs:
             if p.poll() is None:
                 p.kill()
-    return [(p.returncode, out, err) for p, (out, err) in zip(procs, results)]
+    return [(p.returncode, out, err) for p, (out, err) in zip(procs, results, strict=True)]

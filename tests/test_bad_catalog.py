@@ -211,7 +211,8 @@ def _strategy():
         optional={k: scalar for k in ("value", "low", "high", "unit", "temperature", "frequency", "field",
                                       "thickness", "area", "note", "bogus")})
     curve = st.fixed_dictionaries(
-        {"property": st.sampled_from(["relative_permittivity", "breakdown_field"]), "source": st.just("fixture-invented"),
+        {"property": st.sampled_from(["relative_permittivity", "breakdown_field"]),
+         "source": st.just("fixture-invented"),
          "over": st.one_of(st.sampled_from(["temperature", "field"]), scalar)},
         optional={"points": st.one_of(st.lists(st.lists(st.one_of(st.floats(-300, 3000), scalar), max_size=3),
                                                max_size=4), scalar),

@@ -11,7 +11,6 @@ import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 import pg
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 
 def _dump(url, path) -> bytes:

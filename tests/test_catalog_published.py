@@ -57,7 +57,8 @@ def test_polystyrene_breakdown_callister_table_18_5(catalog):
 
 
 def test_soda_lime_and_fused_silica_callister_table_18_5(catalog):
-    assert one(catalog, "soda-lime-glass", "breakdown_field", "callister-8e-t18-5").value == pytest.approx(9.84e6, rel=1e-3)
+    assert one(catalog, "soda-lime-glass", "breakdown_field",
+               "callister-8e-t18-5").value == pytest.approx(9.84e6, rel=1e-3)
     assert one(catalog, "fused-silica", "relative_permittivity", "callister-8e-t18-5", frequency_Hz=60).value == 4.0
     assert one(catalog, "fused-silica", "relative_permittivity", "callister-8e-t18-5", frequency_Hz=1e6).value == 3.8
 
@@ -108,13 +109,15 @@ def test_pp_weibull_scale_range_area_dependence_2007(catalog):
 
 
 def test_rutile_c_axis_parker_1961(catalog):
-    curve = sorted(rows(catalog, "rutile-tio2", "relative_permittivity", "parker-1961-rutile"), key=lambda v: v.temperature_K)
+    curve = sorted(rows(catalog, "rutile-tio2", "relative_permittivity", "parker-1961-rutile"),
+                   key=lambda v: v.temperature_K)
     assert [(v.temperature_K, v.value) for v in curve] == [(pytest.approx(1.6), 257), (pytest.approx(300), 170),
                                                            (pytest.approx(1000), 97)]
 
 
 def test_strontium_titanate_yan_2017_and_single_crystal(catalog):
-    assert one(catalog, "strontium-titanate", "relative_permittivity", "yan-2017-inorgchem", frequency_Hz=100).value == 330
+    assert one(catalog, "strontium-titanate", "relative_permittivity", "yan-2017-inorgchem",
+               frequency_Hz=100).value == 330
     assert one(catalog, "strontium-titanate", "relative_permittivity", "sto-anisotropy-2015").value == 316.3
 
 
@@ -137,8 +140,8 @@ def test_bt_bmt_relaxor_chem_sci(catalog):
 
 
 def test_pvdf_family_xia_2018(catalog):
-    assert one(catalog, "pvdf-film", "recoverable_energy_density", "xia-2018-aipadv-pvdf").value == pytest.approx(27.1e6)
-    assert one(catalog, "pvdf-hfp-film", "recoverable_energy_density", "xia-2018-aipadv-pvdf").value == pytest.approx(27.7e6)
+    for key, expected in (("pvdf-film", 27.1e6), ("pvdf-hfp-film", 27.7e6)):
+        assert one(catalog, key, "recoverable_energy_density", "xia-2018-aipadv-pvdf").value == pytest.approx(expected)
 
 
 # --- web sources --------------------------------------------------------------------------------------------------
@@ -417,7 +420,8 @@ def test_anodic_oxides_tantalum_capacitor_table(catalog):
 
 
 def test_alkali_free_glass_smith_2009_murata_2012(catalog):
-    assert one(catalog, "alkali-free-thin-glass", "breakdown_field", "smith-2009-matlet-glass").value == pytest.approx(1.2e9)
+    assert one(catalog, "alkali-free-thin-glass", "breakdown_field",
+               "smith-2009-matlet-glass").value == pytest.approx(1.2e9)
     thick = one(catalog, "alkali-free-thin-glass", "breakdown_field", "murata-2012-jacers-glass", thickness_m=58e-6)
     thin = one(catalog, "alkali-free-thin-glass", "breakdown_field", "murata-2012-jacers-glass", thickness_m=5e-6)
     assert (thick.value, thin.value) == (pytest.approx(400e6), pytest.approx(1100e6))

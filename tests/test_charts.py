@@ -282,7 +282,8 @@ def test_cli_chart_weibull_and_loop_from_files(cli, tmp_path):
     e = 300 * np.sin(np.pi * t)  # kV/cm
     p = 20 * np.tanh(e / 150) + np.where(t > 0.5, 4 * (1 - e / 300), 0.0)  # µC/cm²
     loop = tmp_path / "loop.csv"
-    loop.write_text("field [kV/cm],polarization [uC/cm^2]\n" + "".join(f"{a:.4f},{b:.5f}\n" for a, b in zip(e, p)))
+    loop.write_text("field [kV/cm],polarization [uC/cm^2]\n"
+                    + "".join(f"{a:.4f},{b:.5f}\n" for a, b in zip(e, p, strict=True)))
     out = tmp_path / "l.svg"
     code, stdout, stderr = cli(["chart", "loop", loop, "--out", out, "--json"])
     assert code == 0, stderr

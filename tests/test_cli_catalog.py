@@ -13,26 +13,13 @@ MINI = Path(__file__).parent / "data" / "mini_catalog_foundation"
 C = 273.15
 
 
-@pytest.fixture(scope="module")
-def db(tmp_path_factory):
-    """A store built once from the mini catalog, shared by this module's read-only commands."""
-    from db.store import build
-
-    url = f"sqlite:///{tmp_path_factory.mktemp('cli') / 'holdoff.sqlite'}"
-    build(url, catalog_dir=MINI)
-    return url
-
-
 @pytest.fixture
-def run(cli, db):
-    def go(*args, **kw):
-        return cli(list(args), db=db, catalog=MINI, **kw)
-
-    return go
+def run(mini_cli):
+    return mini_cli
 
 
-def _one_line_error(code, out, err, *needles):
-    assert code == 2, (out, err)
+def _one_line_error(code, out, err, *needles, exit_code=2):
+    assert code == exit_code, (out, err)
     assert out == ""
     assert err.startswith("holdoff: error: ") and err.count("\n") == 1, err
     for n in needles:
@@ -84,8 +71,9 @@ def test_catalog_where(run):
     assert code == 0 and set(_table_rows(out)) & {"mini-air", "mini-film", "mini-glass", "mini-x7r"} == {"mini-x7r"}
     code, out, _ = run("catalog", "--where", "breakdown_field > 100 V/um and not family = ceramic-class-2")
     assert code == 0 and "mini-film" in out and "mini-x7r" not in out and "mini-glass" not in out
+    # Nothing passes: the (empty) listing is still printed, and exit code 1 tells a script so.
     code, out, _ = run("catalog", "--family", "glass", "--where", "relative_permittivity > 100")
-    assert code == 0 and out.splitlines()[0] == "0 materials"
+    assert code == 1 and out.splitlines()[0] == "0 materials"
 
 
 def test_catalog_where_error_points_at_the_position(run):
@@ -275,7 +263,8 @@ def test_db_check_finds_a_broken_row(cli, tmp_path):
 
 def test_db_check_on_a_missing_store(cli, tmp_path):
     path = tmp_path / "absent.sqlite"
-    _one_line_error(*cli(["db", "check"], db=f"sqlite:///{path}", catalog=MINI), "no store", "db init")
+    # A store that is not there cannot be opened: exit code 3, not 2.
+    _one_line_error(*cli(["db", "check"], db=f"sqlite:///{path}", catalog=MINI), "no store", "db init", exit_code=3)
     assert not path.exists()
 
 
@@ -285,8 +274,8 @@ def test_first_use_builds_the_store(cli, tmp_path):
     assert code == 0 and "mini-glass" in out and path.exists()
 
 
-def test_global_db_option(cli, db):
-    code, out, _ = cli(["--db", db, "show", "mini-air"], db="sqlite:///" + "/nonexistent/never/used.sqlite",
+def test_global_db_option(cli, mini_db):
+    code, out, _ = cli(["--db", mini_db, "show", "mini-air"], db="sqlite:///" + "/nonexistent/never/used.sqlite",
                        catalog=MINI)
     assert code == 0 and "Test air" in out
 
@@ -336,7 +325,8 @@ def test_help_is_cheap():
             "        typer.main.get_command(app).main(args, prog_name='holdoff')\n"
             "    except SystemExit:\n"
             "        pass\n"
-            "print('HEAVY', [m for m in ('sqlalchemy', 'pandas', 'scipy', 'pint', 'matplotlib') if m in sys.modules])\n")
+            "print('HEAVY', [m for m in ('sqlalchemy', 'pandas', 'scipy', 'pint', 'matplotlib')"
+            " if m in sys.modules])\n")
     res = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
                          env={"PATH": "/usr/bin:/bin", "COLUMNS": "120", "HOME": str(Path.home())})
     last = res.stdout.strip().splitlines()[-1]
@@ -364,4 +354,5 @@ def test_show_history_keeps_retired_values(cli, tmp_path):
     code, out, _ = cli(["show", "mini-film", "--history", "--json"], db=url, catalog=MINI)
     density = next(v for v in json.loads(out)["values"] if v["property"] == "density")
     assert (density["retired_at"], density["retired_reason"]) == ("2026-01-02 03:04:05", "unit slip")
-    assert cli(["catalog", "--where", "has density"], db=url, catalog=MINI)[1].splitlines()[0] == "0 materials"
+    code, out, _ = cli(["catalog", "--where", "has density"], db=url, catalog=MINI)
+    assert code == 1 and out.splitlines()[0] == "0 materials"

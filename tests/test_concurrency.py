@@ -17,7 +17,6 @@ import pytest
 
 import pg
 from procs import run_together
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 WORKERS = 4
 PER_WORKER = 250

@@ -14,7 +14,6 @@ import time
 from pathlib import Path
 
 import pg
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 POINTS = 100_000
 CHUNK = 5_000

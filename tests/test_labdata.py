@@ -8,7 +8,6 @@ from scipy.constants import epsilon_0
 
 from db.store import open_store
 from lab_support import EXAMPLES, LAB_CATALOG, build_store, logical_dump, write_loop, write_set
-from pg import pg_url  # noqa: F401  (fixture)
 from materials.errors import InputError
 from materials.labfiles import read_breakdown, read_loop
 

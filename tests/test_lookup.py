@@ -45,7 +45,7 @@ def x7r():
 def test_interpolation_over_temperature_agrees_with_numpy(film, t_C):
     # Reference: numpy.interp (piecewise-linear) on the same points.
     got = value_at(film, "relative_permittivity", temperature_K=t_C + C)
-    xs, ys = zip(*EPS_T)
+    xs, ys = zip(*EPS_T, strict=True)
     assert got.value == pytest.approx(np.interp(t_C, xs, ys), rel=1e-12)
     assert got.low == pytest.approx(np.interp(t_C, xs, [y - 0.05 for y in ys]), rel=1e-12)
     assert got.high == pytest.approx(np.interp(t_C, xs, [y + 0.05 for y in ys]), rel=1e-12)
@@ -103,7 +103,7 @@ def test_reference_value_is_25_C(film):
                                          (20e6, 500.0)])
 def test_interpolation_over_bias_field(x7r, e, expected):
     got = value_at(x7r, "relative_permittivity", field_V_per_m=e)
-    xs, ys = zip(*BIAS)
+    xs, ys = zip(*BIAS, strict=True)
     assert got.value == pytest.approx(expected) == pytest.approx(np.interp(e, xs, ys))
     assert not got.extrapolated
     assert all(r.field_V_per_m is not None for r in got.rows)
@@ -154,11 +154,39 @@ def test_lab_rows_supersede_the_catalog(make_material):
     ])
     got = value_at(m, "breakdown_field", temperature_K=25 + C)
     assert got.value == 6.5e8
-    assert got.sources == ["our-lab-2026"]
-    assert got.confidence == 1.0
-    # The lab measured only at 25 °C: 85 °C is outside the lab's data, not silently the handbook's.
+    assert got.sources[0] == "our-lab-2026"
+    # The lab measured only at 25 °C: the handbook curve lends its shape (5/6 from 25 to 85 °C), anchored to the
+    # lab's value, and says so; beyond the handbook's data the answer is refused as before.
+    hot = value_at(m, "breakdown_field", temperature_K=85 + C)
+    assert hot.value == pytest.approx(6.5e8 * 5.0 / 6.0) and hot.lent and not hot.extrapolated
+    assert hot.sources == ["our-lab-2026", "handbook-source"]
     with pytest.raises(DataError):
-        value_at(m, "breakdown_field", temperature_K=85 + C)
+        value_at(m, "breakdown_field", temperature_K=105 + C)
+
+
+def test_recollected_curve_never_displaces_a_published_value(make_material):
+    """A published single value sets the level; a recollected temperature curve lends only its shape."""
+    m = make_material("m", [
+        ("breakdown_field", 6.5e8, "handbook"),
+        ("breakdown_field", 7.0e8, "recollection", {"temperature_K": 25 + C}),
+        ("breakdown_field", 5.6e8, "recollection", {"temperature_K": 105 + C}),
+    ])
+    room = value_at(m, "breakdown_field", temperature_K=25 + C)
+    assert room.value == pytest.approx(6.5e8) and room.lent
+    hot = value_at(m, "breakdown_field", temperature_K=105 + C)
+    assert hot.value == pytest.approx(6.5e8 * 0.8)
+    assert {r.source.kind for r in hot.rows} == {"handbook", "recollection"}
+
+
+def test_a_stronger_curve_ignores_weaker_rows(make_material):
+    m = make_material("m", [
+        ("relative_permittivity", 2.2, "paper", {"temperature_K": 25 + C}),
+        ("relative_permittivity", 2.1, "paper", {"temperature_K": 105 + C}),
+        ("relative_permittivity", 9.9, "recollection", {"temperature_K": 65 + C}),
+    ])
+    got = value_at(m, "relative_permittivity", temperature_K=65 + C)
+    assert got.value == pytest.approx(2.15) and not got.lent
+    assert {r.source.kind for r in got.rows} == {"paper"}
 
 
 def test_a_better_tier_wins_at_the_same_condition(make_material):

@@ -8,7 +8,6 @@ import datetime as dt
 import pytest
 
 import pg
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 
 def _engine(url):

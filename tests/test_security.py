@@ -9,7 +9,6 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 import pg
-from pg import backend_url, pg_url  # noqa: F401  (fixtures)
 
 HOSTILE = [
     pg.HOSTILE,
@@ -160,7 +159,7 @@ def test_password_of_an_unreachable_server_never_shown(tmp_path, bundle_file, pa
     for args in _commands(tmp_path, bundle_file):
         r = _cli(["--db", url, *args])
         text = r.stdout + r.stderr
-        assert r.exit_code == 2, (args, text)
+        assert r.exit_code == 3, (args, text)  # the store cannot be reached
         assert len(r.stderr.strip().splitlines()) == 1, (args, r.stderr)
         assert password not in text and unquote(password) not in text, (args, text)
         assert "u:***@127.0.0.1:1/x" in r.stderr, (args, r.stderr)
@@ -176,7 +175,8 @@ def test_password_of_a_real_server_never_shown(pg_url, tmp_path, bundle_file):
     for args in _commands(tmp_path, bundle_file):
         r = _cli(["--db", wrong, *args])
         text = r.stdout + r.stderr
-        assert r.exit_code == 2 and "wr0ngpassw0rd" not in text and real not in text, (args, text)
+        # A refused login is a store that cannot be opened: exit code 3.
+        assert r.exit_code == 3 and "wr0ngpassw0rd" not in text and real not in text, (args, text)
         assert len(r.stderr.strip().splitlines()) == 1, (args, r.stderr)
     for args in (["db", "load", bundle_file], ["db", "init", "--force"], ["catalog"], ["db", "check"],
                  ["db", "upgrade"], ["db", "dump", tmp_path / "real.jsonl"]):

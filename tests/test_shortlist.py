@@ -72,7 +72,7 @@ def test_scenario_pet_excluded_at_150C_common_practice(mem_store):
 def test_scenario_class1_ceramic_shows_no_bias_drift(mem_store):
     """EIA-198 class 1 (C0G): no DC-bias effect, so the drift criterion has no bias part."""
     from db.query import load_materials
-    from ranking.criteria import evaluate
+    from ranking.explain import evaluate_material as evaluate
 
     with mem_store.session() as s:
         mats = [m for m in load_materials(s) if m.family == "ceramic-class-1"]
@@ -85,7 +85,7 @@ def test_scenario_class1_ceramic_shows_no_bias_drift(mem_store):
 
 def test_class2_ceramic_shows_bias_drift(mem_store):
     from db.query import load_materials
-    from ranking.criteria import evaluate
+    from ranking.explain import evaluate_material as evaluate
 
     with mem_store.session() as s:
         mats = [m for m in load_materials(s) if m.key == "mlcc-x7r"]
@@ -180,8 +180,8 @@ def test_explanations_contributions_and_runner_up(make_material):
 
 
 def test_weighted_contributions_sum_to_score(make_material):
-    mats = [film(make_material, k, ebd=e, loss=l) for k, e, l in (("a", 700e6, 3e-4), ("b", 500e6, 1e-4),
-                                                                   ("c", 600e6, 2e-4))]
+    mats = [film(make_material, k, ebd=e, loss=tan) for k, e, tan in (("a", 700e6, 3e-4), ("b", 500e6, 1e-4),
+                                                                       ("c", 600e6, 2e-4))]
     res = shortlist(mats, target(), method="weighted", draws=10)
     for r in res["ranked"]:
         assert math.isclose(sum(r["contributions"].values()), r["score"], rel_tol=1e-9, abs_tol=1e-12)
@@ -208,7 +208,7 @@ def test_lower_confidence_for_recollection(make_material):
 @settings(max_examples=15, deadline=None)
 @given(st.permutations(range(4)))
 def test_invariant_to_row_order(make_material, perm):
-    mats = [film(make_material, k, ebd=e, loss=l, eps=p) for k, e, l, p in
+    mats = [film(make_material, k, ebd=e, loss=tan, eps=p) for k, e, tan, p in
             (("a", 700e6, 3e-4, 2.2), ("b", 500e6, 1e-4, 3.1), ("c", 600e6, 2e-4, 2.6), ("d", 550e6, 4e-4, 2.4))]
     base = shortlist(mats, target(), draws=0)
     shuffled = shortlist([mats[i] for i in perm], target(), draws=0)

@@ -126,7 +126,7 @@ def test_missing_breakdown_data_is_named():
     res = size_linear(assume_defaults=True, **base)
     same = size_linear(shape=DEFAULT_SHAPE, test_area_m2=DEFAULT_TEST_AREA_M2, **base)
     assert res.area_m2 == pytest.approx(same.area_m2, rel=1e-14)
-    assert any("assumed 10" in n for n in res.notes) and any("1 cm²" in n for n in res.notes)
+    assert any("β = 10 assumed (range 5–20" in n for n in res.notes) and any("1 cm² assumed" in n for n in res.notes)
 
 
 @pytest.mark.parametrize("change", [{"shape": 1.0}, {"failure_probability": 1.0}, {"voltage_V": -5.0},
@@ -196,13 +196,21 @@ def test_nonlinear_refuses_an_operating_field_beyond_the_curve():
 
 def test_root_in_bracket_agrees_with_scipy_brentq():
     """The hand-written bracketed solver against scipy.optimize.brentq on monotone functions."""
-    import math
-
     from scipy.optimize import brentq
 
     from materials.sizing import root_in_bracket
 
-    for f, lo, hi in ((lambda x: x ** 3 - 2.0, 0.0, 5.0), (lambda x: math.exp(x) - 1e6, -10.0, 40.0),
-                      (lambda x: math.log(x) + x - 3.0, 0.1, 10.0), (lambda x: math.tanh(x - 0.3), -5.0, 7.0)):
-        ours, _ = root_in_bracket(f, lo, hi, f_lo=f(lo), f_hi=f(hi))
-        assert ours == pytest.approx(brentq(f, lo, hi, xtol=1e-14), rel=1e-11, abs=1e-12)
+    fs = ((lambda x: x ** 3 - 2.0, 0.0, 5.0), (lambda x: np.exp(x) - 1e6, -10.0, 40.0),
+          (lambda x: np.log(x) + x - 3.0, 0.1, 10.0), (lambda x: np.tanh(x - 0.3), -5.0, 7.0))
+    for f, lo, hi in fs:
+        ours, _, ok = root_in_bracket(lambda x, idx, f=f: f(x), lo, hi, f_lo=f(lo), f_hi=f(hi))
+        assert ok[0]
+        assert ours[0] == pytest.approx(brentq(f, lo, hi, xtol=1e-14), rel=1e-11, abs=1e-12)
+    # the same four functions solved together, as the shortlist solves many parts at once
+    def many(x, idx):
+        return np.array([fs[i][0](xi) for xi, i in zip(x, idx, strict=True)])
+
+    lo, hi = np.array([f[1] for f in fs]), np.array([f[2] for f in fs])
+    x, _, ok = root_in_bracket(many, lo, hi, f_lo=many(lo, range(4)), f_hi=many(hi, range(4)))
+    assert ok.all()
+    np.testing.assert_allclose(x, [brentq(f, a, b, xtol=1e-14) for f, a, b in fs], rtol=1e-11, atol=1e-12)

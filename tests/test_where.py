@@ -206,7 +206,7 @@ def test_a_filter_never_admits_an_out_of_range_value(make_material, values, op, 
             for i, v in enumerate(values)]
     expr = f"relative_permittivity {op} {threshold!r}"
     pred = compile_where(f"not ({expr})" if negate else expr)
-    for m, v in zip(mats, values):
+    for m, v in zip(mats, values, strict=True):
         admitted = pred(m)
         if v is None:
             assert admitted == negate  # a missing value fails every comparison, so only 'not' admits it

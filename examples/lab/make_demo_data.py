@@ -12,12 +12,13 @@ from pathlib import Path
 
 import numpy as np
 
+from materials.energy import EPSILON_0 as EPS0
+
 HERE = Path(__file__).parent
 LAB = "Tallmere Dielectrics Lab (invented)"
 CITATION = ("Invented demo data for holdoff's examples: the Tallmere Dielectrics Lab and its materials do not "
             "exist; not a measurement of any real material")
 BANNER = "# INVENTED DEMO DATA - not a measurement of any real material; the lab is fictional."
-EPS0 = 8.8541878128e-12
 
 # temperature (°C) -> (Weibull scale V/um, shape) of the made-up distributions
 FILM_SETS = {25: (680.0, 14.0), 105: (610.0, 12.0), 150: (520.0, 10.0)}
@@ -40,7 +41,7 @@ def breakdown_sets(rng) -> None:
                        temperature=f"{t} degC", ramp="500 V/s", waveform="dc", operator="demo operator",
                        lab=LAB, date=f"2024-03-{4 + list(FILM_SETS).index(t):02d}", kind="invented",
                        citation=CITATION)
-        rows = "".join(f"S{i + 1:02d},{v:.1f},{int(c)}\n" for i, (v, c) in enumerate(zip(x, censored)))
+        rows = "".join(f"S{i + 1:02d},{v:.1f},{int(c)}\n" for i, (v, c) in enumerate(zip(x, censored, strict=True)))
         (HERE / f"ht-film-breakdown-{t}C.csv").write_text(head + "specimen,field [V/um],censored\n" + rows)
 
 
@@ -54,7 +55,7 @@ def film_loop() -> None:
     head = _header(label="HT copolymer film loop, 25 C", thickness="3.5 um", temperature="25 degC",
                    frequency="10 Hz", operator="demo operator", lab=LAB, date="2024-03-08", kind="invented",
                    citation=CITATION)
-    rows = "".join(f"{ei * 1e4 / 1e3:.3f},{pi:.5f}\n" for ei, pi in zip(e, p))  # V/um -> kV/cm
+    rows = "".join(f"{ei * 1e4 / 1e3:.3f},{pi:.5f}\n" for ei, pi in zip(e, p, strict=True))  # V/um -> kV/cm
     (HERE / "ht-film-loop-25C.csv").write_text(head + "field [kV/cm],polarization [uC/cm^2]\n" + rows)
 
 
@@ -72,7 +73,7 @@ def relaxor_loop(rng) -> None:
     head = _header(label="Relaxor ceramic loop, 25 C, 250 kV/cm", thickness="0.15 mm", temperature="25 degC",
                    frequency="10 Hz", operator="demo operator", lab=LAB, date="2024-03-11", kind="invented",
                    citation=CITATION)
-    rows = "".join(f"{ei:.2f},{pi:.4f}\n" for ei, pi in zip(e, p))
+    rows = "".join(f"{ei:.2f},{pi:.4f}\n" for ei, pi in zip(e, p, strict=True))
     (HERE / "relaxor-loop-25C.csv").write_text(head + "field [kV/cm],polarization [uC/cm^2]\n" + rows)
 
 

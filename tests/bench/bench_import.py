@@ -105,7 +105,7 @@ def main(n: int = 100_000, repeats: int = 5) -> None:
         csv_path = write_set(work / "bench.csv", x, cens, header={"temperature": "25", "area": "1 cm^2"})
         data = read_breakdown(csv_path)
         rows = [(1, i, e, bool(c), None) for i, (e, c) in
-                enumerate(zip(data.fields_V_per_m.tolist(), data.censored.tolist()))]
+                enumerate(zip(data.fields_V_per_m.tolist(), data.censored.tolist(), strict=True))]
         times = {"reference: sqlite3 executemany": [], "ORM bulk insert (comparison)": [], "import (parsed data)": [],
                  "parse + import": []}
         k = 0

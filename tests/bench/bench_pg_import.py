@@ -85,7 +85,7 @@ def bench(base_url: str) -> dict[str, float]:
 
         fields = _fields()
         rows = [(set_id, i, e, False, None) for i, e in enumerate(fields.tolist())]
-        dicts = [dict(zip(("set_id", "seq", "field_V_per_m", "censored", "thickness_m"), r)) for r in rows]
+        dicts = [dict(zip(("set_id", "seq", "field_V_per_m", "censored", "thickness_m"), r, strict=True)) for r in rows]
         data = BreakdownFile(path="bench.csv", sha256="1" * 64,
                              conditions=Conditions(label="bench import", thickness_m=3e-6, area_m2=1e-4,
                                                    temperature_K=298.15, kind="invented"),

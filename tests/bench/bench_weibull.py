@@ -22,8 +22,8 @@ def run(sizes=(10**5, 10**6)):
     rows = []
     for n in sizes:
         x = 600e6 * rng.weibull(12.0, n)
-        ours = statistics.median(timeit.repeat(lambda: fit_weibull(x), number=1, repeat=7))
-        ref = statistics.median(timeit.repeat(lambda: weibull_min.fit(x, floc=0), number=1,
+        ours = statistics.median(timeit.repeat(lambda x=x: fit_weibull(x), number=1, repeat=7))
+        ref = statistics.median(timeit.repeat(lambda x=x: weibull_min.fit(x, floc=0), number=1,
                                               repeat=5 if n <= 10**5 else 3))
         fit, (shape, _, scale) = fit_weibull(x), weibull_min.fit(x, floc=0)
         rows.append((n, ours, ref, ref / ours, abs(fit.shape / shape - 1), abs(fit.scale / scale - 1)))

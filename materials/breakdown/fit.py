@@ -1,18 +1,5 @@
-"""Breakdown statistics of insulation, after IEEE Std 930-2004 / IEC 62539:2007 practice.
-
-Two-parameter Weibull model of the breakdown field, ``F(E) = 1 - exp(-(E/scale)**shape)``:
-
-- maximum-likelihood fit with right-censoring (specimens whose test stopped without breakdown), solved with
-  the profile equation for the shape (safeguarded Newton on a monotone score) and the closed form for the scale;
-- small-sample unbiasing of the shape with Ross's factor ``(n - 2)/(n - 0.68)``;
-- confidence bounds from the Fisher (observed information) matrix, log-transformed normal approximation, and
-  likelihood-ratio bounds from the profile likelihood;
-- plotting positions (Bernard's median ranks; Johnson's adjusted ranks with censoring), a goodness-of-fit figure
-  and a warning when the Weibull plot bends like two populations;
-- weakest-link scaling of a field with electrode area, and the empirical thickness law.
-
-Fields are in V/m, areas in m², thicknesses in m. Every function accepts numpy arrays where a field is expected.
-"""
+"""The maximum-likelihood two-parameter Weibull fit of breakdown fields (IEEE Std 930-2004 / IEC 62539:2007), with
+Ross's small-sample unbiasing, Fisher and likelihood-ratio bounds, and a goodness-of-fit figure and warning."""
 
 from __future__ import annotations
 
@@ -22,11 +9,9 @@ from functools import cached_property
 
 import numpy as np
 
+from materials.breakdown.likelihood import _as_sample, _expand, _Sample, _solve_decreasing
+from materials.breakdown.positions import plotting_positions
 from materials.errors import InputError
-
-#: Bernard's median-rank constant: F = (i - a)/(n + 1 - 2a) with a = 0.3 (Fothergill 1990 found it the most
-#: accurate of the usual approximations).
-BERNARD_A = 0.3
 
 #: Threshold constant of the two-population check: the Weibull plot's lower-half and upper-half slopes are
 #: flagged when |ln(slope ratio)| > MIXTURE_LIMIT / sqrt(failures). The constant was calibrated by Monte Carlo
@@ -63,152 +48,6 @@ def _normal_quantile(p: float) -> float:
     from statistics import NormalDist
 
     return NormalDist().inv_cdf(p)
-
-
-def _as_sample(fields_V_per_m, censored) -> tuple[np.ndarray, np.ndarray]:
-    x = np.asarray(fields_V_per_m, dtype=float).ravel()
-    if x.size == 0:
-        raise InputError("no breakdown fields given", field="fields_V_per_m")
-    if not np.all(np.isfinite(x)):
-        raise InputError("breakdown fields must be finite numbers", field="fields_V_per_m")
-    if np.any(x <= 0):
-        raise InputError("breakdown fields must be positive", field="fields_V_per_m")
-    if censored is None:
-        c = np.zeros(x.size, dtype=bool)
-    else:
-        c = np.asarray(censored).ravel()
-        if c.size != x.size:
-            raise InputError(f"{c.size} censored flags for {x.size} fields", field="censored")
-        c = c.astype(bool)
-    return x, c
-
-
-def bernard_positions(n: int) -> np.ndarray:
-    """Bernard's median-rank plotting positions ``F_i = (i - 0.3)/(n + 0.4)``, i = 1..n (Fothergill 1990)."""
-    if n < 1:
-        raise InputError("plotting positions need at least one failure")
-    i = np.arange(1, n + 1, dtype=float)
-    return (i - BERNARD_A) / (n + 1.0 - 2.0 * BERNARD_A)
-
-
-def plotting_positions(fields_V_per_m, censored=None) -> tuple[np.ndarray, np.ndarray]:
-    """Weibull-plot positions of the failures.
-
-    Complete samples get Bernard's median ranks ``(i - 0.3)/(n + 0.4)``. With right-censoring the failure ranks
-    are replaced by Johnson's adjusted ranks (L.G. Johnson, "The Statistical Treatment of Fatigue Experiments",
-    1964): each failure's rank increases the previous one by ``(n + 1 - previous)/(1 + items at or beyond it)``,
-    and Bernard's formula is applied to the adjusted rank. At equal fields a failure is ranked before a censored
-    specimen (the censored one is taken to have survived slightly longer).
-
-    Args:
-        fields_V_per_m: breakdown (or test-stop) fields, V/m.
-        censored: optional booleans, True where the test stopped without breakdown.
-
-    Returns:
-        ``(fields, F)``: the failure fields sorted ascending (V/m) and their cumulative probabilities.
-    """
-    x, c = _as_sample(fields_V_per_m, censored)
-    n = x.size
-    order = np.lexsort((c, x))
-    xs, cs = x[order], c[order]
-    failed = ~cs
-    if not failed.any():
-        raise InputError("no failures to plot: every specimen is censored", field="censored")
-    at_or_beyond = (n - np.flatnonzero(failed)).astype(float)
-    # Johnson's recurrence r_j = r_{j-1} + (n+1-r_{j-1})/(1+m_j) closes to
-    # n+1-r_j = (n+1)·prod(m_k/(1+m_k)), which vectorises with a cumulative product.
-    ranks = (n + 1.0) * (1.0 - np.cumprod(at_or_beyond / (at_or_beyond + 1.0)))
-    return xs[failed], (ranks - BERNARD_A) / (n + 1.0 - 2.0 * BERNARD_A)
-
-
-def _solve_decreasing(func, x0: float, *, rtol: float = 1e-14, maxiter: int = 200):
-    """Root of a decreasing function on (0, inf) by Newton's method kept inside a shrinking bracket.
-
-    ``func(x)`` returns ``(g, dg, extra)``. Returns ``(x, extra, iterations)`` for the last evaluated x.
-    """
-    lo, hi = 0.0, math.inf
-    x = x0
-    for it in range(1, maxiter + 1):
-        g, dg, extra = func(x)
-        if not math.isfinite(g):
-            # an overflow means x is far beyond the root on the negative side
-            hi = x
-            x = 0.5 * (lo + hi)
-            continue
-        if g > 0:
-            lo = x
-        else:
-            hi = x
-        if g == 0:
-            return x, extra, it
-        new = x - g / dg if dg < 0 and math.isfinite(dg) else math.nan
-        if not (lo < new < hi):
-            new = 0.5 * (lo + hi) if math.isfinite(hi) else 2.0 * x
-        if abs(new - x) <= rtol * x:
-            return x, extra, it
-        x = new
-    raise InputError("the Weibull likelihood equation did not converge; check the data")  # pragma: no cover
-
-
-class _Sample:
-    """A sample prepared for likelihood work: logs shifted by the largest field so exponentials cannot overflow."""
-
-    def __init__(self, x: np.ndarray, c: np.ndarray):
-        self.log_ref = float(np.log(x.max()))
-        self.u = np.log(x) - self.log_ref  # all <= 0
-        self.any_censored = bool(c.any())
-        self.uf = self.u[~c] if self.any_censored else self.u
-        self.r = int(self.uf.size)
-        self.sum_uf = float(self.uf.sum())
-
-    def shape_score(self, beta: float):
-        """Profile score of the shape (the scale eliminated), its derivative and the moment sums."""
-        e = np.exp(beta * self.u)
-        ue = self.u * e
-        # multiply-and-sum rather than a BLAS dot, whose threads stall badly on a busy machine
-        s0, s1, s2 = float(e.sum()), float(ue.sum()), float((self.u * ue).sum())
-        m1 = s1 / s0
-        var = max(s2 / s0 - m1 * m1, 0.0)
-        g = 1.0 / beta + self.sum_uf / self.r - m1
-        return g, -1.0 / beta**2 - var, (s0, m1, var)
-
-    def profile_shape(self, beta: float) -> float:
-        """Log-likelihood maximised over the scale at this shape (constants dropped as in :meth:`profile_at`)."""
-        s0 = float(np.exp(beta * self.u).sum())
-        r = self.r
-        return r * math.log(beta) - r * (math.log(s0) - math.log(r)) + (beta - 1.0) * self.sum_uf - r
-
-    def _constrained(self, a: float, k: float):
-        """Log-likelihood along ``ln(scale) = a - k/shape`` (shifted logs) and its maximiser over the shape.
-
-        With k = ln(-ln(1-p)) the constraint fixes the p-quantile at exp(a); k = 0 fixes the scale. The
-        log-likelihood is concave in the shape along the constraint, so the score is monotone.
-        """
-        w = self.u - a
-        wmax = float(w.max())
-        r = self.r
-
-        def score(beta):
-            e = np.exp(beta * (w - wmax))
-            c = k + beta * wmax
-            if c > 700.0:
-                return -math.inf, -math.inf, None
-            scale = math.exp(c)
-            we = w * e
-            g = r / beta - r * a + self.sum_uf - scale * float(we.sum())
-            dg = -r / beta**2 - scale * float((w * we).sum())
-            return g, dg, scale * float(e.sum())
-
-        return score
-
-    def profile_at(self, a: float, k: float, beta0: float) -> tuple[float, float]:
-        """Profile log-likelihood with the quantile ``ln x_p = a`` (shifted) held fixed; returns (value, shape)."""
-        beta, total, _ = _solve_decreasing(self._constrained(a, k), beta0, rtol=1e-12)
-        if total is None:  # pragma: no cover - only for absurd trial points
-            return -math.inf, beta
-        r = self.r
-        value = r * math.log(beta) - r * beta * a + r * k + (beta - 1.0) * self.sum_uf - total
-        return value, beta
 
 
 @dataclass(frozen=True)
@@ -295,7 +134,7 @@ class WeibullFit:
         """
         q = _check_probability(p)
         if method == "fisher":
-            xp = self.scale * np.power(-np.log1p(-q), 1.0 / self.shape)
+            xp = self.quantile(q)
             se = np.sqrt(self._var_log_quantile(np.log(-np.log1p(-q))))
             lo, hi = xp * np.exp(-self._z * se), xp * np.exp(self._z * se)
         elif method == "lr":
@@ -334,9 +173,7 @@ class WeibullFit:
     # --- goodness of fit ------------------------------------------------------------------------------------
     @cached_property
     def _plot(self) -> tuple[np.ndarray, np.ndarray]:
-        fields = np.concatenate([self.failure_fields, self.censored_fields])
-        flags = np.concatenate([np.zeros(self.failure_fields.size, bool), np.ones(self.censored_fields.size, bool)])
-        xs, F = plotting_positions(fields, flags)
+        xs, F = plotting_positions(*self._data())
         return np.log(xs), np.log(-np.log1p(-F))
 
     @cached_property
@@ -395,11 +232,15 @@ class WeibullFit:
     def _z(self) -> float:
         return _normal_quantile(0.5 + 0.5 * self.confidence)
 
-    @cached_property
-    def _sample(self) -> _Sample:
+    def _data(self) -> tuple[np.ndarray, np.ndarray]:
+        """All fields (V/m), failures first, and their censored flags."""
         x = np.concatenate([self.failure_fields, self.censored_fields])
         c = np.concatenate([np.zeros(self.failure_fields.size, bool), np.ones(self.censored_fields.size, bool)])
-        return _Sample(x, c)
+        return x, c
+
+    @cached_property
+    def _sample(self) -> _Sample:
+        return _Sample(*self._data())
 
     def _var_log_quantile(self, k):
         (va, cab), (_, vb) = self.covariance
@@ -444,16 +285,6 @@ def _slope(y: np.ndarray, x: np.ndarray) -> float:
     yc = y - y.mean()
     den = float((yc * yc).sum())
     return float((yc * (x - x.mean())).sum()) / den if den > 0 else math.nan
-
-
-def _expand(f, x0: float, factor: float) -> float:
-    """Multiply x0 by factor until f changes sign (f(x0) > 0)."""
-    x = x0 * factor
-    for _ in range(200):
-        if f(x) < 0:
-            return x
-        x *= factor
-    raise InputError("likelihood-ratio bound not found: the likelihood is too flat")  # pragma: no cover
 
 
 def fit_weibull(fields_V_per_m, censored=None, confidence: float = 0.9) -> WeibullFit:
@@ -521,33 +352,3 @@ def fit_weibull(fields_V_per_m, censored=None, confidence: float = 0.9) -> Weibu
         failure_fields=x[~c] if s.any_censored else x.copy(),
         censored_fields=x[c],
     )
-
-
-def scale_to_area(field_V_per_m, *, area_from_m2, area_to_m2, shape):
-    """Weakest-link scaling of a breakdown field (same failure probability) to another electrode area.
-
-    ``E2 = E1·(A1/A2)^(1/β)`` for Weibull-distributed breakdown (IEC 62539 §12; the area law of thin-film
-    capacitors, ElectroComponent Science and Technology 9(2), 111–114 (1981)). Arrays broadcast.
-    """
-    a1, a2, b = (np.asarray(v, dtype=float) for v in (area_from_m2, area_to_m2, shape))
-    if np.any(~(a1 > 0)) or np.any(~(a2 > 0)):
-        raise InputError("areas must be positive", field="area_m2")
-    if np.any(~(b > 0)):
-        raise InputError("Weibull shape must be positive", field="shape")
-    out = np.asarray(field_V_per_m, dtype=float) * np.power(a1 / a2, 1.0 / b)
-    return float(out) if out.ndim == 0 else out
-
-
-def scale_to_thickness(field_V_per_m, *, thickness_from_m, thickness_to_m, exponent):
-    """Empirical thickness law of breakdown strength: ``E2 = E1·(d1/d2)^a``.
-
-    From ``E_BD ∝ d^(-a)`` (L. Zhao & C.L. Liu, Nanomaterials 10, 2473 (2020)); the exponent a is a property
-    of the material and test. Arrays broadcast.
-    """
-    d1, d2, a = (np.asarray(v, dtype=float) for v in (thickness_from_m, thickness_to_m, exponent))
-    if np.any(~(d1 > 0)) or np.any(~(d2 > 0)):
-        raise InputError("thicknesses must be positive", field="thickness_m")
-    if not np.all(np.isfinite(a)):
-        raise InputError("thickness exponent must be finite", field="exponent")
-    out = np.asarray(field_V_per_m, dtype=float) * np.power(d1 / d2, a)
-    return float(out) if out.ndim == 0 else out

@@ -1,0 +1,432 @@
+"""The evaluation engine: every rule of a shortlist, a ceiling and a sizing, written once, over arrays.
+
+Input is a :class:`materials.table.ValueTable` (the store's values as columns); one material is a table of one row.
+Three steps, each column-wise over every material:
+
+1. :func:`worst_inputs` — the worst case over a temperature range, on a grid of both ends plus every permittivity,
+   breakdown or loss data point in between: the lowest permittivity and the lowest breakdown field (even where
+   they fall at different temperatures: conservative), the Weibull shape at the worst breakdown temperature, the
+   test electrode area of the breakdown rows used, the largest loss tangent, the rated range, the thinnest layer,
+   density, self-healing, and the energy model (linear ``½·ε0·εr·E²``, ``∫E dD`` along a DC-bias curve, or a
+   loop's recoverable density).
+2. :func:`evaluate` — the design (fixed layer, self-consistent sizing for an energy, or the design field alone),
+   the criteria of :mod:`ranking.criteria` and the hard constraints. Each constraint is a rule with a reason code
+   (:mod:`ranking.reasons`); a candidate's bad data becomes its own reason, never an error of the run.
+3. :func:`ranking.explain.explain` — one candidate's words (reasons, binding constraint, flags, sources, design)
+   from the arrays.
+
+The design field is ``E_d = E_bd·(−ln(1−p)·A_test/A)^(1/β) / margin`` (the Weibull quantile at the accepted failure
+probability, weakest-link scaled from the test area to the part's area, IEEE Std 930 / IEC 62539).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from materials.energy import EPSILON_0, CurveSet
+from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
+from materials.priors import TEST_AREA, shape_priors
+from materials.sizing import failure_probability, size_columns
+from materials.table import ValueTable
+
+#: Energy models, per material.
+LINEAR, BIAS, LOOP, UPPER_BOUND = 0, 1, 2, 3
+METHOD_NAMES = {LINEAR: "linear", BIAS: "bias-curve", LOOP: "loop", UPPER_BOUND: "linear-upper-bound"}
+#: Relative tolerance of the comparisons that decide a verdict (a value at its limit passes).
+TOL = 1e-9
+#: Largest active area a sizing may return (1 km² of electrode, beyond any capacitor bank): a Weibull shape near 1
+#: makes the self-consistent area grow without bound, and such a "size" is no answer.
+MAX_AREA_M2 = 1e6
+
+
+@dataclass
+class Inputs:
+    """Worst-case inputs of every material of a table over ``tmin_K…tmax_K`` (arrays of length M)."""
+
+    reader: Reader
+    tmin_K: float
+    tmax_K: float
+    parts: dict = field(default_factory=dict)
+
+    def __getattr__(self, name):
+        try:
+            return self.__dict__["parts"][name]
+        except KeyError:
+            raise AttributeError(name) from None
+
+
+def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, frequency_Hz: float | None = None,
+                 assume_defaults: bool = False) -> Inputs:
+    """The worst case of every material over the range (see the module docstring)."""
+    r = table if isinstance(table, Reader) else Reader(table)
+    t, m, mat = r.t, r.m, r.mat
+    everyone = np.arange(m)
+    P: dict = {}
+    # The grid: both ends and every εr / breakdown / loss point strictly inside (any of their rows counts).
+    pts_m, pts_t = [everyone, everyone], [np.full(m, float(tmin_K)), np.full(m, float(tmax_K))]
+    for prop in ("relative_permittivity", "breakdown_field", "loss_tangent"):
+        rows = r.rows_of(prop)
+        tt = t.temperature_K[rows]
+        inner = (tt > tmin_K) & (tt < tmax_K)
+        pts_m.append(mat[rows][inner])
+        pts_t.append(tt[inner])
+    gm, gt = np.concatenate(pts_m), np.concatenate(pts_t)
+    order = np.lexsort((gt, gm))
+    gm, gt = gm[order], gt[order]
+    keep = np.ones(gm.size, dtype=bool)
+    keep[1:] = (gm[1:] != gm[:-1]) | (gt[1:] != gt[:-1])
+    gm, gt = gm[keep], gt[keep]
+    g_start = np.searchsorted(gm, np.arange(m + 1))
+    gslot = np.arange(gm.size) - g_start[gm]
+    kg = int(gslot.max()) + 1 if gslot.size else 1
+    cell = np.full((m, kg), -1, dtype=np.int64)
+    cell[gm, gslot] = np.arange(gm.size)
+
+    def grid(a, pad):
+        out = np.full((m, kg), pad, dtype=float)
+        out[gm, gslot] = a
+        return out
+
+    eps_g = r.lookup("relative_permittivity", gm, gt)
+    ebd_g = r.lookup("breakdown_field", gm, gt)
+    grid_t = grid(gt, np.nan)
+    i_eps = np.argmin(grid(eps_g.value, np.inf), axis=1)
+    i_ebd = np.argmin(grid(ebd_g.value, np.inf), axis=1)
+    c_eps, c_ebd = cell[everyone, i_eps], cell[everyone, i_ebd]
+    t_eps, t_ebd = grid_t[everyone, i_eps], grid_t[everyone, i_ebd]
+    sh = r.at("weibull_shape", t_ebd)
+    prior_typ, prior_lo, prior_hi = shape_priors(t.families)
+    u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
+    a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
+    a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
+    test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
+    area_found = np.isfinite(test_area)
+    thick, dens, heal = r.at("min_thickness"), r.at("density"), r.at("self_healing")
+    ls = r.lookup("loss_tangent", gm, gt, frequency_Hz=frequency_Hz)
+    c_loss = cell[everyone, np.argmax(grid(ls.value, -np.inf), axis=1)]
+    # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
+    eps_at_worst = _Pick(eps_g, c_eps)
+    bias = bias_curves(r, t_eps, eps_at_worst)
+    lp = r.rows_of("recoverable_energy_density")
+    lp = lp[np.isfinite(t.field_V_per_m[lp]) & (t.field_V_per_m[lp] != 0)]
+    o = np.lexsort((lp, -t.field_V_per_m[lp], mat[lp]))
+    lp = lp[o]
+    first = np.ones(lp.size, dtype=bool)
+    first[1:] = mat[lp][1:] != mat[lp][:-1]
+    loop_row = np.full(m, -1, dtype=np.int64)
+    loop_row[mat[lp][first]] = lp[first]
+    nonlinear = np.array([x != "linear" for x in t.responses], dtype=bool)
+    kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loop_row >= 0, LOOP, UPPER_BOUND), LINEAR))
+    # Capacitance drift over temperature: an εr curve, else stated capacitance changes inside the range.
+    small = r.rows_of("relative_permittivity")
+    small = small[np.isnan(t.field_V_per_m[small]) | (t.field_V_per_m[small] == 0)]
+    n_eps_temps = _count_temperatures(t, small, mat, m)
+    ref = r.at("relative_permittivity", REFERENCE_TEMPERATURE_K)
+    with np.errstate(all="ignore"):
+        d_t_eps = grid(np.abs(eps_g.value / ref.value[gm] - 1), -np.inf).max(axis=1)
+    cc = r.rows_of("capacitance_change")
+    ct, ce = t.temperature_K[cc], t.field_V_per_m[cc]
+    cc = cc[np.isfinite(ct) & (ct >= tmin_K - 1e-6) & (ct <= tmax_K + 1e-6) & (np.isnan(ce) | (ce == 0))]
+    d_t_cc = np.full(m, -np.inf)
+    np.maximum.at(d_t_cc, mat[cc], np.abs(t.value[cc]))
+    P.update(
+        everyone=everyone, gm=gm, gt=gt, g_start=g_start, cell=cell, eps_g=eps_g, ebd_g=ebd_g, c_eps=c_eps,
+        c_ebd=c_ebd, t_eps=t_eps, t_ebd=t_ebd, eps_v=eps_g.value[c_eps], eps_lo=eps_g.low[c_eps],
+        eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
+        eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
+        extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
+        lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
+        sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
+        beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
+        test_area=np.where(area_found, test_area, TEST_AREA.typical), area_found=area_found,
+        test_area_lo=np.where(area_found, test_area, TEST_AREA.low),
+        test_area_hi=np.where(area_found, test_area, TEST_AREA.high),
+        thick=thick, d_min=np.where(thick.present, thick.value, np.nan),
+        dens=dens, density=np.where(dens.present, dens.value, np.nan),
+        heal=heal, heals=heal.present & (heal.value >= 0.5),
+        rated={p: r.at(p) for p in ("max_temperature", "min_temperature")},
+        ls=ls, c_loss=c_loss, has_loss=r.curve("loss_tangent", frequency_Hz).has,
+        bias=bias, curves=CurveSet(bias.fields, bias.eps, bias.n), loop_row=loop_row,
+        loop_field=np.where(loop_row >= 0, t.field_V_per_m[np.maximum(loop_row, 0)], np.nan),
+        loop_value=np.where(loop_row >= 0, t.value[np.maximum(loop_row, 0)], np.nan), kind=kind,
+        n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
+        assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
+    return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
+
+
+class _Pick:
+    """A lookup's answers at chosen cells, shaped like a :class:`Lookup` (for the zero-field point of a curve)."""
+
+    def __init__(self, lk: Lookup, cells: np.ndarray):
+        self.value, self.low, self.high = lk.value[cells], lk.low[cells], lk.high[cells]
+        self.used0, self.used1 = lk.used0[cells], lk.used1[cells]
+
+
+def _count_temperatures(t, rows, mat, m):
+    rows = rows[~np.isnan(t.temperature_K[rows])]
+    if not rows.size:
+        return np.zeros(m, dtype=np.int64)
+    o = np.lexsort((t.temperature_K[rows], mat[rows]))
+    rm, rt = mat[rows][o], t.temperature_K[rows][o]
+    new = np.ones(rm.size, dtype=bool)
+    new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])
+    return np.bincount(rm[new], minlength=m)
+
+
+# --- energy along each material's model -----------------------------------------------------------------------
+
+
+def energy_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
+    """Stored energy density (J/m³) of materials ``idx`` at fields ``e`` by their energy model: ``½·ε0·εr·E²``
+    (linear, and the upper bound of a nonlinear material known only by εr), ``∫E dD`` along the DC-bias curve
+    (exact for its piecewise-linear interpolant), or a loop's recoverable density scaled by ``(E/E_loop)²`` and
+    capped at the loop's field."""
+    idx = np.asarray(idx, dtype=np.int64)
+    e = np.asarray(e_V_per_m, dtype=float)
+    k = inp.kind[idx]
+    out = 0.5 * EPSILON_0 * inp.eps_v[idx] * e * e
+    b = k == BIAS
+    if b.any():
+        out = np.where(b, inp.curves.energy(np.where(b, idx, 0), e), out)
+    lp = k == LOOP
+    if lp.any():
+        ef = inp.loop_field[idx]
+        with np.errstate(all="ignore"):
+            out = np.where(lp, inp.loop_value[idx] * (np.minimum(e, ef) / ef) ** 2, out)
+    return out
+
+
+def charge_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
+    """Displacement D (C/m²) at fields ``e``: ``ε0·εr·E``, or ``ε0·∫εr,diff de`` along a DC-bias curve."""
+    idx = np.asarray(idx, dtype=np.int64)
+    e = np.asarray(e_V_per_m, dtype=float)
+    out = EPSILON_0 * inp.eps_v[idx] * e
+    b = inp.kind[idx] == BIAS
+    return np.where(b, inp.curves.charge(np.where(b, idx, 0), e), out) if b.any() else out
+
+
+def small_signal_permittivity(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
+    """Differential εr at fields ``e`` (the worst small-signal εr for a material without a bias curve)."""
+    idx = np.asarray(idx, dtype=np.int64)
+    out = inp.eps_v[idx] * np.ones_like(np.asarray(e_V_per_m, dtype=float))
+    b = inp.kind[idx] == BIAS
+    return np.where(b, inp.curves.permittivity(np.where(b, idx, 0), e_V_per_m), out) if b.any() else out
+
+
+# --- the verdict -----------------------------------------------------------------------------------------------
+
+#: The rules, in the order a candidate meets them. Within a stage every failing rule is a reason; a later stage is
+#: not reached by a candidate that fails an earlier one (its numbers would rest on what failed).
+STAGES = (
+    ("family",),
+    ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min",
+     "permittivity-missing", "breakdown-missing", "nonlinear-no-data"),
+    ("shape-missing",),
+    ("test-area-missing",),
+    ("value-invalid",),
+    ("shape-too-low",),
+    ("thinner-than-made",),
+    ("over-design-field", "no-size", "area-impractical"),
+    ("energy-short", "loss-over", "loss-missing"),
+)
+
+
+@dataclass
+class Columns:
+    """Verdicts and criteria of every material of a table for one target (arrays of length M)."""
+
+    ok: np.ndarray
+    fails: dict[str, np.ndarray]
+    values: dict[str, np.ndarray] = field(default_factory=dict)   # NaN = criterion missing
+    low: dict[str, np.ndarray] = field(default_factory=dict)
+    high: dict[str, np.ndarray] = field(default_factory=dict)
+    parts: dict = field(default_factory=dict, repr=False)
+
+    def __len__(self) -> int:
+        return self.ok.size
+
+
+def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = None) -> Columns:
+    """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`)."""
+    inp = table if isinstance(table, Inputs) else worst_inputs(
+        table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
+        assume_defaults=target.assume_defaults)
+    t, m = inp.reader.t, inp.reader.m
+    everyone = inp.everyone
+    fails: dict[str, np.ndarray] = {}
+    no = np.zeros(m, dtype=bool)
+    fails["family"] = (~np.array([f in target.families for f in t.families], dtype=bool)
+                       if target.families else no)
+    for prop, need, side in (("max_temperature", target.tmax_K, "max"), ("min_temperature", target.tmin_K, "min")):
+        lk = inp.rated[prop]
+        fails[f"rated-missing-{side}"] = ~lk.present
+        worse = lk.value < need - 1e-6 if side == "max" else lk.value > need + 1e-6
+        fails[f"rated-outside-{side}"] = lk.present & worse
+    fails["permittivity-missing"] = ~inp.eps_has
+    fails["breakdown-missing"] = ~inp.ebd_has
+    fails["nonlinear-no-data"] = inp.kind == UPPER_BOUND
+    fails["shape-missing"] = ~inp.shape_found & (not target.assume_defaults)
+    fails["test-area-missing"] = ~inp.area_found & (not target.assume_defaults)
+    eps_v, ebd_v, beta, test_area = inp.eps_v, inp.ebd_v, inp.beta, inp.test_area
+    d_min, density = inp.d_min, inp.density
+    fails["value-invalid"] = ~((eps_v > 0) & (ebd_v > 0) & (beta > 0) & (test_area > 0) & ~(d_min <= 0)
+                               & ~(density <= 0) & np.isfinite(eps_v) & np.isfinite(ebd_v))
+    seg = np.where(inp.heals, float(target.segment_area_m2), np.nan) if target.segment_area_m2 else np.full(m, np.nan)
+    has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
+    energy_J = target.energy_J
+    sizing = thickness_m is None and energy_J is not None
+    fails["shape-too-low"] = (beta <= 1) & sizing & ~has_seg
+    live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
+    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
+    d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
+    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
+        fails[code] = des[code]
+    # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
+    # the energy, so the Monte Carlo prices the assumption.
+    assumed = ~inp.shape_found | ~inp.area_found
+    u_ends = []
+    if assumed.any():
+        for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
+            end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
+                          test_area=np.where(assumed, a, test_area), seg=seg, live=live & assumed & (b > 1))
+            u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
+    with np.errstate(all="ignore"):
+        fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
+                                 if target.energy_density_J_per_m3 is not None else no)
+        # Energy and its range from the permittivity and breakdown ranges (u ∝ εr·E² on the linear part).
+        f_eps_lo = np.where(eps_v != 0, inp.eps_lo / eps_v, 1.0)
+        f_eps_hi = np.where(eps_v != 0, inp.eps_hi / eps_v, 1.0)
+        f_e_lo = np.where(ebd_v != 0, (inp.ebd_lo / ebd_v) ** 2, 1.0)
+        f_e_hi = np.where(ebd_v != 0, (inp.ebd_hi / ebd_v) ** 2, 1.0)
+        layer = has_dmin & (d <= d_min * (1 + TOL))
+        f_e_lo = np.where(layer, np.minimum(1.0, f_e_lo), f_e_lo)
+        f_e_hi = np.where(layer, 1.0, f_e_hi)   # the field is set by the layer, not by breakdown
+        out = Columns(ok=np.ones(m, dtype=bool), fails=fails)
+        u_lo = np.minimum.reduce([u_op, *u_ends]) if u_ends else u_op
+        u_hi = np.maximum.reduce([u_op, *u_ends]) if u_ends else u_op
+        e_lo = u_lo * np.minimum(1.0, f_eps_lo * f_e_lo)
+        e_hi = u_hi * np.maximum(1.0, f_eps_hi * f_e_hi)
+        out.values["energy"], out.low["energy"], out.high["energy"] = u_op, e_lo, e_hi
+        w = energy_J if energy_J is not None else 1.0
+        vol = w / u_op
+        out.values["volume"], out.low["volume"], out.high["volume"] = vol, w / e_hi, w / e_lo
+        out.values["mass"] = vol * density
+        out.low["mass"], out.high["mass"] = (w / e_hi) * density, (w / e_lo) * density
+        # Loss: the largest tan δ over the grid (first of equals).
+        ls, c_loss, has_loss = inp.ls, inp.c_loss, inp.has_loss
+        out.values["loss"] = np.where(has_loss, ls.value[c_loss], np.nan)
+        out.low["loss"] = np.where(has_loss, ls.low[c_loss], np.nan)
+        out.high["loss"] = np.where(has_loss, ls.high[c_loss], np.nan)
+        limit = target.max_loss_tangent
+        fails["loss-over"] = has_loss & (out.values["loss"] > limit) if limit is not None else no
+        fails["loss-missing"] = ~has_loss if limit is not None else no
+        # Drift over temperature and under bias.
+        d_t = np.where(inp.n_eps_temps >= 2, inp.d_t_eps, np.where(np.isfinite(inp.d_t_cc), inp.d_t_cc, np.nan))
+        bias = inp.kind == BIAS
+        d_b = np.zeros(m)
+        if bias.any():
+            dd = charge_density(inp, everyone, e_op)
+            d_b = np.where(bias, np.abs(dd / (EPSILON_0 * inp.bias.eps[:, 0] * e_op) - 1), 0.0)
+        out.values["drift"] = np.where(np.isnan(d_t) & ~bias, np.nan, 1 - (1 - np.nan_to_num(d_t)) * (1 - d_b))
+        out.values["healing"] = np.where(inp.heal.present, inp.heals.astype(float), 0.0)
+        out.values["confidence"] = _confidence(inp)
+        for name in ("drift", "healing", "confidence"):
+            out.low[name] = out.high[name] = out.values[name]
+        link = np.where(has_seg, seg, area)
+        fail = failure_probability(e_op, scale_V_per_m=ebd_v, shape=beta, test_area_m2=test_area, area_m2=link)
+        at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
+    bad = np.zeros(m, dtype=bool)
+    for stage in STAGES:
+        for code in stage:
+            bad |= fails[code]
+    out.ok = ~bad
+    out.parts = dict(inputs=inp, target=target, thickness_m=thickness_m, seg=seg, has_seg=has_seg, d=d, area=area,
+                     ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b, fail=fail, iterations=its,
+                     log_k=log_k)
+    return out
+
+
+def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
+    """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
+    its design field), a self-consistent size for the target energy, or the design field alone."""
+    m = inp.reader.m
+    everyone = inp.everyone
+    no = np.zeros(m, dtype=bool)
+    out = {"thinner-than-made": no, "over-design-field": no, "no-size": no, "area-impractical": no}
+    V, p, margin = float(target.voltage_V), float(target.failure_probability), float(target.margin)
+    d_min, energy_J, area_t = inp.d_min, target.energy_J, target.area_m2
+    has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
+    its = np.zeros(m, dtype=np.int64)
+    with np.errstate(all="ignore"):
+        log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
+
+        def e_design(area):
+            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta)
+
+        if thickness_m is not None:
+            d = np.full(m, float(thickness_m))
+            out["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+            if area_t is None and energy_J is not None:
+                area = energy_J / u_op / d
+            else:
+                area = np.full(m, np.nan if area_t is None else float(area_t))
+            ed = e_design(np.where(np.isfinite(area), area, test_area))
+            out["over-design-field"] = e_op > ed * (1 + TOL)
+        elif energy_J is not None:
+            rows = np.flatnonzero(live)
+            d, area, ed = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
+            converged = np.zeros(m, dtype=bool)
+            if rows.size:
+                sol = size_columns(
+                    energy_J=energy_J, voltage_V=V, log_k=log_k[rows], shape=beta[rows],
+                    relative_permittivity=_first_guess_eps(inp, rows), nonlinear=inp.kind[rows] != LINEAR,
+                    energy_density=lambda idx, e: energy_density(inp, rows[idx], e), segment_area_m2=seg[rows],
+                    min_thickness_m=d_min[rows])
+                d[rows], area[rows], ed[rows] = sol["thickness_m"], sol["area_m2"], sol["design_field_V_per_m"]
+                its[rows], converged[rows] = sol["iterations"], sol["converged"]
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+            out["no-size"] = ~(converged & np.isfinite(d) & (d > 0) & np.isfinite(area) & (area > 0)
+                               & np.isfinite(u_op) & (u_op > 0))
+            out["area-impractical"] = ~out["no-size"] & (area > MAX_AREA_M2)
+        else:
+            area = np.full(m, np.nan if area_t is None else float(area_t))
+            ed = e_design(np.where(np.isfinite(area), area, test_area))
+            d = V / ed
+            d = np.where(has_dmin & (d < d_min), d_min, d)
+            e_op = V / d
+            u_op = energy_density(inp, everyone, e_op)
+    out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k)
+    return out
+
+
+def _first_guess_eps(inp: Inputs, idx) -> np.ndarray:
+    """The εr of the linear first guess of a sizing: the small-signal εr, or a loop's effective εr."""
+    eps = inp.eps_v[idx].copy()
+    lp = inp.kind[idx] == LOOP
+    with np.errstate(all="ignore"):
+        eff = 2.0 * inp.loop_value[idx] / (EPSILON_0 * inp.loop_field[idx] ** 2)
+    return np.where(lp, eff, eps)
+
+
+def _confidence(inp: Inputs) -> np.ndarray:
+    """Mean evidence score of the rows behind εr and breakdown at every grid point, and behind β."""
+    t, m = inp.reader.t, inp.reader.m
+    conf_row = np.array([CONFIDENCE.get(k, 0.0) for k in t.source_kinds])[t.source] if t.source.size else np.zeros(0)
+    total, count = np.zeros(m), np.zeros(m)
+    gm = inp.gm
+    for lk in (inp.eps_g, inp.ebd_g):
+        for used in (lk.used0, lk.used1, lk.shape0, lk.shape1):
+            hit = used >= 0
+            np.add.at(total, gm[hit], conf_row[used[hit]])
+            np.add.at(count, gm[hit], 1.0)
+    sh = inp.sh
+    for used in (sh.used0, sh.used1):
+        hit = sh.present & (used >= 0)
+        total[hit] += conf_row[used[hit]]
+        count[hit] += 1.0
+    return np.where(count > 0, total / np.where(count > 0, count, 1.0), 0.0)

@@ -1,0 +1,212 @@
+"""One candidate's words, from the engine's arrays: its reasons, binding constraint, flags, sources and design.
+
+The engine (:mod:`ranking.engine`) decides for every candidate at once; this module reads one candidate's verdict
+back as reason codes with the numbers they quote and renders them through :func:`ranking.reasons.words`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from materials.table import ValueTable
+from ranking.criteria import CRITERIA_NAMES, Evaluation
+from ranking.engine import BIAS, MAX_AREA_M2, METHOD_NAMES, STAGES, Columns, evaluate
+from ranking.reasons import words
+
+# --- words -------------------------------------------------------------------------------------------------------
+
+
+def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
+    """The reason code to show and the numbers it quotes, for rule ``code`` of candidate ``i``."""
+    P, inp = cols.parts, cols.parts["inputs"]
+    target, t = P["target"], inp.reader.t
+
+    def f(a):
+        return float(a[i])
+
+    if code == "family":
+        return code, {"family": t.families[i], "families": target.families}
+    if code.startswith("rated-"):
+        side = code.rsplit("-", 1)[1]
+        prop = f"{side}_temperature"
+        if code.startswith("rated-missing"):
+            return "rated-missing", {"prop": prop}
+        return "rated-outside", {"prop": prop, "rated_K": f(inp.rated[prop].value),
+                                 "need_K": target.tmax_K if side == "max" else target.tmin_K}
+    if code in ("permittivity-missing", "breakdown-missing"):
+        return "property-missing", {"prop": "relative_permittivity" if code[0] == "p" else "breakdown_field"}
+    if code == "value-invalid":
+        for prop, a, rows in (("relative_permittivity", inp.eps_v, inp.eps_g.used0[inp.c_eps]),
+                              ("breakdown_field", inp.ebd_v, inp.ebd_g.used0[inp.c_ebd]),
+                              ("weibull_shape", inp.beta, inp.sh.used0), ("min_thickness", inp.d_min, inp.thick.used0),
+                              ("density", inp.density, inp.dens.used0)):
+            if a[i] <= 0 or (prop in ("relative_permittivity", "breakdown_field") and not np.isfinite(a[i])):
+                return code, {"prop": prop, "value": f(a), "source": _source_key(t, rows[i])}
+        return code, {"prop": "breakdown test area", "value": f(inp.test_area), "source": "—"}
+    if code == "shape-too-low":
+        return code, {"shape": f(inp.beta), "source": _source_key(t, inp.sh.used0[i])}
+    if code == "no-size":
+        return code, {"energy_J": target.energy_J, "voltage_V": target.voltage_V}
+    if code == "area-impractical":
+        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": f(inp.beta)}
+    if code == "thinner-than-made":
+        return code, {"thickness_m": P["thickness_m"], "min_thickness_m": f(inp.d_min)}
+    if code == "over-design-field":
+        return code, {"thickness_m": P["thickness_m"], "voltage_V": target.voltage_V, "field_V_per_m": f(P["e_op"]),
+                      "design_V_per_m": f(P["ed"]), "breakdown_K": f(inp.t_ebd), "shape": f(inp.beta),
+                      "failure_probability": target.failure_probability}
+    if code == "energy-short":
+        return code, {"energy_J_per_m3": f(P["u_op"]), "voltage_V": target.voltage_V,
+                      "target_J_per_m3": target.energy_density_J_per_m3, "at_min": bool(P["at_min"][i]),
+                      "min_thickness_m": f(inp.d_min), "design_V_per_m": f(P["ed"]), "breakdown_K": f(inp.t_ebd)}
+    if code == "loss-over":
+        return code, {"loss": f(cols.values["loss"]), "limit": target.max_loss_tangent}
+    return code, {}
+
+
+def _rows_behind(lk, c) -> tuple:
+    """The rows behind a lookup's answer: the value's, then the weaker rows that lent its shape, if any."""
+    return (lk.used0[c], lk.used1[c], lk.shape0[c], lk.shape1[c])
+
+
+def _source_key(t: ValueTable, row) -> str:
+    return t.source_keys[t.source[int(row)]] if int(row) >= 0 else "—"
+
+
+def reasons(cols: Columns, i: int, *, ignore=()) -> list[tuple[str, dict]]:
+    """Candidate ``i``'s reason codes with their quoted numbers: every failing rule of the first failing stage
+    (rules named in ``ignore`` do not count)."""
+    for stage in STAGES:
+        hit = [c for c in stage if cols.fails[c][i] and c not in ignore]
+        if hit:
+            return [_quote(c, cols, i) for c in hit]
+    return []
+
+
+def binding(cols: Columns, i: int) -> tuple[str, dict]:
+    """What limits a candidate: the fixed layer, the thinnest layer made, or breakdown at the worst temperature."""
+    P, inp = cols.parts, cols.parts["inputs"]
+    if P["thickness_m"] is not None:
+        return "binding-fixed", {"thickness_m": P["thickness_m"], "ratio": float(P["e_op"][i] / P["ed"][i])}
+    if P["at_min"][i]:
+        return "binding-min-thickness", {"min_thickness_m": float(inp.d_min[i]),
+                                         "voltage_V": P["target"].voltage_V,
+                                         "field_V_per_m": float(P["e_op"][i]), "design_V_per_m": float(P["ed"][i])}
+    return "binding-breakdown", {"breakdown_K": float(inp.t_ebd[i]), "breakdown_V_per_m": float(inp.ebd_v[i]),
+                                 "design_V_per_m": float(P["ed"][i])}
+
+
+def assumption_notes(cols: Columns, i: int) -> list[str]:
+    """What candidate ``i``'s numbers assume: values held outside their data, an assumed Weibull shape or test area
+    (with the stated range the Monte Carlo draws over)."""
+    inp = cols.parts["inputs"]
+    out = []
+    if inp.extrapolated[i]:
+        out.append(words("extrapolated"))
+    if not inp.shape_found[i]:
+        out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
+    if not inp.area_found[i]:
+        out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
+    return out
+
+
+def evaluate_material(material, target, *, thickness_m: float | None = None) -> Evaluation:
+    """One material's :class:`Evaluation` (a table of one row through :func:`evaluate` and :func:`explain`)."""
+    return explain(evaluate(ValueTable.from_materials([material]), target, thickness_m=thickness_m), 0)
+
+
+def explain(cols: Columns, i: int) -> Evaluation:
+    """The :class:`ranking.criteria.Evaluation` of candidate ``i``: reasons or criteria, binding constraint,
+    flags, the sources behind each criterion, and the design."""
+    P, inp = cols.parts, cols.parts["inputs"]
+    t, target, thickness_m = inp.reader.t, P["target"], P["thickness_m"]
+    ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=thickness_m)
+    ev.codes = reasons(cols, i)
+    ev.reasons = [words(c, **q) for c, q in ev.codes]
+    for prop in ("max_temperature", "min_temperature"):
+        lk = inp.rated[prop]
+        if lk.present[i]:
+            ev.details[prop + "_K"] = float(lk.value[i])
+    if ev.codes and ev.codes[0][0] in ("family", "rated-missing", "rated-outside", "property-missing",
+                                       "nonlinear-no-data", "shape-missing", "test-area-missing"):
+        return ev
+    src, kinds = t.source, t.source_kinds
+
+    def add(name, *rows):
+        lst = ev.sources.setdefault(name, [])
+        for r in rows:
+            r = int(r)
+            if r >= 0:
+                k = t.source_keys[src[r]]
+                if k not in lst:
+                    lst.append(k)
+
+    if inp.extrapolated[i]:
+        ev.flags.append("extrapolated")
+    if not inp.shape_found[i]:
+        ev.flags.append("assumed-shape")
+    if not inp.area_found[i]:
+        ev.flags.append("assumed-test-area")
+    if inp.lent[i]:
+        ev.flags.append("shape-lent")
+    c_eps, c_ebd, sh = inp.c_eps[i], inp.c_ebd[i], inp.sh
+    eps_rows = _rows_behind(inp.eps_g, c_eps)
+    ebd_rows = _rows_behind(inp.ebd_g, c_ebd)
+    beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
+    add("energy", *eps_rows, *ebd_rows, *beta_rows)
+    if inp.thick.present[i]:
+        add("volume", inp.thick.used0[i], inp.thick.used1[i])
+    if inp.dens.present[i]:
+        add("mass", inp.dens.used0[i], inp.dens.used1[i])
+    if P["has_seg"][i]:
+        ev.flags.append("segment-scaled")
+    if ev.codes and ev.codes[0][0] in ("value-invalid", "shape-too-low", "thinner-than-made", "over-design-field",
+                                       "no-size", "area-impractical"):
+        return ev
+    if thickness_m is None and target.energy_J is None and np.isnan(P["area"][i]):
+        ev.flags.append("no-area-scaling")
+    code, q = binding(cols, i)
+    ev.binding = words(code, **q)
+    for name in CRITERIA_NAMES:
+        v = float(cols.values[name][i])
+        if v == v:
+            ev.values[name], ev.low[name], ev.high[name] = v, float(cols.low[name][i]), float(cols.high[name][i])
+        else:
+            ev.missing.append(name)
+    add("volume", *eps_rows, *ebd_rows)
+    area = float(P["area"][i])
+    ev.details.update(thickness_m=float(P["d"][i]), area_m2=area if area == area else None,
+                      design_field_V_per_m=float(P["ed"][i]), operating_field_V_per_m=float(P["e_op"][i]),
+                      worst_eps_K=float(inp.t_eps[i]), worst_breakdown_K=float(inp.t_ebd[i]),
+                      weibull_shape=float(inp.beta[i]), test_area_m2=float(inp.test_area[i]),
+                      method=METHOD_NAMES[int(inp.kind[i])])
+    if thickness_m is None and area == area:
+        ev.details["failure_probability"] = float(P["fail"][i])
+    ev.details["assumptions"] = assumption_notes(cols, i)
+    if inp.has_loss[i]:
+        c_loss = inp.c_loss[i]
+        add("loss", inp.ls.used0[c_loss], inp.ls.used1[c_loss])
+    cells = range(int(inp.g_start[i]), int(inp.g_start[i + 1]))
+    if inp.n_eps_temps[i] >= 2:
+        add("drift", inp.ref.used0[i], inp.ref.used1[i], *[r for c in cells for r in _rows_behind(inp.eps_g, c)])
+    elif np.isfinite(inp.d_t_cc[i]):
+        cc = inp.cc_rows[inp.reader.mat[inp.cc_rows] == i]
+        lst = ev.sources.setdefault("drift", [])
+        lst.extend(k for k in sorted({t.source_keys[src[r]] for r in cc}) if k not in lst)
+    if inp.kind[i] == BIAS:
+        add("drift", *inp.bias.row[i, :int(inp.bias.n[i])])
+    if "drift" in ev.values:
+        d_t = float(P["d_t"][i])
+        ev.details["drift_temperature"] = d_t if d_t == d_t else None
+        ev.details["drift_bias"] = float(P["d_b"][i])
+    if inp.heal.present[i]:
+        add("healing", inp.heal.used0[i], inp.heal.used1[i])
+    else:
+        ev.flags.append("self-healing not stated")
+    kinds_used = {kinds[src[int(r)]] for c in cells for g in (inp.eps_g, inp.ebd_g) for r in _rows_behind(g, c)
+                  if r >= 0}
+    kinds_used |= {kinds[src[int(r)]] for r in beta_rows if r >= 0}
+    for flag in ("recollection", "invented"):
+        if flag in kinds_used:
+            ev.flags.append(flag)
+    return ev

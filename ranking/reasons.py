@@ -1,0 +1,83 @@
+"""Reason codes and their words: every verdict of the evaluation engine, written once.
+
+The engine (:mod:`ranking.engine`) decides with arrays and records, per candidate, a code and the numbers the
+code quotes; :func:`words` turns them into the sentence the terminal, JSON and reports show. A message exists only
+here: ``git grep`` for any of them finds this file.
+"""
+
+from __future__ import annotations
+
+from materials.lookup import fmt_temperature as _c
+from materials.priors import assumed_area_note, assumed_shape_note, shape_prior
+
+#: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
+DEFAULTS_HINT = "leave out --strict (or strict = true in a target file) to assume the family's stated range"
+
+
+def _um(d_m: float) -> str:
+    return f"{d_m * 1e6:g} µm"
+
+
+def _vum(e: float) -> str:
+    return f"{e / 1e6:.4g} V/µm"
+
+
+TEXT = {
+    # hard constraints
+    "family": lambda q: f"family {q['family']} not among the target's ({', '.join(q['families'])})",
+    "rated-missing": lambda q: f"{q['prop']} missing: rated temperature range not stated",
+    "rated-outside": lambda q: (f"rated to {_c(q['rated_K'])} ({q['prop'].split('_')[0]}); target needs "
+                                f"{_c(q['need_K'])}"),
+    "property-missing": lambda q: f"{q['prop']} missing",
+    "nonlinear-no-data": lambda q: "nonlinear response but no DC-bias curve or loop data: its energy cannot be "
+                                   "computed",
+    "shape-missing": lambda q: ("weibull_shape missing: breakdown cannot be scaled to the part's area "
+                                f"({DEFAULTS_HINT})"),
+    "test-area-missing": lambda q: ("breakdown test electrode area not stated: cannot scale to the part's area "
+                                    f"({DEFAULTS_HINT})"),
+    "value-invalid": lambda q: (f"stored {q['prop']} {q['value']:.4g} (source {q['source']}) is not a positive "
+                                "number: the candidate cannot be evaluated"),
+    "shape-too-low": lambda q: (f"Weibull shape {q['shape']:.3g} (source {q['source']}) is 1 or less: a larger part "
+                                "is weaker faster than it stores more, so no self-consistent size exists"),
+    "no-size": lambda q: (f"no self-consistent size found for {q['energy_J']:g} J at {q['voltage_V']:g} V "
+                          "(the sizing did not converge)"),
+    "area-impractical": lambda q: (f"needs {q['area_m2']:.3g} m² of active area (more than {q['limit_m2']:g} m²): "
+                                   f"with Weibull shape {q['shape']:.3g} the weakest-link derating leaves no practical "
+                                   "part"),
+    "thinner-than-made": lambda q: (f"{_um(q['thickness_m'])} is thinner than the thinnest layer made "
+                                    f"({_um(q['min_thickness_m'])})"),
+    "over-design-field": lambda q: (f"{_um(q['thickness_m'])} at {q['voltage_V']:g} V runs at "
+                                    f"{_vum(q['field_V_per_m'])}, above the design field {_vum(q['design_V_per_m'])} "
+                                    f"(breakdown at {_c(q['breakdown_K'])}, β {q['shape']:.3g}, "
+                                    f"p {q['failure_probability']:g})"),
+    "energy-short": lambda q: (f"stores {q['energy_J_per_m3'] / 1e6:.3g} J/cm³ at {q['voltage_V']:g} V, below the "
+                               f"target {q['target_J_per_m3'] / 1e6:.3g} J/cm³"
+                               + (f" (needs a layer thinner than the {_um(q['min_thickness_m'])} that can be made)"
+                                  if q['at_min'] else
+                                  f" (design field {_vum(q['design_V_per_m'])}, breakdown at {_c(q['breakdown_K'])})")),
+    "loss-over": lambda q: f"loss tangent {q['loss']:.3g} above the limit {q['limit']:.3g}",
+    "loss-missing": lambda q: "loss_tangent missing (the target limits it)",
+    # what binds a ranked candidate
+    "binding-fixed": lambda q: f"fixed layer {_um(q['thickness_m'])}: {q['ratio']:.0%} of the design field",
+    "binding-min-thickness": lambda q: (f"thinnest layer made ({_um(q['min_thickness_m'])}) at {q['voltage_V']:g} V:"
+                                        f" field {_vum(q['field_V_per_m'])}, below the design field "
+                                        f"{_vum(q['design_V_per_m'])}"),
+    "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
+                                    f"{_vum(q['design_V_per_m'])})"),
+    # notes on assumptions
+    "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
+    "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
+    "extrapolated": lambda q: ("permittivity or breakdown held at the end of its data outside the measured "
+                               "temperatures"),
+    "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",
+    "segment-ignored": lambda q: ("segment area ignored: the material is not self-healing, so the whole area "
+                                  "counts"),
+    "linear-upper-bound": lambda q: ("nonlinear material without a DC-bias curve or loop: ½·ε0·εr·E² with the "
+                                     "small-signal εr overstates its energy"),
+    "loop-scaled": lambda q: "nonlinear: loop's recoverable density scaled by (E/E_loop)², capped at the loop's field",
+}
+
+
+def words(code: str, **quoted) -> str:
+    """The sentence for reason ``code`` with the numbers it quotes."""
+    return TEXT[code](quoted)

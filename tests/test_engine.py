@@ -1,0 +1,205 @@
+"""The evaluation engine against hand calculations and reference libraries, and its robustness to bad data.
+
+Each check names what it reproduces: the parallel-plate relations, the Weibull quantile with weakest-link area
+scaling (IEEE Std 930 / IEC 62539) through ``scipy.stats.weibull_min``, ``∫E dD`` through ``scipy.integrate.quad``
+and self-consistent sizing through ``scipy.optimize.brentq``.
+"""
+
+from __future__ import annotations
+
+import math
+import subprocess
+
+import numpy as np
+import pytest
+
+from materials.table import ValueTable
+from ranking.engine import evaluate, worst_inputs
+from ranking.explain import evaluate_material, explain
+from ranking.shortlist import shortlist
+from ranking.target import Target
+
+C = 273.15
+EPS0 = 8.8541878188e-12
+BIAS = [(0.0, 3000.0), (2e6, 2600.0), (5e6, 1800.0), (10e6, 1000.0), (20e6, 500.0)]   # V/m, εr,diff
+
+
+def film(make_material, key, *, eps=2.2, ebd=600e6, beta=12.0, area=1e-4, dmin=None, heal=1.0, kind="handbook"):
+    rows = [("relative_permittivity", eps, kind, {"temperature_K": 25 + C}),
+            ("breakdown_field", ebd, kind, {"temperature_K": 25 + C, "area_m2": area}),
+            ("weibull_shape", beta, kind, {"source": f"{key}-weibull-set"}), ("max_temperature", 105 + C, kind),
+            ("min_temperature", -55 + C, kind), ("loss_tangent", 2e-4, kind), ("density", 905.0, kind),
+            ("self_healing", heal, kind)]
+    if dmin:
+        rows.append(("min_thickness", dmin, kind))
+    return make_material(key, rows)
+
+
+def ceramic(make_material, key, *, beta=10.0, response="nonlinear"):
+    rows = [("relative_permittivity", BIAS[0][1], "handbook", {"temperature_K": 25 + C}),
+            ("breakdown_field", 80e6, "handbook", {"temperature_K": 25 + C, "area_m2": 1e-5}),
+            ("weibull_shape", beta, "handbook"), ("max_temperature", 125 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook"), ("density", 6000.0, "handbook")]
+    rows += [("relative_permittivity", v, "handbook", {"temperature_K": 25 + C, "field_V_per_m": e})
+             for e, v in BIAS[1:]]
+    return make_material(key, rows, family="ceramic-class-2", response=response)
+
+
+def target(**kw):
+    base = dict(voltage_V=800.0, tmin_K=25 + C, tmax_K=25 + C, energy_J=80.0, failure_probability=1e-3)
+    base.update(kw)
+    return Target(**base)
+
+
+def test_design_field_is_the_scipy_weibull_quantile_scaled_to_the_part_area(make_material):
+    """E_design = F⁻¹(p; β, α·(A_test/A)^(1/β)) / margin: scipy.stats.weibull_min.ppf on the area-scaled scale."""
+    from scipy.stats import weibull_min
+
+    ev = evaluate_material(film(make_material, "f"), target(area_m2=0.5, energy_J=None, margin=1.2))
+    alpha_part = 600e6 * (1e-4 / 0.5) ** (1 / 12.0)
+    expected = weibull_min.ppf(1e-3, 12.0, scale=alpha_part) / 1.2
+    assert ev.details["design_field_V_per_m"] == pytest.approx(expected, rel=1e-10)
+    # and the failure probability the part reaches at that field is p / margin^β in the Weibull exponent
+    assert ev.details["failure_probability"] == pytest.approx(
+        weibull_min.cdf(ev.details["operating_field_V_per_m"], 12.0, scale=alpha_part), rel=1e-9)
+
+
+def test_linear_sizing_is_the_closed_form_and_brentq_agrees(make_material):
+    """A = (cV/K)^(β/(β−1)) with c = 2W/(ε0·εr·V²), K = α·(−ln(1−p)·A_test)^(1/β)/margin — by hand, then by
+    scipy.optimize.brentq on ln A − ln(c·V/E_d(A)) = 0."""
+    from scipy.optimize import brentq
+
+    W, V, er, a, b, at, p = 80.0, 800.0, 2.2, 600e6, 12.0, 1e-4, 1e-3
+    K = a * (-math.log1p(-p) * at) ** (1 / b)
+    c = 2 * W / (EPS0 * er * V**2)
+    area_hand = (c * V / K) ** (b / (b - 1))
+    area_brentq = math.exp(brentq(lambda x: x - math.log(c * V / (K * math.exp(-x / b))), -20, 40, xtol=1e-14))
+    ev = evaluate_material(film(make_material, "f"), target())
+    assert ev.details["area_m2"] == pytest.approx(area_hand, rel=1e-10)
+    assert ev.details["area_m2"] == pytest.approx(area_brentq, rel=1e-10)
+    d = ev.details["thickness_m"]
+    assert 0.5 * EPS0 * er * ev.details["area_m2"] / d * V**2 == pytest.approx(W, rel=1e-10)   # W = ½CV²
+    assert ev.details["operating_field_V_per_m"] == pytest.approx(V / d, rel=1e-12)             # E = V/d
+
+
+def test_bias_curve_energy_is_scipy_quad_of_e_dD(make_material):
+    """u(E) = ε0·∫0^E e·εr,diff(e) de on the piecewise-linear curve (scipy.integrate.quad)."""
+    from scipy.integrate import quad
+
+    from ranking.engine import energy_density
+
+    m = ceramic(make_material, "x")
+    inp = worst_inputs(ValueTable.from_materials([m]), tmin_K=25 + C, tmax_K=25 + C)
+    xs, ys = zip(*BIAS, strict=True)
+    for e in (1e6, 4e6, 12e6, 20e6):
+        ref = quad(lambda x: EPS0 * x * np.interp(x, xs, ys), 0, e, points=xs[1:-1], epsabs=0)[0]
+        assert energy_density(inp, [0], [e])[0] == pytest.approx(ref, rel=1e-9)
+
+
+def test_nonlinear_sizing_agrees_with_brentq_on_the_curve(make_material):
+    """W(A) = A·d(A)·u(V/d(A)) with d = V/E_d(A): the engine's bracketed root against scipy.optimize.brentq."""
+    from scipy.integrate import quad
+    from scipy.optimize import brentq
+
+    W, V, a, b, at, p = 0.5, 100.0, 80e6, 10.0, 1e-5, 1e-3
+    xs, ys = zip(*BIAS, strict=True)
+
+    def u(e):
+        return quad(lambda x: EPS0 * x * np.interp(x, xs, ys), 0, e, points=[x for x in xs if 0 < x < e] or None,
+                    epsabs=0)[0]
+
+    K = a * (-math.log1p(-p) * at) ** (1 / b)
+
+    def g(x):
+        e = K * math.exp(-x / b)
+        return x + math.log(V / e) + math.log(u(e)) - math.log(W)
+
+    area_ref = math.exp(brentq(g, -30, 30, xtol=1e-13))
+    ev = evaluate_material(ceramic(make_material, "x"), target(voltage_V=V, energy_J=W))
+    assert ev.ok, ev.reasons
+    assert ev.details["area_m2"] == pytest.approx(area_ref, rel=1e-8)
+    assert ev.details["method"] == "bias-curve"
+
+
+def test_loop_material_sizes_self_consistently(make_material):
+    """A material known by a loop's recoverable density: the stored energy A·d·u(E_op) equals the target."""
+    rows = [("relative_permittivity", 1500.0, "handbook"), ("breakdown_field", 40e6, "handbook", {"area_m2": 1e-5}),
+            ("weibull_shape", 8.0, "handbook"), ("max_temperature", 125 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook"),
+            ("recoverable_energy_density", 2e6, "lab", {"field_V_per_m": 20e6})]
+    m = make_material("relaxor", rows, family="ceramic-bulk", response="nonlinear")
+    ev = evaluate_material(m, target(voltage_V=500.0, energy_J=1.0))
+    assert ev.ok, ev.reasons
+    d, area = ev.details["thickness_m"], ev.details["area_m2"]
+    e_op = 500.0 / d
+    u = 2e6 * (min(e_op, 20e6) / 20e6) ** 2
+    assert area * d * u == pytest.approx(1.0, rel=1e-9)
+    # d = V/E_design(A): the weakest-link design field at the area found
+    K = 40e6 * (-math.log1p(-1e-3) * 1e-5) ** (1 / 8.0)
+    assert e_op == pytest.approx(K * area ** (-1 / 8.0), rel=1e-9)
+
+
+@pytest.mark.parametrize("beta", [0.75, 1.0])
+def test_a_shape_of_one_or_less_excludes_only_that_material(make_material, beta):
+    good = film(make_material, "good")
+    bad = film(make_material, "scattered", beta=beta)
+    res = shortlist([good, bad], target(), draws=50)
+    assert [r["key"] for r in res["ranked"]] == ["good"]
+    (ex,) = res["excluded"]
+    assert ex["key"] == "scattered"
+    assert f"Weibull shape {beta:g}" in ex["reasons"][0] and "scattered-weibull-set" in ex["reasons"][0]
+
+
+@pytest.mark.parametrize("beta", [1.05, 1.2])
+def test_a_shape_just_above_one_never_raises(make_material, beta):
+    """β just above 1 on a nonlinear material: a physical size or a stated exclusion, never a traceback."""
+    res = shortlist([ceramic(make_material, "c", beta=beta), film(make_material, "f")],
+                    target(voltage_V=100.0, energy_J=0.5), draws=50)
+    by_key = {r["key"]: r for r in res["ranked"]}
+    assert "f" in by_key
+    if "c" in by_key:
+        assert by_key["c"]["design"]["area_m2"] < 1e6
+    else:
+        assert res["excluded"][0]["reasons"]
+
+
+def test_invalid_stored_value_is_that_candidate_reason(make_material):
+    bad = film(make_material, "neg", ebd=-5e8)
+    res = shortlist([bad, film(make_material, "ok")], target(), draws=20)
+    assert [r["key"] for r in res["ranked"]] == ["ok"]
+    reason = res["excluded"][0]["reasons"][0]
+    assert "breakdown_field" in reason and "not a positive" in reason
+
+
+def test_tiny_failure_probability_agrees_between_size_and_shortlist(make_material):
+    """One failure-probability formula (−expm1): 1e-12 stays 1e-12 to many digits in both commands."""
+    from ranking.part import size_material
+
+    m = film(make_material, "f")
+    sized = size_material(m, energy_J=80.0, voltage_V=800.0, tmin_K=25 + C, tmax_K=25 + C, failure_probability=1e-12)
+    ranked = shortlist([m], target(failure_probability=1e-12), draws=10)["ranked"][0]
+    assert sized["failure_probability"] == pytest.approx(1e-12, rel=1e-9)
+    assert ranked["design"]["failure_probability"] == pytest.approx(sized["failure_probability"], rel=1e-9)
+
+
+def test_one_table_many_materials_equals_one_by_one(make_material):
+    """A table of many rows gives each material what a table of one gives it (the engine has one path)."""
+    mats = [film(make_material, f"f{i}", eps=2 + i / 10, ebd=(4 + i) * 1e8, beta=6 + i, dmin=(i % 3) * 1e-6 or None)
+            for i in range(6)] + [ceramic(make_material, "c")]
+    tg = target(voltage_V=400.0, energy_J=2.0, tmin_K=-40 + C, tmax_K=85 + C, assume_defaults=True)
+    cols = evaluate(ValueTable.from_materials(mats), tg)
+    for i, m in enumerate(mats):
+        one = evaluate_material(m, tg)
+        many = explain(cols, i)
+        assert one.reasons == many.reasons and one.sources == many.sources and one.flags == many.flags
+        for k, v in one.values.items():
+            assert many.values[k] == pytest.approx(v, rel=1e-12)
+
+
+def test_each_exclusion_message_is_written_once():
+    """`git grep` for a message finds one definition (ranking/reasons.py)."""
+    for text in ("is thinner than the thinnest layer made", "above the design field", "rated temperature range "
+                 "not stated", "that can be made)", "not among the target's", "above the limit"):
+        out = subprocess.run(["git", "grep", "--untracked", "-l", "-F", text, "--", "*.py", ":!tests"],
+                             capture_output=True, text=True, cwd=__file__.rsplit("/tests/", 1)[0]).stdout.split()
+        assert out == ["ranking/reasons.py"], (text, out)
