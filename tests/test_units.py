@@ -293,7 +293,7 @@ def test_option_forms_agree_with_pint_and_are_read_without_pint():
     values, pint_imported = json.loads(out)
     assert pint_imported is False
     pint_spelling = {text: (number, pint_unit) for text, _, number, pint_unit in ENGINEER_FORMS}
-    for (text, kind), value in zip(OPTION_FORMS, values):
+    for (text, kind), value in zip(OPTION_FORMS, values, strict=True):
         assert value == pytest.approx(_pint_si(*pint_spelling[text], CLI_DEFAULTS[kind][1]), rel=1e-12), text
 
 
