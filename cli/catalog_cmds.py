@@ -61,12 +61,13 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
         print_json(rows)
         _nothing_matched(rows, family, where)
         return
-    from cli.fmt import celsius, display
+    from cli.fmt import display
     from cli.output import table
+    from materials.numfmt import fmt_celsius
 
     body = []
     for r in rows:
-        t = f"{celsius(r['min_temperature_K'])} … {celsius(r['max_temperature_K'])}"
+        t = f"{fmt_celsius(r['min_temperature_K'])} … {fmt_celsius(r['max_temperature_K'])}"
         flags = ", ".join(k for k in r["source_kinds"] if k in FLAG_KINDS)
         body.append([r["key"], r["name"], r["family"], display("relative_permittivity", r["relative_permittivity"]),
                      display("loss_tangent", r["loss_tangent"]),

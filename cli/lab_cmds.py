@@ -119,14 +119,15 @@ def _target(material, new_material, family) -> dict:
 
 
 def _fit_lines(fit, *, title: str) -> None:
-    from cli.fmt import quantity
-    from cli.output import fmt, table
+    from cli.output import table
+    from materials.numfmt import fmt_number, fmt_quantity
 
     conf = f"{fit.confidence:.0%}"
-    v_um = lambda x: quantity(x, "V/um", "V/m")  # noqa: E731
+    v_um = lambda x: fmt_quantity(x, "V/um", "V/m")  # noqa: E731
     rows = [["scale α (63.2 %)", v_um(fit.scale), f"{v_um(fit.scale_bounds[0])} … {v_um(fit.scale_bounds[1])}"],
-            ["shape β (ML)", fmt(fit.shape), f"{fmt(fit.shape_bounds[0])} … {fmt(fit.shape_bounds[1])}"],
-            ["shape β (unbiased, Ross)", fmt(fit.shape_unbiased), ""],
+            ["shape β (ML)", fmt_number(fit.shape),
+             f"{fmt_number(fit.shape_bounds[0])} … {fmt_number(fit.shape_bounds[1])}"],
+            ["shape β (unbiased, Ross)", fmt_number(fit.shape_unbiased), ""],
             ["B1 (1 % failure)", v_um(fit.b1), ""],
             ["B10 (10 % failure)", v_um(fit.b10), ""]]
     table(["figure", "value", f"{conf} bounds"], rows, right={1}, title=title,
@@ -138,17 +139,16 @@ def _fit_lines(fit, *, title: str) -> None:
 
 
 def _energy_rows(en) -> list[list[str]]:
-    from cli.fmt import quantity
-    from cli.output import fmt
+    from materials.numfmt import fmt_number, fmt_quantity
 
-    return [["stored", quantity(en.stored_J_per_m3, "J/cm**3", "J/m3")],
-            ["recovered", quantity(en.recovered_J_per_m3, "J/cm**3", "J/m3")],
-            ["lost", quantity(en.lost_J_per_m3, "J/cm**3", "J/m3")],
-            ["efficiency", f"{fmt(en.efficiency * 100, 3)} %"],
-            ["peak field", f"{quantity(en.max_field_V_per_m, 'kV/cm', 'V/m')} "
-                           f"({quantity(en.max_field_V_per_m, 'V/um', 'V/m')})"],
-            ["max polarisation", f"{fmt(en.max_polarization_C_per_m2 * 100)} µC/cm²"],
-            ["remanent polarisation", f"{fmt(en.remanent_polarization_C_per_m2 * 100)} µC/cm²"]]
+    return [["stored", fmt_quantity(en.stored_J_per_m3, "J/cm**3", "J/m3")],
+            ["recovered", fmt_quantity(en.recovered_J_per_m3, "J/cm**3", "J/m3")],
+            ["lost", fmt_quantity(en.lost_J_per_m3, "J/cm**3", "J/m3")],
+            ["efficiency", fmt_quantity(en.efficiency, "%", "1", 3)],
+            ["peak field", f"{fmt_quantity(en.max_field_V_per_m, 'kV/cm', 'V/m')} "
+                           f"({fmt_quantity(en.max_field_V_per_m, 'V/um', 'V/m')})"],
+            ["max polarisation", f"{fmt_number(en.max_polarization_C_per_m2 * 100)} µC/cm²"],
+            ["remanent polarisation", f"{fmt_number(en.remanent_polarization_C_per_m2 * 100)} µC/cm²"]]
 
 
 def _import(importer, reader, file: Path, overrides: dict, target: dict, *, force: bool, json_out: bool) -> None:
@@ -164,18 +164,18 @@ def _import(importer, reader, file: Path, overrides: dict, target: dict, *, forc
 
 
 def _figures_line(res) -> str:
-    from cli.fmt import quantity
-    from cli.output import fmt
+    from materials.numfmt import fmt_number, fmt_quantity
 
     f = res.figures
     if res.what == "loop":
-        return (f"recovered {quantity(f['recovered_J_per_m3'], 'J/cm**3', 'J/m3')} at "
-                f"{quantity(f['max_field_V_per_m'], 'kV/cm', 'V/m')}, efficiency {fmt(f['efficiency'] * 100, 3)} %,"
+        return (f"recovered {fmt_quantity(f['recovered_J_per_m3'], 'J/cm**3', 'J/m3')} at "
+                f"{fmt_quantity(f['max_field_V_per_m'], 'kV/cm', 'V/m')}, "
+                f"efficiency {fmt_quantity(f['efficiency'], '%', '1', 3)},"
                 " stored as recoverable_energy_density and efficiency")
     lo, hi = f["scale_bounds_V_per_m"]
-    return (f"Weibull scale {quantity(f['scale_V_per_m'], 'V/um', 'V/m')} ({f['confidence']:.0%}: "
-            f"{quantity(lo, 'V/um', 'V/m')} … {quantity(hi, 'V/um', 'V/m')}), shape {fmt(f['shape'])} "
-            f"(unbiased {fmt(f['shape_unbiased'])}), stored as breakdown_field and weibull_shape")
+    return (f"Weibull scale {fmt_quantity(f['scale_V_per_m'], 'V/um', 'V/m')} ({f['confidence']:.0%}: "
+            f"{fmt_quantity(lo, 'V/um', 'V/m')} … {fmt_quantity(hi, 'V/um', 'V/m')}), shape {fmt_number(f['shape'])} "
+            f"(unbiased {fmt_number(f['shape_unbiased'])}), stored as breakdown_field and weibull_shape")
 
 
 def _imported_lines(res) -> None:
@@ -194,29 +194,29 @@ def _imported_lines(res) -> None:
 
 def print_sets(sets: dict) -> None:
     """Tables of a material's breakdown sets and loops (what :func:`db.labdata.describe_sets` returns), for show."""
-    from cli.fmt import celsius, quantity
-    from cli.output import fmt, table
+    from cli.output import table
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
     def um(x):
-        return quantity(x, "um", "m") if x is not None else "—"
+        return fmt_quantity(x, "um", "m") if x is not None else "—"
 
     if sets.get("breakdown_sets"):
         rows = []
         for r in sets["breakdown_sets"]:
-            rng = (f"{fmt(r['scale_low_V_per_m'] / 1e6)} … {fmt(r['scale_high_V_per_m'] / 1e6)}"
+            rng = (f"{fmt_number(r['scale_low_V_per_m'] / 1e6)} … {fmt_number(r['scale_high_V_per_m'] / 1e6)}"
                    if r["scale_low_V_per_m"] is not None else "")
-            rows.append([r["label"], r["n"], r["censored"], celsius(r["temperature_K"]), um(r["thickness_m"]),
-                         quantity(r["area_m2"], "cm**2", "m2") if r["area_m2"] is not None else "—",
-                         r["waveform"], quantity(r["scale_V_per_m"], "V/um", "V/m") if r["scale_V_per_m"] else "—",
-                         rng, fmt(r["shape"]), f"{r['source']} [{r['kind']}]"])
+            rows.append([r["label"], r["n"], r["censored"], fmt_celsius(r["temperature_K"]), um(r["thickness_m"]),
+                         fmt_quantity(r["area_m2"], "cm**2", "m2"), r["waveform"],
+                         fmt_quantity(r["scale_V_per_m"], "V/um", "V/m") if r["scale_V_per_m"] else "—",
+                         rng, fmt_number(r["shape"]), f"{r['source']} [{r['kind']}]"])
         table(["breakdown set", "n", "cens.", "T", "d", "A", "wave", "scale α", "bounds V/µm", "β", "source [kind]"],
               rows, right={1, 2, 7, 9}, caption="α: Weibull scale with its bounds; β: Ross-unbiased shape")
     if sets.get("loops"):
-        rows = [[r["label"], r["n"], celsius(r["temperature_K"]),
-                 quantity(r["frequency_Hz"], "Hz", "Hz") if r["frequency_Hz"] else "—",
-                 quantity(r["max_field_V_per_m"], "V/um", "V/m") if r["max_field_V_per_m"] else "—",
-                 quantity(r["recovered_J_per_m3"], "J/cm**3", "J/m3") if r["recovered_J_per_m3"] is not None else "—",
-                 f"{fmt(r['efficiency'] * 100, 3)} %" if r["efficiency"] is not None else "—",
+        rows = [[r["label"], r["n"], fmt_celsius(r["temperature_K"]),
+                 fmt_quantity(r["frequency_Hz"], "Hz", "Hz") if r["frequency_Hz"] else "—",
+                 fmt_quantity(r["max_field_V_per_m"], "V/um", "V/m") if r["max_field_V_per_m"] else "—",
+                 fmt_quantity(r["recovered_J_per_m3"], "J/cm**3", "J/m3"),
+                 fmt_quantity(r["efficiency"], "%", "1", 3),
                  f"{r['source']} [{r['kind']}]"] for r in sets["loops"]]
         table(["loop", "n", "T", "f", "peak field", "recovered", "efficiency", "source [kind]"], rows,
               right={1, 4, 5, 6})

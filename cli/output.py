@@ -124,12 +124,3 @@ def caution(lines: list[str]) -> None:
         if sep and head.strip().lower() == "caution":
             line = rest.strip()
         say(f"[bold yellow]CAUTION[/]: {esc(line)}")
-
-
-def fmt(x, digits: int = 4) -> str:
-    """A number with ``digits`` significant figures, '—' for None."""
-    if x is None or (isinstance(x, float) and math.isnan(x)):
-        return "—"
-    if x == 0:
-        return "0"
-    return f"{x:.{digits}g}"

@@ -44,24 +44,26 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
 
         print_json([{**r.to_dict(), "cautions": [CAUTION]} for r in rows])
         return
-    from cli.fmt import celsius, display
-    from cli.output import caution, fmt, say, table
+    from cli.fmt import display
+    from cli.output import caution, say, table
+    from materials.numfmt import fmt_celsius, fmt_number
 
     body = []
     for r in rows:
-        body.append([r.key, celsius(r.temperature_K), fmt(r.relative_permittivity),
-                     display("breakdown_field", r.breakdown_field_V_per_m), f"{fmt(r.ceiling_J_per_m3 / 1e6)}",
-                     display("breakdown_field", r.design_field_V_per_m), f"{fmt(r.design_J_per_m3 / 1e6)}",
+        body.append([r.key, fmt_celsius(r.temperature_K), fmt_number(r.relative_permittivity),
+                     display("breakdown_field", r.breakdown_field_V_per_m), f"{fmt_number(r.ceiling_J_per_m3 / 1e6)}",
+                     display("breakdown_field", r.design_field_V_per_m), f"{fmt_number(r.design_J_per_m3 / 1e6)}",
                      ("extrapolated " if r.extrapolated else "") + r.method, ", ".join(r.sources)])
     cond = []
-    cond.append(f"area {fmt(a)} m²" if a else "at the test area")
-    cond.append(f"failure probability {failure_prob:g}" if failure_prob is not None else "Weibull scale (63.2 %)")
-    cond.append(f"margin {margin:g}")
+    cond.append(f"area {fmt_number(a)} m²" if a else "at the test area")
+    cond.append(f"failure probability {fmt_number(failure_prob, 6)}" if failure_prob is not None
+                else "Weibull scale (63.2 %)")
+    cond.append(f"margin {fmt_number(margin, 6)}")
     table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
           right={2, 3, 4, 5, 6}, caption="design: " + ", ".join(cond))
     for r in rows:
         for n in r.notes:
-            say(f"note ({r.key}, {celsius(r.temperature_K)}): {n}")
+            say(f"note ({r.key}, {fmt_celsius(r.temperature_K)}): {n}")
     caution([CAUTION])
 
 
@@ -103,25 +105,25 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
 
         print_json(res)
         return
-    from cli.fmt import celsius, quantity
-    from cli.output import caution, fmt, say, table
+    from cli.output import caution, say, table
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
-    rows = [["thickness", quantity(res["thickness_m"], "um", "m")],
-            ["active area", quantity(res["area_m2"], "m**2", "m2")],
-            ["dielectric volume", quantity(res["volume_m3"], "cm**3", "m3")],
+    rows = [["thickness", fmt_quantity(res["thickness_m"], "um", "m")],
+            ["active area", fmt_quantity(res["area_m2"], "m**2", "m2")],
+            ["dielectric volume", fmt_quantity(res["volume_m3"], "cm**3", "m3")],
             ["dielectric mass",
-             quantity(res["mass_kg"], "g", "kg") if res["mass_kg"] is not None else "— (no density)"],
-            ["capacitance", quantity(res["capacitance_F"], "uF", "F")],
-            ["operating field", quantity(res["operating_field_V_per_m"], "V/um", "V/m")],
-            ["design field", quantity(res["design_field_V_per_m"], "V/um", "V/m")],
-            ["energy stored", quantity(res["energy_J"], "J", "J")],
-            ["failure probability", fmt(res["failure_probability"], 3)],
+             fmt_quantity(res["mass_kg"], "g", "kg") if res["mass_kg"] is not None else "— (no density)"],
+            ["capacitance", fmt_quantity(res["capacitance_F"], "uF", "F")],
+            ["operating field", fmt_quantity(res["operating_field_V_per_m"], "V/um", "V/m")],
+            ["design field", fmt_quantity(res["design_field_V_per_m"], "V/um", "V/m")],
+            ["energy stored", fmt_quantity(res["energy_J"], "J", "J")],
+            ["failure probability", fmt_number(res["failure_probability"], 3)],
             ["limited by", res["limited_by"]],
-            ["worst temperature", celsius(res["worst_temperature_K"])]]
+            ["worst temperature", fmt_celsius(res["worst_temperature_K"])]]
     if res.get("dissipated_power_W") is not None:
-        rows.append(["dissipated power", quantity(res["dissipated_power_W"], "W", "W")])
-    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {fmt(res['energy_J'])} J at "
-          f"{fmt(res['voltage_V'])} V, {celsius(res['tmin_K'])} … {celsius(res['tmax_K'])}")
+        rows.append(["dissipated power", fmt_quantity(res["dissipated_power_W"], "W", "W")])
+    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {fmt_number(res['energy_J'])} J at "
+          f"{fmt_number(res['voltage_V'])} V, {fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
     for n in res["notes"]:
         say(f"note: {n}")
     say("sources: " + ", ".join(res["sources"]))

@@ -36,16 +36,12 @@ def _wrote(path: Path, what: str, json_out: bool, **extra) -> None:
     say(esc(f"wrote {path} ({what})"))
 
 
-def _check_out(path: Path, force: bool, allowed: tuple[str, ...]) -> None:
-    """Refuse a wrong extension or an existing file before any work is done."""
-    from materials.errors import InputError
+def _check_chart(path: Path, force: bool) -> None:
+    """Refuse a wrong extension, an existing file or a missing folder before any work is done."""
+    from ranking.charts import FORMATS
+    from ranking.outfile import check_output
 
-    ext = path.suffix.lower().lstrip(".")
-    if ext not in allowed:
-        raise InputError(f"cannot tell the format from '{path.suffix or path.name}': use one of "
-                         + ", ".join("." + a for a in allowed), file=str(path))
-    if path.exists() and not force:
-        raise InputError("file exists (use --force to overwrite)", file=str(path))
+    check_output(path, FORMATS, force=force)
 
 
 def _family(family: str | None) -> None:
@@ -111,8 +107,9 @@ def export(
     """
     from materials.errors import InputError
     from ranking import report
+    from ranking.outfile import check_output
 
-    _check_out(to, force, report.FORMATS)
+    check_output(to, report.FORMATS, force=force, aliases=report.ALIASES)
     given = [name for name, v in (("KEY", keys or family), ("--from", from_file), ("--target", target)) if v]
     if len(given) != 1:
         raise InputError("give one of: material keys (or --family), --from FILE.json, --target FILE.toml"
@@ -175,7 +172,7 @@ def chart_map(
     """Permittivity against breakdown field, log–log, with lines of constant ½·ε0·εr·E² in J/cm³."""
     from ranking.charts import map_chart
 
-    _check_out(out, force, ("png", "svg"))
+    _check_chart(out, force)
     _family(family)
     from materials.units import parse_option
 
@@ -220,7 +217,7 @@ def chart_ceiling(
     from materials.units import parse_option
     from ranking.charts import ceiling_chart
 
-    _check_out(out, force, ("png", "svg"))
+    _check_chart(out, force)
     t0 = parse_option(tmin, "temperature", name="--tmin")
     t1 = parse_option(tmax, "temperature", name="--tmax")
     if not t1 > t0:
@@ -265,7 +262,7 @@ def chart_weibull(
     from materials.errors import InputError
     from ranking.charts import weibull_chart
 
-    _check_out(out, force, ("png", "svg"))
+    _check_chart(out, force)
     if not files and not material:
         raise InputError("give breakdown CSV files or --material KEY")
     if not 0 < confidence < 1:
@@ -312,7 +309,7 @@ def chart_loop(
     from materials.errors import InputError
     from ranking.charts import loop_chart
 
-    _check_out(out, force, ("png", "svg"))
+    _check_chart(out, force)
     if (file is None) == (material is None):
         raise InputError("give a loop CSV file or --material KEY --label LABEL (one of them)")
     if file is not None:

@@ -61,8 +61,11 @@ def shortlist(
 
     if top < 1:
         raise InputError("--top must be at least 1")
-    if export and export.exists() and not force:
-        raise InputError(f"{export} exists (use --force to overwrite)")
+    if export:
+        from ranking.outfile import check_output
+        from ranking.report import ALIASES, FORMATS
+
+        check_output(export, FORMATS, force=force, aliases=ALIASES)
     t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
@@ -96,17 +99,16 @@ def shortlist(
 
 
 def render(result: dict, *, top: int) -> None:
-    from cli.fmt import celsius
-    from cli.output import caution, esc, fmt, say, table
-    from materials.units import from_si
+    from cli.output import caution, esc, say, table
+    from materials.numfmt import fmt_celsius, fmt_number, to_display
 
     t = result["target"]
-    head = [f"{fmt(t['voltage_V'])} V", f"{celsius(t['tmin_K'])} … {celsius(t['tmax_K'])}"]
+    head = [f"{fmt_number(t['voltage_V'])} V", f"{fmt_celsius(t['tmin_K'])} … {fmt_celsius(t['tmax_K'])}"]
     if t.get("energy_J"):
-        head.append(f"{fmt(t['energy_J'])} J")
+        head.append(f"{fmt_number(t['energy_J'])} J")
     if t.get("energy_density_J_per_m3"):
-        head.append(f"≥ {fmt(t['energy_density_J_per_m3'] / 1e6)} J/cm³")
-    head.append(f"p_fail {t['failure_probability']:g}, margin {t['margin']:g}")
+        head.append(f"≥ {fmt_number(t['energy_density_J_per_m3'] / 1e6)} J/cm³")
+    head.append(f"p_fail {fmt_number(t['failure_probability'], 6)}, margin {fmt_number(t['margin'], 6)}")
     say(f"[bold]shortlist[/] ({result['method']}): " + esc(", ".join(head)) + (f" — {esc(t['name'])}" if t.get("name")
                                                                              else ""))
     crit = {c["name"]: c for c in result["criteria"]}
@@ -116,11 +118,7 @@ def render(result: dict, *, top: int) -> None:
         c = crit.get(name)
         if c is None or v is None:
             return "—"
-        if c["display_unit"] == "%":
-            return f"{v * 100:.3g}"
-        if c["display_unit"]:
-            return fmt(from_si(v, c["display_unit"], c["unit"]), 3)
-        return fmt(v, 3)
+        return fmt_number(to_display(v, c["unit"], c["display_unit"]), 3)
 
     cols = ["#", "material", "score"]
     names = [n for n in ("energy", "volume", "mass", "loss", "drift") if n in crit]

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from materials.numfmt import fmt_number
+
 FAMILIES = (
     "polymer-film", "ceramic-class-1", "ceramic-class-2", "ceramic-bulk", "glass", "mica", "oxide-film",
     "liquid", "gas", "composite",
@@ -80,7 +82,8 @@ def check_plausible(prop: str, value: float, family: str | None = None) -> str |
     p = PROPERTIES[prop]
     unit = p.si if p.si != "1" else "(dimensionless)"
     fam = f" for a {family} material" if prop == "relative_permittivity" and family else ""
-    return (f"{prop} = {value:g} {unit} is outside the plausible range {lo:g}…{hi:g} {unit}{fam}"
+    return (f"{prop} = {fmt_number(value, 6)} {unit} is outside the plausible range {fmt_number(lo, 6)}…"
+            f"{fmt_number(hi, 6)} {unit}{fam}"
             " (a unit slip?)")
 
 

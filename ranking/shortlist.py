@@ -53,12 +53,10 @@ def _display_scale(display_unit: str, unit: str) -> float:
 
 
 def _fmt_criterion(name: str, value: float) -> str:
+    from materials.numfmt import fmt_quantity
+
     c = CRITERIA[name]
-    if c.display_unit == "%":
-        return f"{value * 100:.3g} %"
-    if c.display_unit:
-        return f"{value / _display_scale(c.display_unit, c.unit):.4g} {c.display_unit.replace('**3', '³')}"
-    return f"{value:.3g}"
+    return fmt_quantity(value, c.display_unit, c.unit, 3 if c.display_unit in ("", "%") else 4)
 
 
 def _label(key: str, thickness_m: float | None) -> str:

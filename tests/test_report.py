@@ -247,6 +247,19 @@ def test_refuses_to_overwrite_and_unknown_extensions(result, tmp_path):
         report.load_json(tmp_path / "x.json")
 
 
+def test_exports_and_charts_pass_the_same_check_before_writing(result, tmp_path):
+    from ranking import charts
+    from ranking.outfile import check_output
+
+    missing = tmp_path / "no-such-folder"
+    for write in (lambda: report.write(result, missing / "r.md"), lambda: charts.save(None, missing / "c.png")):
+        with pytest.raises(InputError, match="no-such-folder does not exist"):
+            write()
+    assert check_output(tmp_path / "R.HTM", report.FORMATS, aliases=report.ALIASES) == (tmp_path / "R.HTM", "html")
+    with pytest.raises(InputError, match=r"'\.pdf': use \.csv, \.xlsx, \.md, \.html or \.json"):
+        check_output(tmp_path / "r.pdf", report.FORMATS)
+
+
 # --- HTML -------------------------------------------------------------------------------------------------------
 
 class _Collect(HTMLParser):
@@ -293,6 +306,35 @@ def test_html_is_self_contained_and_holds_table_sources_and_svg(result, material
     assert "@page { size: A4" in text and "@media print" in text
     # the flagged value carries its mark; the legend explains it
     assert "1.9<span class=\"mark\">†</span>" in text and "remembered but not checked" in text
+
+
+def test_hostile_text_comes_out_escaped(result, tmp_path):
+    """Markup in data (a material's name, a note, a reason, a citation, the target's name) is shown as text: no
+    element of it reaches the HTML page, and Markdown prints it with a backslash before the '<' (CommonMark
+    backslash escapes), so no renderer reads it as raw HTML."""
+    import copy
+
+    bad = copy.deepcopy(result)
+    bad["target"]["name"] = '"><script>alert(1)</script>'
+    bad["ranked"][0]["name"] = "<script>alert(2)</script> | *bold*"
+    bad["ranked"][0]["label"] = 'film-a" onmouseover="alert(3)'
+    bad["ranked"][1]["binding"] = "<img src=x onerror=alert(4)>"
+    bad["excluded"][0]["reasons"] = ["<iframe src=//example.invalid></iframe>"]
+    bad["sources"]["hb-1"]["citation"] = "A & B <a href='http://example.invalid'>link</a>"
+    text = report.write(bad, tmp_path / "bad.html", charts=False).read_text()
+    p = _parse(text)
+    assert not {"script", "img", "iframe"} & set(p.tags)
+    assert not [a for t, a in p.attrs if t == "a" and not a.get("href", "").startswith("#")]
+    assert not [a for _t, a in p.attrs if "onmouseover" in a or "onerror" in a]
+    body = "".join(p.text)
+    for s in ("<script>alert(2)</script>", "<img src=x onerror=alert(4)>", "A & B <a href='http://example.invalid'>",
+              '"><script>alert(1)</script>'):
+        assert s in body
+    assert "&lt;script&gt;alert(2)&lt;/script&gt;" in text
+    md = report.write(bad, tmp_path / "bad.md").read_text()
+    assert "\\<script>alert(2)\\</script> \\| \\*bold\\*" in md
+    assert "\\<img src=x onerror=alert(4)>" in md and "\\<iframe" in md
+    assert md.count("<script>") == md.count("\\<script>")
 
 
 def test_html_of_a_comparison_has_map_and_ceiling_charts(materials, tmp_path):
