@@ -661,3 +661,46 @@ def test_alkali_free_glass_12_mv_per_cm_at_etched_thickness_smith_2009(catalog):
     thick = one(catalog, "alkali-free-thin-glass", "breakdown_field", "murata-2012-jacers-glass", thickness_m=58e-6)
     thin = one(catalog, "alkali-free-thin-glass", "breakdown_field", "murata-2012-jacers-glass", thickness_m=5e-6)
     assert thick.value < v.value <= thin.value * 1.1
+
+
+def test_film_permittivity_band_follows_maker_table_capacitance_change(catalog):
+    """Maker table row 'ΔC/C versus temperature (%)': PET ±5, PP ±2.5, PEN ±5, PPS ±1.5 over the rated range, with
+    the sign the dielectric-constant row states (PET, PEN rise; PP falls; PPS 'very constant')."""
+    for key, pct, sign in (("pet-film", 5, 1), ("polypropylene-bopp", 2.5, -1), ("pen-film", 5, 1), ("pps-film", 1.5, 0)):
+        ref = one(catalog, key, "relative_permittivity", MAKER, temperature_K=23 + C0).value
+        cold = one(catalog, key, "relative_permittivity", MAKER, temperature_K=-55 + C0)
+        hot = max((v for v in rows(catalog, key, "relative_permittivity", MAKER) if v.temperature_K), key=lambda v: v.temperature_K)
+        assert hot.temperature_K == pytest.approx(one(catalog, key, "max_temperature", MAKER).value)
+        for v, side in ((cold, -1), (hot, 1)):
+            assert max(abs(v.low / ref - 1), abs(v.high / ref - 1)) == pytest.approx(pct / 100, rel=1e-3), key
+            assert (v.value - ref) * side * sign >= 0, key
+
+
+# --- flexible-circuit maker's typical-properties table (ASTM D149 at 5 mil) -----------------------------------------
+
+def test_circuit_film_strength_at_5_mil_flex_table(catalog):
+    """'Dielectric Strength (ASTM D149) @ 5 mil thickness': polyimide 3800, polyester 3400 V/mil; the polyimide typical
+    value sits above the 3000 V/mil specification minimum of GS-96-7 Table 3 at the same 127 um gauge."""
+    src = "flex-circuit-dielectric-properties-table"
+    pi = one(catalog, "polyimide-pmda-oda", "breakdown_field", src, thickness_m=127e-6)
+    assert pi.value == pytest.approx(3800 * V_PER_MIL)
+    assert one(catalog, "pet-film", "breakdown_field", src, thickness_m=127e-6).value == pytest.approx(3400 * V_PER_MIL)
+    spec = one(catalog, "polyimide-pmda-oda", "breakdown_field", PI, thickness_m=127e-6)
+    assert pi.value > spec.value
+
+
+# --- alumina substrate maker's table (ASTM C20, D149, D150) ---------------------------------------------------------
+
+def test_alumina_96_substrate_maker_table(catalog):
+    """96 % Al2O3: density 3.78 g/cm3, 9.5 and 0.0003 at 25 °C and 1 MHz, AC strength > 15 kV/mm; 99.6 %: 0.0001."""
+    src = "alumina-substrate-maker-table"
+    assert one(catalog, "alumina-96", "density", src).value == pytest.approx(3780)
+    assert one(catalog, "alumina-96", "relative_permittivity", src, frequency_Hz=1e6).value == 9.5
+    assert one(catalog, "alumina-96", "loss_tangent", src, frequency_Hz=1e6).value == 0.0003
+    assert one(catalog, "alumina-96", "breakdown_field", src).value == pytest.approx(15e6)
+    assert one(catalog, "alumina-99-5", "loss_tangent", src, frequency_Hz=1e6).value == 0.0001
+
+
+def test_parylene_thinnest_layer_coating_page(catalog):
+    """'parylene is typically applied at 0.1 to 50 microns'."""
+    assert one(catalog, "parylene-c-film", "min_thickness", "parylene-thickness-education-page").value == pytest.approx(0.1e-6)
