@@ -704,3 +704,22 @@ def test_alumina_96_substrate_maker_table(catalog):
 def test_parylene_thinnest_layer_coating_page(catalog):
     """'parylene is typically applied at 0.1 to 50 microns'."""
     assert one(catalog, "parylene-c-film", "min_thickness", "parylene-thickness-education-page").value == pytest.approx(0.1e-6)
+
+
+# --- polyester film material specification ESF-M3D69-A, para. 3.9 (ASTM D149, 500 V/s) ------------------------------
+
+@pytest.mark.parametrize("mm, kv", [(0.025, 3.6), (0.038, 5.0), (0.051, 7.0), (0.076, 9.0), (0.127, 12.15),
+                                    (0.191, 15.75), (0.254, 17.10), (0.356, 17.50)])
+def test_polyester_film_minimum_breakdown_voltage_esf_m3d69_a(catalog, mm, kv):
+    """Para. 3.9 gives kV per nominal thickness; the catalog stores kV / thickness, so field × thickness gives it back."""
+    v = one(catalog, "pet-film", "breakdown_field", "esf-m3d69-a-polyester-film", thickness_m=mm * 1e-3)
+    assert v.value * v.thickness_m == pytest.approx(kv * 1e3, rel=1e-3)
+
+
+def test_polyester_strength_falls_beyond_two_mil_esf_m3d69_a(catalog):
+    """The same table: field strength is highest at 1-2 mil and falls steadily to 14 mil (49 V/um at 0.356 mm)."""
+    pts = sorted((v.thickness_m, v.value) for v in rows(catalog, "pet-film", "breakdown_field",
+                                                         "esf-m3d69-a-polyester-film"))
+    after = [e for t, e in pts if t >= 51e-6]
+    assert after == sorted(after, reverse=True)
+    assert pts[-1][1] / 1e6 == pytest.approx(49.2, abs=0.1)
