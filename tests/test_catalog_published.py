@@ -723,3 +723,10 @@ def test_polyester_strength_falls_beyond_two_mil_esf_m3d69_a(catalog):
     after = [e for t, e in pts if t >= 51e-6]
     assert after == sorted(after, reverse=True)
     assert pts[-1][1] / 1e6 == pytest.approx(49.2, abs=0.1)
+
+
+def test_ester_and_mineral_oil_permittivity_transformer_article(catalog):
+    """'The dielectric constant of [the natural ester] is 3.1. That is only slightly higher than mineral oil's ... 2.2'."""
+    src = "ester-fluids-transformer-article"
+    assert one(catalog, "natural-ester", "relative_permittivity", src).value == 3.1
+    assert one(catalog, "mineral-transformer-oil", "relative_permittivity", src).value == 2.2
