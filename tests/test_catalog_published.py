@@ -539,7 +539,8 @@ def test_polyimide_ac_strength_by_thickness_gs_96_7_table_3(catalog, t_um, vmil)
 
 
 def test_polyimide_strength_peaks_at_one_mil_gs_96_7_table_3(catalog):
-    """Table 3: the specified minimum peaks at 25.4 um and falls on both sides (thin-film defects, thick-film heating)."""
+    """Table 3: the specified minimum peaks at 25.4 um and falls on both sides (thin-film defects, thick-film
+    heating)."""
     pts = sorted((v.thickness_m, v.value) for v in rows(catalog, "polyimide-pmda-oda", "breakdown_field", PI))
     peak = max(pts, key=lambda p: p[1])
     assert peak[0] == pytest.approx(25.4e-6)
@@ -573,7 +574,8 @@ def test_ptfe_cast_film_is_far_stronger_than_thick_resin_astm_d3369_vs_callister
 # --- FEP film maker's Properties Bulletin ---------------------------------------------------------------------------
 
 def test_fep_film_strength_and_service_range_fep_bulletin(catalog):
-    """'over 6500 V/mil for 1 mil film (260 kV/mm for 0.025 mm film)'; 'continuous service temperature -240 to 205 °C'."""
+    """'over 6500 V/mil for 1 mil film (260 kV/mm for 0.025 mm film)'; 'continuous service temperature -240 to
+    205 °C'."""
     v = one(catalog, "fep-film", "breakdown_field", "fep-film-properties-bulletin", thickness_m=25.4e-6)
     assert v.value / 1e6 == pytest.approx(260, rel=0.02)
     assert one(catalog, "fep-film", "max_temperature", "fep-film-properties-bulletin").value == pytest.approx(205 + C0)
@@ -670,10 +672,12 @@ def test_alkali_free_glass_12_mv_per_cm_at_etched_thickness_smith_2009(catalog):
 def test_film_permittivity_band_follows_maker_table_capacitance_change(catalog):
     """Maker table row 'ΔC/C versus temperature (%)': PET ±5, PP ±2.5, PEN ±5, PPS ±1.5 over the rated range, with
     the sign the dielectric-constant row states (PET, PEN rise; PP falls; PPS 'very constant')."""
-    for key, pct, sign in (("pet-film", 5, 1), ("polypropylene-bopp", 2.5, -1), ("pen-film", 5, 1), ("pps-film", 1.5, 0)):
+    for key, pct, sign in (("pet-film", 5, 1), ("polypropylene-bopp", 2.5, -1), ("pen-film", 5, 1),
+                           ("pps-film", 1.5, 0)):
         ref = one(catalog, key, "relative_permittivity", MAKER, temperature_K=23 + C0).value
         cold = one(catalog, key, "relative_permittivity", MAKER, temperature_K=-55 + C0)
-        hot = max((v for v in rows(catalog, key, "relative_permittivity", MAKER) if v.temperature_K), key=lambda v: v.temperature_K)
+        hot = max((v for v in rows(catalog, key, "relative_permittivity", MAKER) if v.temperature_K),
+                  key=lambda v: v.temperature_K)
         assert hot.temperature_K == pytest.approx(one(catalog, key, "max_temperature", MAKER).value)
         for v, side in ((cold, -1), (hot, 1)):
             assert max(abs(v.low / ref - 1), abs(v.high / ref - 1)) == pytest.approx(pct / 100, rel=1e-3), key
@@ -707,7 +711,8 @@ def test_alumina_96_substrate_maker_table(catalog):
 
 def test_parylene_thinnest_layer_coating_page(catalog):
     """'parylene is typically applied at 0.1 to 50 microns'."""
-    assert one(catalog, "parylene-c-film", "min_thickness", "parylene-thickness-education-page").value == pytest.approx(0.1e-6)
+    v = one(catalog, "parylene-c-film", "min_thickness", "parylene-thickness-education-page")
+    assert v.value == pytest.approx(0.1e-6)
 
 
 # --- polyester film material specification ESF-M3D69-A, para. 3.9 (ASTM D149, 500 V/s) ------------------------------
@@ -715,7 +720,8 @@ def test_parylene_thinnest_layer_coating_page(catalog):
 @pytest.mark.parametrize("mm, kv", [(0.025, 3.6), (0.038, 5.0), (0.051, 7.0), (0.076, 9.0), (0.127, 12.15),
                                     (0.191, 15.75), (0.254, 17.10), (0.356, 17.50)])
 def test_polyester_film_minimum_breakdown_voltage_esf_m3d69_a(catalog, mm, kv):
-    """Para. 3.9 gives kV per nominal thickness; the catalog stores kV / thickness, so field × thickness gives it back."""
+    """Para. 3.9 gives kV per nominal thickness; the catalog stores kV / thickness, so field × thickness gives it
+    back."""
     v = one(catalog, "pet-film", "breakdown_field", "esf-m3d69-a-polyester-film", thickness_m=mm * 1e-3)
     assert v.value * v.thickness_m == pytest.approx(kv * 1e3, rel=1e-3)
 
@@ -730,7 +736,8 @@ def test_polyester_strength_falls_beyond_two_mil_esf_m3d69_a(catalog):
 
 
 def test_ester_and_mineral_oil_permittivity_transformer_article(catalog):
-    """'The dielectric constant of [the natural ester] is 3.1. That is only slightly higher than mineral oil's ... 2.2'."""
+    """'The dielectric constant of [the natural ester] is 3.1. That is only slightly higher than mineral oil's ...
+    2.2'."""
     src = "ester-fluids-transformer-article"
     assert one(catalog, "natural-ester", "relative_permittivity", src).value == 3.1
     assert one(catalog, "mineral-transformer-oil", "relative_permittivity", src).value == 2.2
