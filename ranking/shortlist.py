@@ -119,7 +119,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         w = np.array([weights[n] for n in names], dtype=float)
         benefit = np.array([CRITERIA[n].benefit for n in names])
         front = M.pareto_front(typ, benefit)
-        dom = M.dominators(typ, benefit)
+        dom = M.dominators(typ, benefit, front=front)
         if method == "topsis":
             score = M.topsis(typ, w, benefit)
             contrib = M.topsis_contributions(typ, w, benefit)

@@ -120,7 +120,7 @@ def pareto_front(matrix: ArrayLike, benefit: ArrayLike) -> np.ndarray:
     return _front_nd(y)
 
 
-def dominators(matrix: ArrayLike, benefit: ArrayLike) -> np.ndarray:
+def dominators(matrix: ArrayLike, benefit: ArrayLike, *, front: np.ndarray | None = None) -> np.ndarray:
     """For each row, the index of a non-dominated row that dominates it, or -1 if the row is non-dominated.
 
     Of the non-dominated rows that dominate a row, the one with the lowest index is named, so the answer is
@@ -129,12 +129,14 @@ def dominators(matrix: ArrayLike, benefit: ArrayLike) -> np.ndarray:
     Args:
         matrix: ``(m, n)`` criteria values.
         benefit: ``(n,)`` booleans, True where larger is better.
+        front: the :func:`pareto_front` mask of the same matrix, when the caller has it already.
 
     Returns:
         ``(m,)`` int64 row indices, -1 for non-dominated rows.
     """
     x, b = _pareto_problem(matrix, benefit)
-    front = pareto_front(x, b)
+    if front is None:
+        front = pareto_front(x, b)
     out = np.full(x.shape[0], -1, dtype=np.int64)
     todo = np.flatnonzero(~front)
     if todo.size == 0:
