@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 from materials.errors import InputError, UnitError
 from materials.properties import FAMILIES, ORIGINS, PROPERTIES, RESPONSES
+from materials.units import parse_quantity  # light: pint itself loads only for units outside the common table
 
 _TOKEN = re.compile(r"""
     (?P<ws>\s+)
@@ -178,8 +179,6 @@ class _Parser:
                 break
         si = PROPERTIES[key].si
         try:
-            from materials.units import parse_quantity
-
             value = parse_quantity(f"{n.text} {' '.join(unit_parts)}".strip(), si=si, name=key)
         except UnitError as exc:
             hint = (f" (add a unit, e.g. '{n.text} {PROPERTIES[key].display_unit}')"

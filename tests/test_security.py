@@ -6,7 +6,7 @@ from __future__ import annotations
 import builtins
 
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import example, given, settings, strategies as st
 
 import pg
 
@@ -114,6 +114,7 @@ def test_where_on_any_text_returns_a_tree_or_an_input_error(expr):
 
 @settings(max_examples=300, deadline=None)
 @given(words=st.lists(st.sampled_from(_WORDS), min_size=1, max_size=12))
+@example(words=["relative_permittivity", "=", "400"])   # a comparison that reaches the unit parser
 def test_where_on_token_soup_returns_a_tree_or_an_input_error(words):
     """Fuzz (hypothesis) with the language's own words and code-like fragments, so many inputs parse far."""
     with pytest.MonkeyPatch.context() as mp:
