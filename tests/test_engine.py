@@ -203,3 +203,25 @@ def test_each_exclusion_message_is_written_once():
         out = subprocess.run(["git", "grep", "--untracked", "-l", "-F", text, "--", "*.py", ":!tests"],
                              capture_output=True, text=True, cwd=__file__.rsplit("/tests/", 1)[0]).stdout.split()
         assert out == ["ranking/reasons.py"], (text, out)
+
+
+def test_bias_curve_at_another_temperature_is_the_whole_curve_scaled(make_material):
+    """A DC-bias curve measured at 25 °C, used at −30 °C where the small-signal εr is a quarter: the whole curve is
+    scaled by εr(−30 °C)/εr(25 °C) and ∫E dD follows (scipy.integrate.quad of the scaled curve, by hand)."""
+    from scipy.integrate import quad
+
+    from ranking.engine import energy_density
+
+    rows = [("relative_permittivity", 12000.0, "handbook", {"temperature_K": 25 + C}),
+            ("relative_permittivity", 3000.0, "handbook", {"temperature_K": -30 + C}),
+            ("breakdown_field", 35e6, "handbook", {"area_m2": 1e-5}), ("weibull_shape", 8.0, "handbook")]
+    bias = [(0.0, 12000.0), (2e6, 6000.0), (5e6, 2500.0), (10e6, 1200.0), (20e6, 600.0)]
+    rows += [("relative_permittivity", v, "handbook", {"temperature_K": 25 + C, "field_V_per_m": e})
+             for e, v in bias[1:]]
+    m = make_material("y5v-like", rows, family="ceramic-class-2", response="nonlinear")
+    xs, ys = zip(*bias, strict=True)
+    for t_C, scale in ((25.0, 1.0), (-30.0, 0.25)):
+        inp = worst_inputs(ValueTable.from_materials([m]), tmin_K=t_C + C, tmax_K=t_C + C)
+        for e in (1e6, 8e6, 20e6):
+            hand = quad(lambda x, s=scale: EPS0 * x * s * np.interp(x, xs, ys), 0, e, points=xs[1:-1], epsabs=0)[0]
+            assert energy_density(inp, [0], [e])[0] == pytest.approx(hand, rel=1e-9)
