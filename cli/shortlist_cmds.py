@@ -75,7 +75,7 @@ def shortlist(
     # The text view explains only the rows it shows; --json and --export carry every row in full.
     whole = bool(json_out or export)
     result = run(table, t, method=method, top_k=min(3, top), draws=draws, seed=seed,
-                 rows=None if whole else top, excluded_rows=None if whole else EXCLUDED_SHOWN)
+                 rows=None if whole else top, excluded_rows=None if whole else EXCLUDED_SHOWN, evidence_top=top)
     if export:
         from ranking.report import export_result
 
@@ -137,6 +137,11 @@ def render(result: dict, *, top: int) -> None:
     counts = result.get("counts") or {"ranked": len(result["ranked"]), "excluded": len(result["excluded"])}
     table(cols, body, right=set(range(2, 3 + len(names) + 3)),
           title=f"{counts['ranked']} ranked, {counts['excluded']} excluded")
+    ev = result.get("evidence") or {}
+    if ev.get("rows"):
+        say(f"the top {ev['rows']} rest on {ev['published']:.0%} published, {ev['lab']:.0%} lab, "
+            f"{ev['common_practice']:.0%} common-practice and {ev['assumed_or_recollected']:.0%} assumed or "
+            "recollected values")
     say("! rests partly on recollection or invented values; * uses an assumed default, an imputed (worst of the "
         "field) criterion or an extrapolated value — see --json flags. p_first / p_top: share of Monte Carlo draws "
         f"({result['robustness']['draws']}, weights and value ranges varied) in which it ranks first / in the top "

@@ -64,7 +64,7 @@ def _label(key: str, thickness_m: float | None) -> str:
 
 
 def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draws: int = 1000, seed: int = 0,
-              rows: int | None = None, excluded_rows: int | None = None) -> dict:
+              rows: int | None = None, excluded_rows: int | None = None, evidence_top: int = 10) -> dict:
     """Rank ``materials`` against ``target``; the result follows the shortlist JSON contract (see README).
 
     ``materials`` is a list of :class:`materials.records.MaterialData` or a :class:`materials.table.ValueTable`;
@@ -82,6 +82,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         raise InputError(f"method '{method}' is not one of {', '.join(METHODS)}")
     table = materials if isinstance(materials, ValueTable) else ValueTable.from_materials(list(materials))
     thicknesses = list(target.thicknesses_m) or [None]
+    kind_of = dict(zip(table.source_keys, table.source_kinds, strict=True))
     weights = weights_for(target)
     names = [n for n in CRITERIA if weights.get(n, 0) > 0]
     if not names:
@@ -159,6 +160,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
                 "sources": {n: e.sources.get(n, []) for n in names},
                 "flags": sorted(set(e.flags) | set(extra_flags[c])),
                 "design": _design(e),
+                "source_kinds": _source_kinds(e, names, kind_of),
                 "versus_winner": "" if c == win else _versus(win_values, values, names, contrib[win], contrib[c]),
             }
             ranked.append(row)
@@ -174,6 +176,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
 
     return {
         "target": {**target.to_dict(), "weights": {n: weights[n] for n in names}},
+        "evidence": evidence_share(ranked[:evidence_top]),
         "method": method,
         "criteria": [{"name": n, "label": CRITERIA[n].label, "unit": CRITERIA[n].unit,
                       "display_unit": CRITERIA[n].display_unit, "benefit": CRITERIA[n].benefit,
@@ -187,6 +190,37 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         "sources": {k: srcs[k] for k in sorted(used) if k in srcs},
         "cautions": [CAUTION],
     }
+
+
+#: Evidence classes of the used-evidence line, by source kind ("assumed" marks a stated prior or an imputed value).
+EVIDENCE_CLASS = {"handbook": "published", "standard": "published", "paper": "published", "web": "published",
+                  "lab": "lab", "common-practice": "common_practice", "recollection": "assumed_or_recollected",
+                  "invented": "assumed_or_recollected", "assumed": "assumed_or_recollected"}
+
+
+def _source_kinds(e: Evaluation, names, kind_of: dict) -> dict[str, list[str]]:
+    """Per criterion, the kinds of the sources behind its number; "assumed" where a prior or an imputation stands
+    in for data (an assumed Weibull shape or test area, a criterion taken as the worst of the field)."""
+    assumed_energy = any(f in ("assumed-shape", "assumed-test-area") for f in e.flags)
+    out = {}
+    for n in names:
+        kinds = sorted({kind_of.get(k, "common-practice") for k in e.sources.get(n, [])})
+        if (assumed_energy and n in ("energy", "volume", "mass")) or n in e.missing:
+            kinds.append("assumed")
+        out[n] = kinds
+    return out
+
+
+def evidence_share(rows: list[dict]) -> dict:
+    """What the given ranked rows rest on: the share of their (criterion, source kind) items that are published,
+    lab, common practice, or assumed or recollected."""
+    counts = {"published": 0, "lab": 0, "common_practice": 0, "assumed_or_recollected": 0}
+    for r in rows:
+        for kinds in r.get("source_kinds", {}).values():
+            for k in kinds:
+                counts[EVIDENCE_CLASS.get(k, "assumed_or_recollected")] += 1
+    total = sum(counts.values())
+    return {"rows": len(rows), **{k: (v / total if total else 0.0) for k, v in counts.items()}}
 
 
 def _design(e: Evaluation) -> dict:

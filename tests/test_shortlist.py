@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 
 import pytest
 from hypothesis import given, settings
@@ -310,3 +311,25 @@ def test_segment_area_applies_to_self_healing_films_only(make_material):
     # 600 V/µm on 1 cm², β 12, p 1e-3 over one 4 cm² segment: 600·(1/4)^(1/12)·(−ln 0.999)^(1/12)
     assert e_seg["heal"] == pytest.approx(600e6 * 0.25 ** (1 / 12) * (-math.log(0.999)) ** (1 / 12), rel=1e-9)
     assert "segment-scaled" in next(r for r in seg["ranked"] if r["key"] == "heal")["flags"]
+
+
+def test_ranked_rows_say_what_their_numbers_rest_on(make_material):
+    """Per criterion the source kinds behind it, and the share of published / lab / assumed evidence of the top."""
+    a = film(make_material, "published-film")
+    b = film(make_material, "recalled-film", kind="recollection")
+    b.values = [v for v in b.values if v.property != "weibull_shape"]
+    res = shortlist([a, b], target(), draws=20)
+    rows = {r["key"]: r for r in res["ranked"]}
+    assert rows["published-film"]["source_kinds"]["energy"] == ["handbook"]
+    assert rows["recalled-film"]["source_kinds"]["energy"] == ["recollection", "assumed"]
+    ev = res["evidence"]
+    assert ev["rows"] == 2
+    assert ev["published"] + ev["lab"] + ev["common_practice"] + ev["assumed_or_recollected"] == pytest.approx(1.0)
+    assert 0.3 < ev["published"] < 0.7 and ev["lab"] == 0.0
+
+
+def test_shortlist_text_prints_the_evidence_line(cli):
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--top", "3", "--draws", "50"])
+    assert code == 0, err
+    assert re.search(r"the top 3 rest on \d+% published, \d+% lab, \d+% common-practice and \d+% assumed or "
+                     r"recollected values", " ".join(out.split()))
