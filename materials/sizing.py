@@ -16,6 +16,7 @@ from dataclasses import asdict, dataclass
 import numpy as np
 
 from materials.energy import EPSILON_0, BiasCurve
+from materials.breakdown.scaling import failure_probability  # noqa: F401 - the one formula, used here too
 from materials.errors import DataError, InputError
 from materials.priors import TEST_AREA as _TEST_AREA, assumed_area_note, assumed_shape_note, shape_prior
 
@@ -113,17 +114,6 @@ def design_field(*, scale_V_per_m, shape, test_area_m2, area_m2, failure_probabi
     if np.any(~((p > 0) & (p < 1))):
         raise InputError("failure probability must lie strictly between 0 and 1", field="failure_probability")
     out = a * np.power(-np.log1p(-p) * at / ar, 1.0 / b) / m
-    return float(out) if out.ndim == 0 else out
-
-
-def failure_probability(field_V_per_m, *, scale_V_per_m, shape, test_area_m2, area_m2):
-    """Short-term failure probability of an area at a field: the two-parameter Weibull with weakest-link area
-    scaling, ``P = 1 − exp(−(A/A_test)·(E/α)^β)`` (IEEE Std 930-2004 / IEC 62539), computed as ``−expm1`` so that
-    small probabilities keep their digits. Arrays broadcast."""
-    e, a, b, at, ar = (np.asarray(v, dtype=float) for v in (field_V_per_m, scale_V_per_m, shape, test_area_m2,
-                                                             area_m2))
-    with np.errstate(all="ignore"):
-        out = -np.expm1(-(ar / at) * np.power(e / a, b))
     return float(out) if out.ndim == 0 else out
 
 

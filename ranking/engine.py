@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
-from materials.lookup import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
+from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
 from materials.priors import TEST_AREA, shape_priors
 from materials.sizing import failure_probability, size_columns
 from materials.table import ValueTable

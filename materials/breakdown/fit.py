@@ -102,9 +102,10 @@ class WeibullFit:
     # --- distribution ---------------------------------------------------------------------------------------
     def probability(self, field_V_per_m):
         """Failure probability F(E) = 1 - exp(-(E/α)^β) at a field (V/m) on the test area."""
-        e = np.asarray(field_V_per_m, dtype=float)
-        out = -np.expm1(-np.power(np.clip(e, 0.0, None) / self.scale, self.shape))
-        return float(out) if out.ndim == 0 else out
+        from materials.breakdown.scaling import failure_probability
+
+        e = np.clip(np.asarray(field_V_per_m, dtype=float), 0.0, None)
+        return failure_probability(e, scale_V_per_m=self.scale, shape=self.shape, test_area_m2=1.0, area_m2=1.0)
 
     def quantile(self, p):
         """Field (V/m) at failure probability p: ``E_p = α·(-ln(1-p))^(1/β)``."""

@@ -35,3 +35,14 @@ def scale_to_thickness(field_V_per_m, *, thickness_from_m, thickness_to_m, expon
         raise InputError("thickness exponent must be finite", field="exponent")
     out = np.asarray(field_V_per_m, dtype=float) * np.power(d1 / d2, a)
     return float(out) if out.ndim == 0 else out
+
+
+def failure_probability(field_V_per_m, *, scale_V_per_m, shape, test_area_m2, area_m2):
+    """Short-term failure probability of an area at a field: the two-parameter Weibull with weakest-link area
+    scaling, ``P = 1 − exp(−(A/A_test)·(E/α)^β)`` (IEEE Std 930-2004 / IEC 62539), computed as ``−expm1`` so that
+    small probabilities keep their digits. Arrays broadcast."""
+    e, a, b, at, ar = (np.asarray(v, dtype=float) for v in (field_V_per_m, scale_V_per_m, shape, test_area_m2,
+                                                             area_m2))
+    with np.errstate(all="ignore"):
+        out = -np.expm1(-(ar / at) * np.power(e / a, b))
+    return float(out) if out.ndim == 0 else out

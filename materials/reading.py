@@ -1,0 +1,369 @@
+"""Reading a property's value for every material of a :class:`ValueTable` at once: the evidence order, the
+temperature curves, DC-bias curves and the rows behind each answer. :mod:`materials.lookup` is the same reading
+for one material; see its docstring for the rules.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from materials.table import ValueTable
+
+# When several rows give a property at the same condition, the more direct evidence wins.
+TIER = {"lab": 0, "standard": 1, "handbook": 2, "paper": 3, "web": 4, "common-practice": 5, "recollection": 6,
+        "invented": 7}
+# Scores per source kind for the data-confidence criterion (1 = measured or standardised, 0 = demo data).
+CONFIDENCE = {"lab": 1.0, "standard": 1.0, "handbook": 0.9, "paper": 0.85, "web": 0.7, "common-practice": 0.6,
+              "recollection": 0.35, "invented": 0.1}
+REFERENCE_TEMPERATURE_K = 298.15
+REFERENCE_FREQUENCY_HZ = 1e3
+
+
+def fmt_temperature(t_K: float) -> str:
+    return f"{t_K - 273.15:g} °C"
+
+
+def fmt_field(e_V_per_m: float) -> str:
+    return f"{e_V_per_m / 1e6:g} V/µm"
+
+
+def outside_data_message(prop: str, lo, hi, x, what=fmt_temperature) -> str:
+    """The words for a value asked outside the conditions its data cover."""
+    return (f"{prop} is known only over {what(lo)}…{what(hi)}; {what(x)} is outside the data "
+            "(ask for extrapolation to hold the end value)")
+
+
+# --- column-wise reading ------------------------------------------------------------------------------------
+
+
+class Curve:
+    """One property's rows of every material, prepared for interpolation over temperature.
+
+    ``xs``/``row`` are ``(M, K)``: the temperatures of each material's points (+inf padding) and the row behind
+    each (the row trusted at that temperature); ``unstated`` is the row used when no temperature applies (the best
+    row stating none, or the best of all rows if every row states one); ``has`` whether the material holds the
+    property at all.
+    """
+
+    def __init__(self, t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, tier: np.ndarray):
+        temp = t.temperature_K[rows]
+        thick = t.thickness_m[rows]
+        key_t = np.where(np.isnan(temp), np.inf, temp)
+        order = np.lexsort((t.ids[rows], -np.nan_to_num(thick, nan=0.0), ~np.isnan(thick), tier[rows],
+                            key_t, mat))
+        rs, ms, ts = rows[order], mat[order], key_t[order]
+        self.has = np.zeros(m, dtype=bool)
+        self.has[ms] = True
+        first = np.ones(rs.size, dtype=bool)
+        first[1:] = (ms[1:] != ms[:-1]) | (ts[1:] != ts[:-1])
+        stated = first & np.isfinite(ts)
+        pm, pt, pr = ms[stated], ts[stated], rs[stated]
+        self.n = np.bincount(pm, minlength=m)
+        k = max(1, int(self.n.max()) if pm.size else 1)
+        slot = np.arange(pm.size) - np.searchsorted(pm, pm)
+        self.xs = np.full((m, k), np.inf)
+        self.row = np.full((m, k), -1, dtype=np.int64)
+        self.xs[pm, slot] = pt
+        self.row[pm, slot] = pr
+        self.unstated = np.full(m, -1, dtype=np.int64)
+        uns = first & ~np.isfinite(ts)
+        self.unstated[ms[uns]] = rs[uns]
+        need = self.has & (self.unstated < 0)
+        if need.any():
+            order2 = np.lexsort((t.ids[rows], -np.nan_to_num(thick, nan=0.0), ~np.isnan(thick), tier[rows], mat))
+            r2, m2 = rows[order2], mat[order2]
+            f2 = np.ones(r2.size, dtype=bool)
+            f2[1:] = m2[1:] != m2[:-1]
+            best_all = np.full(m, -1, dtype=np.int64)
+            best_all[m2[f2]] = r2[f2]
+            self.unstated[need] = best_all[need]
+
+
+class Lookup:
+    """Values of a :class:`Curve` for query materials ``q`` at temperatures ``x`` (NaN: none asked, read at 25 °C
+    where the data state temperatures). ``used0``/``used1`` are the rows behind each answer (-1: none).
+
+    With a ``weak`` curve and a ``lend`` mask (per material), a material whose strongest evidence states fewer than
+    two temperatures takes the *shape* of its weaker curve anchored to the strongest value:
+    ``v(T) = v_strong(T_a) · v_weak(T)/v_weak(T_a)``, with ``T_a`` the strong value's temperature (25 °C when it
+    states none). ``lent`` marks those answers; ``shape0``/``shape1`` are the weaker rows that lent the shape.
+    """
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray, *, weak: Curve | None = None,
+                 lend: np.ndarray | None = None):
+        self._read(t, curve, q, x)
+        self.lent = np.zeros(q.size, dtype=bool)
+        self.shape0 = self.shape1 = np.full(q.size, -1, dtype=np.int64)
+        if weak is None or lend is None or not lend[q].any():
+            return
+        k = np.flatnonzero(lend[q])
+        qk = q[k]
+        anchor = np.where(curve.n[qk] > 0, curve.xs[qk, 0], REFERENCE_TEMPERATURE_K)
+        at_x, at_a = _Read(t, weak, qk, x[k]), _Read(t, weak, qk, anchor)
+        with np.errstate(all="ignore"):
+            ratio = at_x.value / at_a.value
+        ok = np.isfinite(ratio) & (at_a.value != 0)
+        k, ratio, qk = k[ok], ratio[ok], qk[ok]
+        base = _Read(t, curve, qk, anchor[ok])
+        self.value[k], self.low[k], self.high[k] = base.value * ratio, base.low * ratio, base.high * ratio
+        self.extrapolated[k] = at_x.extrapolated[ok]
+        self.lo_x[k], self.hi_x[k] = weak.xs[qk, 0], weak.xs[qk, np.maximum(weak.n[qk] - 1, 0)]
+        self.used0[k], self.used1[k] = base.used0, -1
+        self.shape0, self.shape1 = self.shape0.copy(), self.shape1.copy()
+        self.shape0[k], self.shape1[k] = at_x.used0[ok], at_x.used1[ok]
+        self.lent[k] = True
+
+    def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+        # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
+        val, lo_r, hi_r = (np.append(a, np.nan) for a in (t.value, _filled(t.low, t.value),
+                                                          _filled(t.high, t.value)))
+        n = curve.n[q]
+        pts = n > 0
+        x = np.where(np.isnan(x) & pts, REFERENCE_TEMPERATURE_K, x)
+        xs = curve.xs[q]
+        rows = curve.row[q]
+        idx = np.arange(q.size)
+        last = np.maximum(n - 1, 0)
+        lo_x, hi_x = xs[:, 0], xs[idx, last]
+        xq = np.where(pts, x, 0.0)
+        cnt = (xs <= xq[:, None]).sum(axis=1)
+        j = np.clip(cnt, 1, np.maximum(last, 1))
+        r0, r1 = rows[idx, j - 1], rows[idx, np.minimum(j, last)]
+        x0, x1 = xs[idx, j - 1], xs[idx, np.minimum(j, last)]
+        below, above = xq <= lo_x, xq >= hi_x
+        inside = pts & ~below & ~above
+        r_first, r_last = rows[:, 0], rows[idx, last]
+        u = curve.unstated[q]
+
+        def interp(col):
+            y0, y1 = col[r0], col[r1]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                mid = y0 + (y1 - y0) * (xq - x0) / (x1 - x0)
+            out = np.where(below, col[r_first], np.where(above, col[r_last], mid))
+            return np.where(pts, out, col[u])
+
+        self.value, self.low, self.high = interp(val), interp(lo_r), interp(hi_r)
+        tol = 1e-9 * np.maximum(1.0, np.abs(np.where(pts, hi_x, 0.0)))
+        self.extrapolated = pts & ((xq < lo_x - tol) | (xq > hi_x + tol))
+        self.lo_x, self.hi_x, self.x = np.where(pts, lo_x, np.nan), np.where(pts, hi_x, np.nan), xq
+        i = np.clip(cnt - 1, 0, last)
+        at_point = np.abs(xs[idx, i] - xq) <= tol
+        single = ~inside | at_point
+        self.used0 = np.where(pts, rows[idx, i], u)
+        self.used1 = np.where(pts & ~single, rows[idx, np.minimum(i + 1, last)], -1)
+        self.present = curve.has[q]
+
+
+class _Read(Lookup):
+    """A plain read of one curve (no lending)."""
+
+    def __init__(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
+        self._read(t, curve, q, np.asarray(x, dtype=float))
+
+
+def pick_rows(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, frequency_Hz: float | None) -> np.ndarray:
+    """The rows a temperature lookup reads (see the module docstring): the nearest stated frequency plus rows
+    stating none; small-signal rows where the material has any."""
+    rows = _nearest_frequency(t, rows, mat, m, frequency_Hz)
+    e = t.field_V_per_m[rows]
+    small = np.isnan(e) | (e == 0)
+    if small.all():
+        return rows
+    has_small = np.bincount(mat[rows][small], minlength=m) > 0
+    return rows[small | ~has_small[mat[rows]]]
+
+
+def _nearest_frequency(t: ValueTable, rows, mat, m, frequency_Hz):
+    rm = mat[rows]
+    f = t.frequency_Hz[rows]
+    stated = ~np.isnan(f) & (f != 0)  # a zero frequency counts as not stated
+    if not stated.any():
+        return rows
+    want = frequency_Hz or REFERENCE_FREQUENCY_HZ
+    freqs = np.unique(f[stated])
+    dist = np.array([abs(math.log(x / want)) for x in freqs.tolist()])
+    rank = np.empty(freqs.size, dtype=np.int64)
+    rank[np.lexsort((freqs, dist))] = np.arange(freqs.size)
+    r_of = np.full(rows.size, np.iinfo(np.int64).max)
+    r_of[stated] = rank[np.searchsorted(freqs, f[stated])]
+    best = np.full(m, np.iinfo(np.int64).max)
+    np.minimum.at(best, rm, r_of)
+    return rows[~stated | (r_of == best[rm])]
+
+
+def _filled(a, fallback):
+    return np.where(np.isnan(a), fallback, a)
+
+
+def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
+    """Per row: whether its source is a lab's, and its source's evidence tier (:data:`TIER`)."""
+    if not t.source.size:
+        return np.zeros(0, bool), np.zeros(0, np.int64)
+    lab = np.array([k == "lab" for k in t.source_kinds], dtype=bool)
+    tier = np.array([TIER.get(k, 9) for k in t.source_kinds], dtype=np.int64)
+    return lab[t.source], tier[t.source]
+
+
+def distinct_temperatures(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int) -> np.ndarray:
+    """Per material, how many distinct temperatures ``rows`` (of one property, in table order) state."""
+    rows = rows[~np.isnan(t.temperature_K[rows])]
+    rm, rt = mat[rows], t.temperature_K[rows]
+    new = np.ones(rows.size, dtype=bool)
+    new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])  # table order: by material, then temperature
+    return np.bincount(rm[new], minlength=m)
+
+
+class Reader:
+    """A table prepared for lookups: active rows, their material, lab flag and evidence tier, computed once."""
+
+    def __init__(self, t: ValueTable):
+        self.t = t
+        self.m = len(t)
+        self.mat = t.material_of_row
+        self.active = ~t.retired
+        self.lab_row, self.tier = row_sources(t)
+        self._curves: dict = {}
+
+    def rows_of(self, prop: str, mask: np.ndarray | None = None) -> np.ndarray:
+        c = self.t.code(prop)
+        if c < 0:
+            return np.zeros(0, np.int64)
+        sel = self.active & (self.t.prop == c)
+        return np.flatnonzero(sel if mask is None else sel & mask[self.mat])
+
+    def curves(self, prop: str, frequency_Hz: float | None = None) -> tuple[Curve, Curve, np.ndarray]:
+        """The small-signal temperature curves of ``prop`` for every material, prepared once per frequency: the
+        curve of the strongest evidence each material holds, the curve of its weaker rows, and whether the weaker
+        curve lends its shape (the strongest evidence states fewer than two temperatures, the weaker two or more)."""
+        key = (prop, frequency_Hz)
+        if key not in self._curves:
+            rows = pick_rows(self.t, self.rows_of(prop), self.mat, self.m, frequency_Hz)
+            rm = self.mat[rows]
+            best = np.full(self.m, np.iinfo(np.int64).max)
+            np.minimum.at(best, rm, self.tier[rows])
+            strong = self.tier[rows] == best[rm]
+            c_strong = Curve(self.t, rows[strong], rm[strong], self.m, self.tier)
+            c_weak = Curve(self.t, rows[~strong], rm[~strong], self.m, self.tier)
+            lend = (c_strong.n < 2) & (c_weak.n >= 2)
+            self._curves[key] = (c_strong, c_weak, lend)
+        return self._curves[key]
+
+    def curve(self, prop: str, frequency_Hz: float | None = None) -> Curve:
+        """The curve of the strongest evidence each material holds for ``prop``."""
+        return self.curves(prop, frequency_Hz)[0]
+
+    def lookup(self, prop: str, q: np.ndarray, x: np.ndarray, *, frequency_Hz: float | None = None) -> Lookup:
+        """``prop`` of materials ``q`` at temperatures ``x`` by the evidence order (see :class:`Lookup`)."""
+        strong, weak, lend = self.curves(prop, frequency_Hz)
+        return Lookup(self.t, strong, q, x, weak=weak, lend=lend)
+
+    def at(self, prop: str, temperature_K=None, *, frequency_Hz: float | None = None,
+           materials: np.ndarray | None = None) -> Lookup:
+        """``prop`` of ``materials`` (all by default) at ``temperature_K`` (one or one per material; None: 25 °C
+        where temperatures are stated, else the unstated value)."""
+        q = np.arange(self.m) if materials is None else np.asarray(materials, dtype=np.int64)
+        x = np.broadcast_to(np.asarray(np.nan if temperature_K is None else temperature_K, dtype=float),
+                            q.shape).copy()
+        return self.lookup(prop, q, x, frequency_Hz=frequency_Hz)
+
+
+@dataclass
+class BiasCurves:
+    """DC-bias curves of every material, padded: ``fields``/``eps``/``low``/``high``/``row`` are ``(M, K)`` with
+    the zero-field point in column 0 and ``n`` points per material (``n == 0``: no bias data). Padding repeats the
+    last point. ``temperature_K`` is the temperature of the bias rows used (NaN: not stated)."""
+
+    n: np.ndarray
+    fields: np.ndarray
+    eps: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    row: np.ndarray
+    temperature_K: np.ndarray
+
+    @property
+    def has(self) -> np.ndarray:
+        return self.n > 0
+
+
+def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup) -> BiasCurves:
+    """Every material's DC-bias curve at ``temperature_K`` (per material), with ``zero`` — the small-signal
+    permittivity at that temperature — as its zero-field point.
+
+    The bias rows come from the stated temperature nearest the one asked. Measured at another temperature, the
+    whole curve is scaled by ``εr(T)/εr(T_bias)`` (small-signal values): class 2 ceramics keep the shape of their
+    bias curve while its level follows the temperature characteristic, so the curve is never spliced onto a zero
+    point from another temperature."""
+    t, m = r.t, r.m
+    code = t.code("relative_permittivity")
+    sel = r.active & (t.prop == code) & np.isfinite(t.field_V_per_m) & (t.field_V_per_m != 0) if code >= 0 else None
+    rows = np.flatnonzero(sel) if sel is not None else np.zeros(0, np.int64)
+    want = np.where(np.isnan(temperature_K), REFERENCE_TEMPERATURE_K, temperature_K)
+    rm, rt = r.mat[rows], t.temperature_K[rows]
+    # Bias data at several temperatures (an unstated one counts as one): the stated temperature nearest the one
+    # asked, the lower of two equally near.
+    key_t = np.where(np.isnan(rt), np.inf, rt)
+    o = np.lexsort((key_t, rm))
+    new = np.ones(o.size, dtype=bool)
+    new[1:] = (rm[o][1:] != rm[o][:-1]) | (key_t[o][1:] != key_t[o][:-1])
+    n_temps = np.bincount(rm[o][new], minlength=m)
+    dist = np.where(np.isnan(rt), np.inf, np.abs(rt - want[rm]))
+    o = np.lexsort((key_t, dist, rm))
+    first = np.ones(o.size, dtype=bool)
+    first[1:] = rm[o][1:] != rm[o][:-1]
+    chosen = np.full(m, np.nan)
+    chosen[rm[o][first]] = rt[o][first]
+    keep = (n_temps[rm] <= 1) | (rt == chosen[rm])
+    rows, rm = rows[keep], rm[keep]
+    # One row per field: the more direct evidence, then the first in table order.
+    e = t.field_V_per_m[rows]
+    o = np.lexsort((rows, r.tier[rows], e, rm))
+    rows, rm, e = rows[o], rm[o], e[o]
+    first = np.ones(rows.size, dtype=bool)
+    first[1:] = (rm[1:] != rm[:-1]) | (e[1:] != e[:-1])
+    rows, rm = rows[first], rm[first]
+    n_b = np.bincount(rm, minlength=m)
+    k = int(n_b.max()) + 1 if rows.size else 1
+    slot = np.arange(rows.size) - np.searchsorted(rm, rm) + 1
+    has = n_b > 0
+    fields = np.zeros((m, k))
+    eps = np.repeat(zero.value[:, None], k, axis=1)
+    low = np.repeat(zero.low[:, None], k, axis=1)
+    high = np.repeat(zero.high[:, None], k, axis=1)
+    row = np.full((m, k), -1, dtype=np.int64)
+    row[:, 0] = zero.used0
+    fields[rm, slot] = t.field_V_per_m[rows]
+    eps[rm, slot] = t.value[rows]
+    low[rm, slot] = _filled(t.low, t.value)[rows]
+    high[rm, slot] = _filled(t.high, t.value)[rows]
+    row[rm, slot] = rows
+    n = np.where(has, n_b + 1, 0)
+    # pad with the last point so that every column past n holds the curve's end
+    last = np.maximum(n - 1, 0)
+    pad = np.arange(k)[None, :] >= n[:, None]
+    pr, pc = np.nonzero(pad)
+    for a in (fields, eps, low, high, row):
+        a[pr, pc] = a[pr, last[pr]]
+    used_t = np.full(m, np.nan)
+    used_t[rm] = t.temperature_K[rows]
+    at_bias = r.at("relative_permittivity", np.where(np.isnan(used_t), REFERENCE_TEMPERATURE_K, used_t))
+    with np.errstate(all="ignore"):
+        ratio = zero.value / at_bias.value
+    ratio = np.where(has & np.isfinite(ratio) & (ratio > 0), ratio, 1.0)
+    for a in (eps, low, high):
+        a[:, 1:] *= ratio[:, None]
+    return BiasCurves(n=n, fields=fields, eps=eps, low=low, high=high, row=row, temperature_K=used_t)
+
+
+def reference_values(t: ValueTable, props) -> dict[str, np.ndarray]:
+    """Each material's reference value of each of ``props`` (small-signal, nearest 25 °C and 1 kHz, SI), NaN
+    where the material lacks the property: what ``--where`` filters and listings compare."""
+    r = Reader(t)
+    out = {}
+    for prop in props:
+        lk = r.at(prop)
+        out[prop] = np.where(lk.present, lk.value, np.nan)
+    return out
