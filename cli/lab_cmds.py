@@ -70,10 +70,9 @@ def _confidence(text: str) -> float:
 
 
 def _check_file(path: Path) -> None:
-    from materials.errors import InputError
+    from materials.textfile import check_file
 
-    if not path.is_file():
-        raise InputError("no such file" if not path.exists() else "not a file", file=str(path))
+    check_file(path)
 
 
 @contextlib.contextmanager

@@ -172,13 +172,10 @@ def _flag(table: dict, key: str, default: bool) -> bool:
 
 def load_target(path: Path) -> Target:
     """Read a target TOML file (see the module docstring); errors name the file and field."""
+    from materials.textfile import load_text
+
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError("no such file", file=str(path)) from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(f"not a valid TOML file: {exc}", file=str(path)) from None
+    data = load_text(path, tomllib.loads, kind="TOML")
     t = data.get("target", {})
     unknown = set(t) - _FILE_KEYS
     if unknown:

@@ -12,6 +12,8 @@ import subprocess
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from materials.table import ValueTable
 from ranking.engine import evaluate, worst_inputs
@@ -225,3 +227,48 @@ def test_bias_curve_at_another_temperature_is_the_whole_curve_scaled(make_materi
         for e in (1e6, 8e6, 20e6):
             hand = quad(lambda x, s=scale: EPS0 * x * s * np.interp(x, xs, ys), 0, e, points=xs[1:-1], epsabs=0)[0]
             assert energy_density(inp, [0], [e])[0] == pytest.approx(hand, rel=1e-9)
+
+
+def test_a_scattered_lab_set_stops_no_one_else(cli, tmp_path):
+    """A lab imports a scattered breakdown set (fitted β well below 1) into the real catalog's PPS film: every
+    shortlist still answers, PPS film alone is excluded, and its reason names the shape and the lab's set."""
+    import json
+    import sys
+    from pathlib import Path
+
+    sys.path.insert(0, str(Path(__file__).parent))
+    from lab_support import write_set
+
+    rng = np.random.default_rng(7)
+    fields = 300.0 * rng.weibull(0.75, 25)            # V/µm, invented scatter
+    path = write_set(tmp_path / "scattered.csv", fields, header={
+        "label": "scattered set", "thickness": "4 um", "area": "1 cm^2", "temperature": "25 degC",
+        "operator": "test (invented data)", "lab": "test bench (invented)"})
+    code, out, err = cli(["breakdown", "import", str(path), "--material", "pps-film"])
+    assert code == 0, err
+    code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "25", "--tmax", "25", "--energy", "80",
+                          "--json", "--draws", "50"])
+    assert code == 0, err
+    res = json.loads(out)
+    assert res["ranked"] and "pps-film" not in {r["key"] for r in res["ranked"]}
+    (pps,) = [e for e in res["excluded"] if e["key"] == "pps-film"]
+    assert "Weibull shape 0." in pps["reasons"][0] and "1 or less" in pps["reasons"][0]
+
+
+@settings(max_examples=60, deadline=None)
+@given(eps_t=st.lists(st.floats(-60, 200), min_size=1, max_size=4, unique=True),
+       ebd_t=st.lists(st.floats(-60, 200), min_size=1, max_size=4, unique=True),
+       lo=st.floats(-60, 150), span=st.floats(0, 100))
+def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, ebd_t, lo, span):
+    """Property: a candidate whose worst case reads permittivity or breakdown outside the temperatures its data
+    state carries the ``extrapolated`` flag; one read inside never does."""
+    rows = [("relative_permittivity", 2.2 + 0.001 * t, "handbook", {"temperature_K": t + C}) for t in eps_t]
+    rows += [("breakdown_field", 6e8 - 1e6 * t, "handbook", {"temperature_K": t + C, "area_m2": 1e-4})
+             for t in ebd_t]
+    rows += [("weibull_shape", 10.0, "handbook"), ("max_temperature", 300 + C, "handbook"),
+             ("min_temperature", -100 + C, "handbook")]
+    m = make_material("m", rows)
+    ev = evaluate_material(m, target(tmin_K=lo + C, tmax_K=lo + span + C))
+    tol = 1e-6
+    outside = any(lo < min(ts) - tol or lo + span > max(ts) + tol for ts in (eps_t, ebd_t))
+    assert ("extrapolated" in ev.flags) == outside

@@ -333,3 +333,16 @@ def test_shortlist_text_prints_the_evidence_line(cli):
     assert code == 0, err
     assert re.search(r"the top 3 rest on \d+% published, \d+% lab, \d+% common-practice and \d+% assumed or "
                      r"recollected values", " ".join(out.split()))
+
+
+def test_a_folder_or_bad_bytes_as_target_is_one_line(cli, tmp_path):
+    code, out, err = cli(["shortlist", "--target", str(tmp_path)])
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "not a file" in err
+    bad = tmp_path / "bad.toml"
+    bad.write_bytes(b"\xff\xfe[target]\n")
+    code, out, err = cli(["shortlist", "--target", str(bad)])
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "not a valid TOML file" in err
+    flag = tmp_path / "flag.toml"
+    flag.write_text('[target]\nvoltage = "800 V"\ntmin = "-40 degC"\ntmax = "85 degC"\nstrict = "false"\n')
+    code, out, err = cli(["shortlist", "--target", str(flag)])
+    assert code == 2 and "'strict' must be true or false" in err

@@ -8,6 +8,7 @@ from db.labdata.common import _close, _material, _now
 from materials.errors import InputError
 from materials.properties import PROPERTIES
 from materials.records import CONDITIONS, MaterialRec, SourceRec, ValueRec
+from materials.textfile import check_file
 
 _CONDITION_WORDS = {"frequency_Hz": ("frequency", "Hz"), "field_V_per_m": ("field", "V/m"),
                     "thickness_m": ("thickness", "m"), "area_m2": ("area", "m²")}
@@ -184,8 +185,7 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
     for p in paths:
         if p.name == "sources.toml":
             continue
-        if not p.is_file():
-            raise InputError("no such file", file=str(p))
+        check_file(p)
         suffix = p.suffix.lower()
         if suffix == ".toml":
             found = [load_material(p, known, origin="user")]

@@ -46,13 +46,10 @@ def to_json(obj) -> dict:
 
 def load_json(path) -> Report:
     """Read a shortlist result (``holdoff shortlist --json`` or a .json export) or a comparison export."""
+    from materials.textfile import load_text
+
     path = Path(path)
-    try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError("no such file", file=str(path)) from None
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(f"not a JSON file: {exc}", file=str(path)) from None
+    data = load_text(path, json.loads, kind="JSON")
     if not isinstance(data, dict) or not ("ranked" in data or (data.get("kind") == "comparison" and "rows" in data)):
         raise InputError("not a saved shortlist or comparison (no 'ranked' or 'rows')", file=str(path))
     try:
