@@ -59,6 +59,14 @@ def _fill(engine, catalog_dir=None, *, only_if_empty: bool = False) -> None:
                 return
         Base.metadata.create_all(s.connection())
         write_catalog(s, sources, materials)
+        s.flush()
+        # What the catalog wrote, so that anything added later (a user's value, source or correction) is known as
+        # user data and never discarded by an automatic rebuild.
+        from sqlalchemy import text as _text
+
+        for key, table in (("catalog_values", "property_value"), ("catalog_sources", "source")):
+            n = s.execute(_text(f"SELECT count(*) FROM {table}")).scalar()
+            s.add(Meta(key=key, value=str(n)))
         s.add(Meta(key="schema_revision", value=SCHEMA_REVISION))
         s.add(Meta(key="catalog_fingerprint", value=catalog_fingerprint(catalog_dir)))
         folder = _catalog_folder(catalog_dir)
@@ -214,13 +222,11 @@ def _refuse_if_lab_data(url: str) -> None:
     try:
         if not _has_schema(engine):
             return
-        from sqlalchemy import text
-
         with engine.connect() as c:
-            n = c.execute(text("SELECT count(*) FROM material WHERE origin != 'catalog'")).scalar()
-        if n:
-            raise StoreError(f"the store holds {n} lab/user material(s); 'db init --force' rebuilds it from the "
-                             "catalog and discards them (dump it first with 'holdoff db dump FILE')")
+            held = user_data(c)
+        if held:
+            raise StoreError(f"the store holds {held}; 'db init --force' rebuilds it from the catalog and discards "
+                             "them (dump it first with 'holdoff db dump FILE')")
     finally:
         engine.dispose()
 
@@ -236,13 +242,48 @@ def _stale_catalog_only(engine) -> bool:
             fp = c.execute(text("SELECT value FROM meta WHERE key = 'catalog_fingerprint'")).scalar()
             if fp is None or fp == catalog_fingerprint() or not _same_catalog_folder(c):
                 return False
-            others = c.execute(text("SELECT count(*) FROM material WHERE origin != 'catalog'")).scalar()
-            sets = c.execute(text("SELECT count(*) FROM breakdown_set")).scalar()
-            loops = c.execute(text("SELECT count(*) FROM loop")).scalar()
-            lab = c.execute(text("SELECT count(*) FROM source WHERE kind IN ('lab', 'invented')")).scalar()
+            held = user_data(c)
     except Exception:  # noqa: BLE001 - a store this check cannot read is simply not a stale catalog-only store
         return False
-    return not (others or sets or loops or lab)
+    return not held
+
+
+def user_data(conn) -> str:
+    """What the store holds beyond what its catalog wrote ("" if nothing): lab or user materials, breakdown sets,
+    loops, lab sources, retired (corrected) rows, and values or sources added after the build. A store built
+    before the build counts were recorded is judged by its sources: one the shipped catalog lacks is a user's."""
+    from sqlalchemy import text
+
+    def count(sql):
+        return int(conn.execute(text(sql)).scalar() or 0)
+
+    found = []
+    for what, sql in (("lab/user material(s)", "SELECT count(*) FROM material WHERE origin != 'catalog'"),
+                      ("breakdown set(s)", "SELECT count(*) FROM breakdown_set"),
+                      ("loop(s)", "SELECT count(*) FROM loop"),
+                      ("lab source(s)", "SELECT count(*) FROM source WHERE kind IN ('lab', 'invented')"),
+                      ("corrected (retired) value(s)", "SELECT count(*) FROM property_value "
+                                                       "WHERE retired_at IS NOT NULL")):
+        n = count(sql)
+        if n:
+            found.append(f"{n} {what}")
+    built = dict(conn.execute(text("SELECT key, value FROM meta WHERE key IN ('catalog_values', "
+                                   "'catalog_sources')")).all())
+    if built:
+        for what, table, key in (("value(s)", "property_value", "catalog_values"),
+                                 ("source(s)", "source", "catalog_sources")):
+            extra = count(f"SELECT count(*) FROM {table}") - int(built.get(key, 0))
+            if extra > 0:
+                found.append(f"{extra} added {what}")
+    else:
+        from materials.catalog_io import load_catalog
+
+        shipped = set(load_catalog()[0])
+        keys = [k for (k,) in conn.execute(text("SELECT key FROM source")).all()]
+        extra = [k for k in keys if k not in shipped]
+        if extra:
+            found.append(f"{len(extra)} source(s) not in the catalog")
+    return ", ".join(found)
 
 
 def rebuild_if(url: str, path: Path, needed, *, force: bool = False) -> None:

@@ -110,3 +110,45 @@ def test_the_shipped_catalog_records_no_folder(tmp_path):
     url = f"sqlite:///{tmp_path / 's.sqlite'}"
     build(url)
     assert _meta(url, "catalog_dir") is None
+
+
+def _corrected_store(tmp_path, monkeypatch, cli):
+    """A catalog store in which a user corrected polypropylene's permittivity, citing a new paper."""
+    from materials.catalog_io import CATALOG_DIR
+
+    folder = tmp_path / "catalog"
+    shutil.copytree(CATALOG_DIR, folder)
+    monkeypatch.setenv("HOLDOFF_CATALOG", str(folder))
+    url = f"sqlite:///{tmp_path / 's.sqlite'}"
+    record = tmp_path / "correction.toml"
+    record.write_text('''key = "polypropylene-bopp"
+name = "Biaxially oriented polypropylene film (BOPP, capacitor grade)"
+family = "polymer-film"
+
+[[value]]
+property = "relative_permittivity"
+value = 2.25
+temperature = "25 degC"
+frequency = "1 kHz"
+source = "a-users-paper-2026"
+''', encoding="utf-8")
+    (tmp_path / "sources.toml").write_text('''[a-users-paper-2026]
+kind = "paper"
+citation = "A. User, 'A corrected permittivity', Journal of Tests 1, 1 (2026), doi:10.0000/test"
+''', encoding="utf-8")
+    code, out, err = cli(["add", str(record)], db=url, catalog=folder)
+    assert code == 0, err
+    return url, folder
+
+
+def test_a_users_correction_survives_a_catalog_upgrade(tmp_path, monkeypatch, cli):
+    """A user's value and source on a catalog material are user data: a changed catalog never discards them."""
+    url, folder = _corrected_store(tmp_path, monkeypatch, cli)
+    _age(url)   # as if the shipped catalog had changed since the build
+    code, out, err = cli(["show", "polypropylene-bopp", "--json"], db=url, catalog=folder)
+    assert code == 0, err
+    assert "a-users-paper-2026" in out
+    code, out, err = cli(["db", "init"], db=url, catalog=folder)
+    assert code == 2 and "db init --force" in err and "added value" in err
+    code, out, err = cli(["show", "polypropylene-bopp", "--json"], db=url, catalog=folder)
+    assert "a-users-paper-2026" in out
