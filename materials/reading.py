@@ -289,16 +289,20 @@ class BiasCurves:
         return self.n > 0
 
 
-def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup) -> BiasCurves:
+def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup, *, prop: str = "relative_permittivity",
+                scale: bool = True) -> BiasCurves:
     """Every material's DC-bias curve at ``temperature_K`` (per material), with ``zero`` — the small-signal
     permittivity at that temperature — as its zero-field point.
 
     The bias rows come from the stated temperature nearest the one asked. Measured at another temperature, the
     whole curve is scaled by ``εr(T)/εr(T_bias)`` (small-signal values): class 2 ceramics keep the shape of their
     bias curve while its level follows the temperature characteristic, so the curve is never spliced onto a zero
-    point from another temperature."""
+    point from another temperature.
+
+    With ``prop="recoverable_energy_density"`` (and a zero ``zero``, ``scale=False``) the same reading gives each
+    material's loop profile: the recoverable energy up to each stored field."""
     t, m = r.t, r.m
-    code = t.code("relative_permittivity")
+    code = t.code(prop)
     sel = r.active & (t.prop == code) & np.isfinite(t.field_V_per_m) & (t.field_V_per_m != 0) if code >= 0 else None
     rows = np.flatnonzero(sel) if sel is not None else np.zeros(0, np.int64)
     want = np.where(np.isnan(temperature_K), REFERENCE_TEMPERATURE_K, temperature_K)
@@ -349,12 +353,13 @@ def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup) -> BiasCurve
         a[pr, pc] = a[pr, last[pr]]
     used_t = np.full(m, np.nan)
     used_t[rm] = t.temperature_K[rows]
-    at_bias = r.at("relative_permittivity", np.where(np.isnan(used_t), REFERENCE_TEMPERATURE_K, used_t))
-    with np.errstate(all="ignore"):
-        ratio = zero.value / at_bias.value
-    ratio = np.where(has & np.isfinite(ratio) & (ratio > 0), ratio, 1.0)
-    for a in (eps, low, high):
-        a[:, 1:] *= ratio[:, None]
+    if scale:
+        at_bias = r.at(prop, np.where(np.isnan(used_t), REFERENCE_TEMPERATURE_K, used_t))
+        with np.errstate(all="ignore"):
+            ratio = zero.value / at_bias.value
+        ratio = np.where(has & np.isfinite(ratio) & (ratio > 0), ratio, 1.0)
+        for a in (eps, low, high):
+            a[:, 1:] *= ratio[:, None]
     return BiasCurves(n=n, fields=fields, eps=eps, low=low, high=high, row=row, temperature_K=used_t)
 
 

@@ -75,7 +75,7 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     from materials.energy import linear_energy_density
     from materials.lookup import outside_data_message
     from materials.sizing import design_field
-    from ranking.engine import METHOD_NAMES, energy_density
+    from ranking.engine import BIAS, LOOP, METHOD_NAMES, energy_density
     from ranking.reasons import words
 
     inp = _one(material, temperature_K, assume_defaults)
@@ -87,7 +87,15 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
             raise DataError(outside_data_message(prop, lk.lo_x[c[0]], lk.hi_x[c[0]], temperature_K))
     eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
-    ceiling = float(linear_energy_density(eps, ebd))
+    kind = int(inp.kind[0])
+    top = float(inp.loop_field[0]) if kind == LOOP else math.inf
+    # A nonlinear material's ceiling comes from its own curve or loop, never from ½·ε0·εr·E² with small-signal εr.
+    if kind in (BIAS, LOOP):
+        ceiling = float(energy_density(inp, [0], [min(ebd, top)])[0])
+        if ebd > top:
+            notes.append(words("loop-top", loop_V_per_m=top, field_V_per_m=ebd))
+    else:
+        ceiling = float(linear_energy_density(eps, ebd))
     shape = float(inp.beta[0]) if inp.shape_found[0] else None
     test_area = float(inp.test_area[0]) if inp.area_found[0] else None
     need_scaling = area_m2 is not None or failure_probability is not None
@@ -110,7 +118,9 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
                                       else -math.expm1(-1.0), margin=margin))
     else:
         e_design = ebd / margin
-    u_design = float(energy_density(inp, [0], [e_design])[0])
+    u_design = float(energy_density(inp, [0], [min(e_design, top)])[0])
+    if e_design > top and ebd <= top:
+        notes.append(words("loop-top", loop_V_per_m=top, field_V_per_m=e_design))
     method = METHOD_NAMES[int(inp.kind[0])]
     t = inp.reader.t
     rows = [inp.eps_g.used0[inp.c_eps[0]], inp.eps_g.used1[inp.c_eps[0]], inp.ebd_g.used0[inp.c_ebd[0]],

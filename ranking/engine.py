@@ -109,16 +109,9 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
     eps_at_worst = _Pick(eps_g, c_eps)
     bias = bias_curves(r, t_eps, eps_at_worst)
-    lp = r.rows_of("recoverable_energy_density")
-    lp = lp[np.isfinite(t.field_V_per_m[lp]) & (t.field_V_per_m[lp] != 0)]
-    o = np.lexsort((lp, -t.field_V_per_m[lp], mat[lp]))
-    lp = lp[o]
-    first = np.ones(lp.size, dtype=bool)
-    first[1:] = mat[lp][1:] != mat[lp][:-1]
-    loop_row = np.full(m, -1, dtype=np.int64)
-    loop_row[mat[lp][first]] = lp[first]
+    loops = bias_curves(r, t_eps, _Zero(m), prop="recoverable_energy_density", scale=False)
     nonlinear = np.array([x != "linear" for x in t.responses], dtype=bool)
-    kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loop_row >= 0, LOOP, UPPER_BOUND), LINEAR))
+    kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loops.has, LOOP, UPPER_BOUND), LINEAR))
     # Capacitance drift over temperature: an εr curve, else stated capacitance changes inside the range.
     small = r.rows_of("relative_permittivity")
     small = small[np.isnan(t.field_V_per_m[small]) | (t.field_V_per_m[small] == 0)]
@@ -148,12 +141,20 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         heal=heal, heals=heal.present & (heal.value >= 0.5),
         rated={p: r.at(p) for p in ("max_temperature", "min_temperature")},
         ls=ls, c_loss=c_loss, has_loss=r.curve("loss_tangent", frequency_Hz).has,
-        bias=bias, curves=CurveSet(bias.fields, bias.eps, bias.n), loop_row=loop_row,
-        loop_field=np.where(loop_row >= 0, t.field_V_per_m[np.maximum(loop_row, 0)], np.nan),
-        loop_value=np.where(loop_row >= 0, t.value[np.maximum(loop_row, 0)], np.nan), kind=kind,
+        bias=bias, curves=CurveSet(bias.fields, bias.eps, bias.n), loops=loops,
+        loop_field=np.where(loops.has, loops.fields[everyone, np.maximum(loops.n - 1, 0)], np.nan),
+        loop_value=np.where(loops.has, loops.eps[everyone, np.maximum(loops.n - 1, 0)], np.nan), kind=kind,
         n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
         assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
+
+
+class _Zero:
+    """A zero-valued point with no row behind it (the origin of a loop profile)."""
+
+    def __init__(self, m: int):
+        self.value = self.low = self.high = np.zeros(m)
+        self.used0 = self.used1 = np.full(m, -1, dtype=np.int64)
 
 
 class _Pick:
@@ -192,10 +193,23 @@ def energy_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
         out = np.where(b, inp.curves.energy(np.where(b, idx, 0), e), out)
     lp = k == LOOP
     if lp.any():
-        ef = inp.loop_field[idx]
-        with np.errstate(all="ignore"):
-            out = np.where(lp, inp.loop_value[idx] * (np.minimum(e, ef) / ef) ** 2, out)
+        out = np.where(lp, _loop_energy(inp.loops, np.where(lp, idx, 0), e), out)
     return out
+
+
+def _loop_energy(loops, idx, e):
+    """A loop profile read at fields ``e`` (one per row ``idx``): √u interpolated linearly between the stored
+    fields (exact for a linear dielectric, u ∝ E²; one stored point gives the (E/E_loop)² scaling), held at the
+    loop's largest field beyond it (the rule "above-loop" refuses such a design)."""
+    idx, e = np.broadcast_arrays(np.asarray(idx, dtype=np.int64), np.asarray(e, dtype=float))
+    f, s = loops.fields[idx], np.sqrt(np.maximum(loops.eps[idx], 0.0))
+    last = np.maximum(loops.n[idx] - 1, 1)
+    j = np.clip((f <= e[..., None]).sum(axis=-1) - 1, 0, last - 1)[..., None]
+    f0, f1 = np.take_along_axis(f, j, -1)[..., 0], np.take_along_axis(f, j + 1, -1)[..., 0]
+    s0, s1 = np.take_along_axis(s, j, -1)[..., 0], np.take_along_axis(s, j + 1, -1)[..., 0]
+    with np.errstate(all="ignore"):
+        w = np.clip(np.where(f1 > f0, (e - f0) / (f1 - f0), 1.0), 0.0, 1.0)
+    return (s0 + w * (s1 - s0)) ** 2
 
 
 def charge_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
@@ -228,7 +242,7 @@ STAGES = (
     ("value-invalid",),
     ("shape-too-low",),
     ("thinner-than-made",),
-    ("over-design-field", "no-size", "area-impractical"),
+    ("over-design-field", "no-size", "area-impractical", "above-loop"),
     ("energy-short", "loss-over", "loss-missing"),
 )
 
@@ -283,6 +297,8 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
     for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
         fails[code] = des[code]
+    with np.errstate(invalid="ignore"):
+        fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
     assumed = ~inp.shape_found | ~inp.area_found

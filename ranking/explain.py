@@ -47,6 +47,8 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
         return code, {"shape": f(inp.beta), "source": _source_key(t, inp.sh.used0[i])}
     if code == "no-size":
         return code, {"energy_J": target.energy_J, "voltage_V": target.voltage_V}
+    if code == "above-loop":
+        return code, {"field_V_per_m": f(P["e_op"]), "loop_V_per_m": f(inp.loop_field)}
     if code == "area-impractical":
         return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": f(inp.beta)}
     if code == "thinner-than-made":
@@ -161,7 +163,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
     if P["has_seg"][i]:
         ev.flags.append("segment-scaled")
     if ev.codes and ev.codes[0][0] in ("value-invalid", "shape-too-low", "thinner-than-made", "over-design-field",
-                                       "no-size", "area-impractical"):
+                                       "no-size", "area-impractical", "above-loop"):
         return ev
     if thickness_m is None and target.energy_J is None and np.isnan(P["area"][i]):
         ev.flags.append("no-area-scaling")

@@ -41,6 +41,10 @@ TEXT = {
                                 "is weaker faster than it stores more, so no self-consistent size exists"),
     "no-size": lambda q: (f"no self-consistent size found for {q['energy_J']:g} J at {q['voltage_V']:g} V "
                           "(the sizing did not converge)"),
+    "above-loop": lambda q: (f"runs at {_vum(q['field_V_per_m'])}, above the largest field of its loop data "
+                             f"({_vum(q['loop_V_per_m'])}): its energy there is not known"),
+    "loop-top": lambda q: (f"loop data stop at {_vum(q['loop_V_per_m'])}: energy taken there, not at "
+                           f"{_vum(q['field_V_per_m'])}"),
     "area-impractical": lambda q: (f"needs {q['area_m2']:.3g} m² of active area (more than {q['limit_m2']:g} m²): "
                                    f"with Weibull shape {q['shape']:.3g} the weakest-link derating leaves no practical "
                                    "part"),
@@ -74,7 +78,8 @@ TEXT = {
                                   "counts"),
     "linear-upper-bound": lambda q: ("nonlinear material without a DC-bias curve or loop: ½·ε0·εr·E² with the "
                                      "small-signal εr overstates its energy"),
-    "loop-scaled": lambda q: "nonlinear: loop's recoverable density scaled by (E/E_loop)², capped at the loop's field",
+    "loop-scaled": lambda q: ("nonlinear: the loop's recoverable density integrated along its discharge branch up to "
+                              "the field (interpolated between the stored fields)"),
 }
 
 

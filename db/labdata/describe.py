@@ -36,7 +36,10 @@ def describe_sets(session, material_key: str, *, include_replaced: bool = False)
             PropertyValue.material_id == mat.id, PropertyValue.retired_at.is_(None),
             (PropertyValue.breakdown_set_id.is_not(None)) | (PropertyValue.loop_id.is_not(None)))).scalars():
         owner = ("set", pv.breakdown_set_id) if pv.breakdown_set_id is not None else ("loop", pv.loop_id)
-        derived.setdefault(owner, {})[pv.property] = pv
+        have = derived.setdefault(owner, {}).get(pv.property)
+        # a loop's profile rows sit below its peak: the loop is described at its peak field
+        if have is None or (pv.field_V_per_m or 0) > (have.field_V_per_m or 0):
+            derived[owner][pv.property] = pv
     sets = []
     for bset, src in session.execute(select(BreakdownSet, Source).join(Source, BreakdownSet.source_id == Source.id)
                                      .where(BreakdownSet.material_id == mat.id)

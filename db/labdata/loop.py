@@ -16,10 +16,13 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
 
     Recovered energy density and efficiency (:func:`materials.energy.loop_energies`) become
     ``recoverable_energy_density`` and ``efficiency`` rows that reference the loop, at its peak field,
-    temperature, frequency and thickness. A new material made here has a nonlinear response.
+    temperature, frequency and thickness; the discharge branch's recoverable energy up to each tenth of the peak
+    field (:func:`materials.energy.discharge_profile`) become ``recoverable_energy_density`` rows at those fields,
+    so that a part run below the loop's peak is credited with the loop integrated to its own field. A new
+    material made here has a nonlinear response.
     """
     from db.models import Loop, LoopPoint, PropertyValue
-    from materials.energy import loop_energies
+    from materials.energy import discharge_profile, loop_energies
 
     try:
         en = loop_energies(data.fields_V_per_m, data.polarization_C_per_m2)
@@ -52,6 +55,12 @@ def import_loop(session, data, *, material_key: str | None = None, new_material:
                       note=f"recovered energy density of {desc}", **common),
         PropertyValue(property="efficiency", value=en.efficiency, note=f"efficiency of {desc}", **common),
     ])
+    fields, u = discharge_profile(data.fields_V_per_m, data.polarization_C_per_m2)
+    session.add_all([
+        PropertyValue(property="recoverable_energy_density", value=float(uk),
+                      note=f"recoverable energy density up to {ek / 1e6:.4g} V/µm on the discharge branch of {desc}",
+                      **{**common, "field_V_per_m": float(ek)})
+        for ek, uk in zip(fields[1:-1].tolist(), u[1:-1].tolist(), strict=True) if uk > 0])
     session.flush()
     return ImportResult(what="loop", material=mat.key, label=loop.label, id=loop.id, n=data.n, source=src.key,
                         kind=src.kind, sha256=data.sha256, file=file_name, new_material=created, replaced=replaced,
