@@ -66,10 +66,19 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         scope.append(pv.material_id.in_([r[0] for r in mats] or [-1]))
     if not include_retired:
         scope.append(pv.retired_at.is_(None))
-    # Numbers in one query; the few rows with words (a note, a breakdown set or loop, a retirement) in another.
-    rows = _fetch(conn, select(pv.material_id, pv.id, pv.property, pv.value, pv.low, pv.high, pv.temperature_K,
-                               pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2, pv.source_id)
-                  .where(*scope))
+    # Numbers in one query, all numeric so that the driver's rows become one float array at once: the property as
+    # its code in the (validated, sorted) vocabulary and an unstated condition as +inf (no stored value is
+    # infinite); the few rows with words (a note, a breakdown set or loop, a retirement) in another query.
+    from sqlalchemy import bindparam, case, func
+
+    from materials.properties import PROPERTIES
+
+    vocab = sorted(PROPERTIES)
+    inf = bindparam("unstated", float("inf"), literal_execute=False)
+    nullable = (pv.low, pv.high, pv.temperature_K, pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2)
+    rows = _fetch(conn, select(pv.material_id, pv.id, case({k: i for i, k in enumerate(vocab)}, value=pv.property,
+                                                           else_=-1), pv.value,
+                               *(func.coalesce(c, inf) for c in nullable), pv.source_id).where(*scope))
     words = {r[0]: r[1:] for r in _fetch(
         conn, select(pv.id, pv.note, bset.c.label, loop.c.label, pv.retired_at, pv.retired_reason)
         .select_from(pv.id.table.outerjoin(bset, pv.breakdown_set_id == bset.c.id)
@@ -80,7 +89,12 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         wanted = {r[0] for r in mats}
         rows = [r for r in rows if r[0] in wanted]
     n = len(rows)
-    cols = list(zip(*rows, strict=True)) if rows else [()] * 12
+    a = np.array(rows, dtype=float).reshape(n, 12)
+    if n and (a[:, 2] < 0).any():
+        raise DataError("the store holds a property outside the vocabulary (run 'holdoff db check')")
+    nulls = a[:, 4:11]
+    nulls[np.isinf(nulls) & (nulls > 0)] = np.nan
+    cols = [a[:, j] for j in range(12)]
     # Store ids to table positions through lookup arrays (ids are positive integers).
     mat_ids = np.fromiter((r[0] for r in mats), dtype=np.int64, count=len(mats))
     src_ids = np.fromiter((r[0] for r in srcs), dtype=np.int64, count=len(srcs))
@@ -95,10 +109,11 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
         return x.isoformat(sep=" ", timespec="seconds")
 
     words = {vid: (w[0], w[1], w[2], None if w[3] is None else stamp(w[3]), w[4]) for vid, w in words.items()}
-    vals = {"material": mat_pos[np.fromiter(cols[0], dtype=np.int64, count=n)], "id": cols[1], "property": cols[2],
+    vals = {"material": mat_pos[cols[0].astype(np.int64)], "id": cols[1].astype(np.int64),
+            "property": cols[2].astype(np.int64), "property_names": vocab,
             "value": cols[3], "low": cols[4], "high": cols[5], "temperature_K": cols[6], "frequency_Hz": cols[7],
             "field_V_per_m": cols[8], "thickness_m": cols[9], "area_m2": cols[10],
-            "source": src_pos[np.fromiter(cols[11], dtype=np.int64, count=n)]}
+            "source": src_pos[cols[11].astype(np.int64)]}
     return ValueTable.from_columns(mcols, vals, scols, words)
 
 

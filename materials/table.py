@@ -116,7 +116,8 @@ class ValueTable:
         """Build from plain columns (sequences or arrays), in any row order.
 
         ``materials``: lists ``keys, names, families, forms, descriptions, origins, responses`` (the table's
-        material order). ``values``: per row ``material`` (index into those lists), ``id``, ``property`` (str),
+        material order). ``values``: per row ``material`` (index into those lists), ``id``, ``property`` (str, or
+        int codes into a sorted ``property_names`` list),
         the float columns (None or NaN = not stated) and ``source`` (index into ``sources``). ``sources``: lists
         ``keys, kinds, citations``. ``words``: value id -> (note, breakdown set, loop, retired at, retired reason)
         for the rows that have any of them.
@@ -125,9 +126,16 @@ class ValueTable:
         mat = np.asarray(values["material"], dtype=np.int64)
         n = mat.size
         ids = np.asarray(values["id"], dtype=np.int64)
-        names = sorted(set(values["property"]))
-        index = {p: i for i, p in enumerate(names)}
-        code = np.fromiter((index[p] for p in values["property"]), dtype=np.int64, count=n)
+        if "property_names" in values:
+            # codes into a sorted vocabulary, as the store's reader gives them
+            raw = np.asarray(values["property"], dtype=np.int64).reshape(n)
+            present = np.unique(raw)
+            names = [values["property_names"][i] for i in present.tolist()]
+            code = np.searchsorted(present, raw)
+        else:
+            names = sorted(set(values["property"]))
+            index = {p: i for i, p in enumerate(names)}
+            code = np.fromiter((index[p] for p in values["property"]), dtype=np.int64, count=n)
         floats = {c: _floats(values[c], n) for c in FLOAT_COLUMNS}
 
         def nulls_first(a):
