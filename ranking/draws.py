@@ -77,6 +77,9 @@ def _draw_columns(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:
     uniform = np.isnan(ty)
     split = np.divide(np.where(uniform, lo, ty) - lo, width, out=np.zeros(width.shape), where=width > 0)
     for j in range(c):
+        if not (width[j] > 0).any():
+            out[j] = lo[j]   # a column without ranges (self-healing, drift, confidence) has nothing to draw
+            continue
         u, v = rng.random((k, s)), rng.random((k, s))
         big = np.maximum(u, v)
         np.minimum(u, v, out=u)
