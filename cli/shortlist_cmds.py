@@ -129,7 +129,8 @@ def render(result: dict, *, top: int) -> None:
     body = []
     for r in result["ranked"][:top]:
         flags = "!" if any(f in ("recollection", "invented") for f in r["flags"]) else ""
-        if any("missing" in f or f.startswith("assumed") or f == "extrapolated" for f in r["flags"]):
+        if any("missing" in f or f.startswith("assumed") or f.endswith("extrapolated") or f == "shape-lent"
+               for f in r["flags"]):
             flags += "*"
         body.append([r["rank"], r["label"] + flags, f"{r['score']:.3f}",
                      *[show(n, r["criteria"].get(n)) for n in names],
@@ -142,8 +143,9 @@ def render(result: dict, *, top: int) -> None:
         say(f"the top {ev['rows']} rest on {ev['published']:.0%} published, {ev['lab']:.0%} lab, "
             f"{ev['common_practice']:.0%} common-practice and {ev['assumed_or_recollected']:.0%} assumed or "
             "recollected values")
-    say("! rests partly on recollection or invented values; * uses an assumed default, an imputed (worst of the "
-        "field) criterion or an extrapolated value — see --json flags. p_first / p_top: share of Monte Carlo draws "
+    say("! rests partly on recollection or invented values; * uses an assumed range, an imputed (worst of the "
+        "field) criterion, a value outside its data's temperatures or thickness, or a shape lent by weaker "
+        "evidence — see --json flags and design.assumptions. p_first / p_top: share of Monte Carlo draws "
         f"({result['robustness']['draws']}, weights and value ranges varied) in which it ranks first / in the top "
         f"{k}.")
     if result["ranked"]:

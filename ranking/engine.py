@@ -36,6 +36,9 @@ LINEAR, BIAS, LOOP, UPPER_BOUND = 0, 1, 2, 3
 METHOD_NAMES = {LINEAR: "linear", BIAS: "bias-curve", LOOP: "loop", UPPER_BOUND: "linear-upper-bound"}
 #: Relative tolerance of the comparisons that decide a verdict (a value at its limit passes).
 TOL = 1e-9
+#: A breakdown value measured on specimens of thickness d0 is used as measured for layers within this factor of d0;
+#: beyond it (no thickness law is stored yet) the cell is flagged, and --strict refuses it.
+THICKNESS_FACTOR = 3.0
 #: Largest active area a sizing may return (1 km² of electrode, beyond any capacitor bank): a Weibull shape near 1
 #: makes the self-consistent area grow without bound, and such a "size" is no answer.
 MAX_AREA_M2 = 1e6
@@ -99,6 +102,8 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     sh = r.at("weibull_shape", t_ebd)
     prior_typ, prior_lo, prior_hi = shape_priors(t.families)
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
+    d0 = np.fmax(np.where(u0 >= 0, t.thickness_m[np.maximum(u0, 0)], np.nan),
+                 np.where(u1 >= 0, t.thickness_m[np.maximum(u1, 0)], np.nan))
     a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
     a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
@@ -129,7 +134,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         c_ebd=c_ebd, t_eps=t_eps, t_ebd=t_ebd, eps_v=eps_g.value[c_eps], eps_lo=eps_g.low[c_eps],
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
-        extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0,
+        extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0, test_thickness=d0,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
@@ -243,6 +248,7 @@ STAGES = (
     ("shape-too-low",),
     ("thinner-than-made",),
     ("over-design-field", "no-size", "area-impractical", "above-loop"),
+    ("strict-outside-data",),
     ("energy-short", "loss-over", "loss-missing"),
 )
 
@@ -299,6 +305,9 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         fails[code] = des[code]
     with np.errstate(invalid="ignore"):
         fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
+        d0 = inp.test_thickness
+        thick_out = np.isfinite(d0) & ((d > THICKNESS_FACTOR * d0) | (d < d0 / THICKNESS_FACTOR))
+    fails["strict-outside-data"] = (inp.extrapolated | thick_out) & bool(getattr(target, "strict", False))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
     assumed = ~inp.shape_found | ~inp.area_found
@@ -358,9 +367,9 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         for code in stage:
             bad |= fails[code]
     out.ok = ~bad
-    out.parts = dict(inputs=inp, target=target, thickness_m=thickness_m, seg=seg, has_seg=has_seg, d=d, area=area,
-                     ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b, fail=fail, iterations=its,
-                     log_k=log_k)
+    out.parts = dict(inputs=inp, target=target, thick_out=thick_out, thickness_m=thickness_m, seg=seg,
+                     has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
+                     fail=fail, iterations=its, log_k=log_k)
     return out
 
 

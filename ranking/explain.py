@@ -10,7 +10,7 @@ import numpy as np
 
 from materials.table import ValueTable
 from ranking.criteria import CRITERIA_NAMES, Evaluation
-from ranking.engine import BIAS, MAX_AREA_M2, METHOD_NAMES, STAGES, Columns, evaluate
+from ranking.engine import BIAS, MAX_AREA_M2, METHOD_NAMES, STAGES, THICKNESS_FACTOR, Columns, evaluate
 from ranking.reasons import words
 
 # --- words -------------------------------------------------------------------------------------------------------
@@ -47,6 +47,8 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
         return code, {"shape": f(inp.beta), "source": _source_key(t, inp.sh.used0[i])}
     if code == "no-size":
         return code, {"energy_J": target.energy_J, "voltage_V": target.voltage_V}
+    if code == "strict-outside-data":
+        return code, {"notes": "; ".join(assumption_notes(cols, i))}
     if code == "above-loop":
         return code, {"field_V_per_m": f(P["e_op"]), "loop_V_per_m": f(inp.loop_field)}
     if code == "area-impractical":
@@ -105,6 +107,9 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     out = []
     if inp.extrapolated[i]:
         out.append(words("extrapolated"))
+    if cols.parts["thick_out"][i]:
+        out.append(words("thickness-outside", thickness_m=float(cols.parts["d"][i]),
+                         test_thickness_m=float(inp.test_thickness[i]), factor=THICKNESS_FACTOR))
     if not inp.shape_found[i]:
         out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
     if not inp.area_found[i]:
@@ -151,6 +156,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("assumed-test-area")
     if inp.lent[i]:
         ev.flags.append("shape-lent")
+    if P["thick_out"][i]:
+        ev.flags.append("thickness-extrapolated")
     c_eps, c_ebd, sh = inp.c_eps[i], inp.c_ebd[i], inp.sh
     eps_rows = _rows_behind(inp.eps_g, c_eps)
     ebd_rows = _rows_behind(inp.ebd_g, c_ebd)

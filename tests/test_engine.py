@@ -272,3 +272,20 @@ def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, 
     tol = 1e-6
     outside = any(lo < min(ts) - tol or lo + span > max(ts) + tol for ts in (eps_t, ebd_t))
     assert ("extrapolated" in ev.flags) == outside
+
+
+def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_strict(make_material):
+    """Breakdown measured on 3 µm film, a 400 V part sized at the design field: a layer more than 3× thicker than
+    the specimens is flagged (no thickness law stored); --strict refuses it, naming why."""
+    rows = [("relative_permittivity", 2.2, "handbook"),
+            ("breakdown_field", 600e6, "handbook", {"thickness_m": 3e-6, "area_m2": 1e-4}),
+            ("weibull_shape", 12.0, "handbook"), ("max_temperature", 105 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook")]
+    m = make_material("thin-tested", rows)
+    thin = evaluate_material(m, target(voltage_V=400.0, energy_J=1.0))        # a few µm: inside the factor
+    assert thin.ok and "thickness-extrapolated" not in thin.flags
+    thick = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0))     # about 100 µm
+    assert thick.ok and "thickness-extrapolated" in thick.flags
+    assert any("3 µm specimens" in a for a in thick.details["assumptions"])
+    strict = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, strict=True))
+    assert not strict.ok and "--strict refuses" in strict.reasons[0] and "3 µm specimens" in strict.reasons[0]
