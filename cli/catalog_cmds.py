@@ -1,6 +1,7 @@
 """``holdoff catalog``, ``show`` and ``sources``: what the store knows and according to whom."""
 
 
+from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
@@ -136,6 +137,9 @@ def _sets(session, key: str) -> dict:
 
 
 def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sources of this kind.")] = None,
+            used: Annotated[Optional[Path], typer.Option("--used", metavar="TARGET.toml", help="Also the share of "
+                                                         "evidence behind what a shortlist for this target file "
+                                                         "uses, beside the share stored.")] = None,
             json_out: JsonOpt = False):
     """The bibliography: every source, its evidence tier and how many values cite it; exit code 1 when --kind
     leaves none."""
@@ -151,10 +155,12 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
     total = sum(counts.values())
     published = sum(n for k, n in counts.items() if k in PUBLISHED_KINDS)
     share = published / total if total else 0.0
+    in_use = _used_evidence(used) if used else None
     if json_out:
         from cli.output import print_json
 
-        print_json({"sources": rows, "values_by_kind": counts, "values": total, "published_share": share})
+        print_json({"sources": rows, "values_by_kind": counts, "values": total, "published_share": share,
+                    **({"used": in_use} if in_use else {})})
         _nothing_matched(rows, kind)
         return
     from cli.output import say, table
@@ -164,7 +170,24 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
     say("values per source kind: " + ", ".join(f"{k} {counts.get(k, 0)} ({counts.get(k, 0) / total:.0%})"
                                                for k in SOURCE_KINDS if counts.get(k)) if total else "no values")
     say(f"published (handbook, standard, paper, web): {published} of {total} values ({share:.0%})")
+    if in_use:
+        say(f"used by the shortlist for {used} ({in_use['rows']} ranked): {in_use['published']:.0%} published, "
+            f"{in_use['lab']:.0%} lab, {in_use['common_practice']:.0%} common-practice, "
+            f"{in_use['assumed_or_recollected']:.0%} assumed or recollected")
     say("kinds: handbook/standard/paper/web = published, cited with edition/table or DOI/URL; common-practice = a "
         "fact of the trade with no single source; recollection = remembered, not checked; lab = your own "
         "measurements; invented = demo data only.")
     _nothing_matched(rows, kind)
+
+
+def _used_evidence(target_file: Path) -> dict:
+    """The evidence share behind every ranked candidate of a shortlist for ``target_file`` (no Monte Carlo)."""
+    from db.query import load_table
+    from ranking.shortlist import evidence_share, shortlist
+    from ranking.target import target_from_options
+
+    t = target_from_options(target_file=target_file)
+    with state.store().reading() as conn:
+        table = load_table(conn)
+    result = shortlist(table, t, draws=0)
+    return evidence_share(result["ranked"])

@@ -346,3 +346,16 @@ def test_a_folder_or_bad_bytes_as_target_is_one_line(cli, tmp_path):
     flag.write_text('[target]\nvoltage = "800 V"\ntmin = "-40 degC"\ntmax = "85 degC"\nstrict = "false"\n')
     code, out, err = cli(["shortlist", "--target", str(flag)])
     assert code == 2 and "'strict' must be true or false" in err
+
+
+def test_sources_used_reports_the_evidence_behind_a_shortlist(cli):
+    import json
+
+    code, out, err = cli(["sources", "--used", "examples/dc-link-target.toml", "--json"])
+    assert code == 0, err
+    d = json.loads(out)
+    used = d["used"]
+    assert used["rows"] > 0
+    assert used["published"] + used["lab"] + used["common_practice"] + used["assumed_or_recollected"] == \
+        pytest.approx(1.0)
+    assert 0 < d["published_share"] < 1
