@@ -27,7 +27,7 @@ import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
 from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
-from materials.priors import TEST_AREA, shape_priors
+from materials.priors import LAW_FACTOR, TEST_AREA, shape_priors, thickness_exponents
 from materials.sizing import failure_probability, size_columns
 from materials.table import ValueTable
 
@@ -101,6 +101,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     t_eps, t_ebd = grid_t[everyone, i_eps], grid_t[everyone, i_ebd]
     sh = r.at("weibull_shape", t_ebd)
     prior_typ, prior_lo, prior_hi = shape_priors(t.families)
+    law_n, law_src = thickness_exponents(t.families, np.where(sh.present, sh.value, prior_typ))
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
     d0 = np.fmax(np.where(u0 >= 0, t.thickness_m[np.maximum(u0, 0)], np.nan),
                  np.where(u1 >= 0, t.thickness_m[np.maximum(u1, 0)], np.nan))
@@ -135,6 +136,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
         extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0, test_thickness=d0,
+        law_n=law_n, law_source=law_src,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
@@ -297,16 +299,21 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
     energy_J = target.energy_J
     sizing = thickness_m is None and energy_J is not None
-    fails["shape-too-low"] = (beta <= 1) & sizing & ~has_seg
+    has_law = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
+    beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
+    fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~has_seg
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
     des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
+    scale_d = des["scale_d"]
     for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
         fails[code] = des[code]
     with np.errstate(invalid="ignore"):
         fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
         d0 = inp.test_thickness
-        thick_out = np.isfinite(d0) & ((d > THICKNESS_FACTOR * d0) | (d < d0 / THICKNESS_FACTOR))
+        factor = np.where(has_law, LAW_FACTOR, THICKNESS_FACTOR)
+        thick_out = np.isfinite(d0) & ((d > factor * d0) | (d < d0 / factor))
+        scaled = has_law & (np.abs(np.log(d / d0)) > 1e-6)
     fails["strict-outside-data"] = (inp.extrapolated | thick_out) & bool(getattr(target, "strict", False))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
@@ -360,14 +367,15 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         for name in ("drift", "healing", "confidence"):
             out.low[name] = out.high[name] = out.values[name]
         link = np.where(has_seg, seg, area)
-        fail = failure_probability(e_op, scale_V_per_m=ebd_v, shape=beta, test_area_m2=test_area, area_m2=link)
+        fail = failure_probability(e_op, scale_V_per_m=scale_d, shape=beta, test_area_m2=test_area, area_m2=link)
         at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
     bad = np.zeros(m, dtype=bool)
     for stage in STAGES:
         for code in stage:
             bad |= fails[code]
     out.ok = ~bad
-    out.parts = dict(inputs=inp, target=target, thick_out=thick_out, thickness_m=thickness_m, seg=seg,
+    out.parts = dict(inputs=inp, target=target, thick_out=thick_out, scaled=scaled, scale_d=scale_d,
+                     log_k_d=des["log_k_d"], thickness_m=thickness_m, seg=seg,
                      has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
                      fail=fail, iterations=its, log_k=log_k)
     return out
@@ -384,11 +392,21 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     d_min, energy_J, area_t = inp.d_min, target.energy_J, target.area_m2
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
     its = np.zeros(m, dtype=np.int64)
+    # The thickness law E = E0·(d/d0)^−n (materials.priors): n = 0 where no law applies.
+    has_law = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
+    nn = np.where(has_law, inp.law_n, 0.0)
+    log_d0 = np.where(has_law, np.log(np.where(has_law, inp.test_thickness, 1.0)), 0.0)
+    log_v = np.log(V)
     with np.errstate(all="ignore"):
         log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
 
-        def e_design(area):
-            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta)
+        def e_design(area, d):
+            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta - nn * (np.log(d) - log_d0))
+
+        def breakdown_limited(area):
+            """d = V/E_design(A, d), solved for d: (1 − n)·ln d = ln V − ln K + ln A/β − n·ln d0."""
+            link = np.where(has_seg, seg, area)
+            return np.exp((log_v - log_k + np.log(link) / beta - nn * log_d0) / (1.0 - nn))
 
         if thickness_m is not None:
             d = np.full(m, float(thickness_m))
@@ -399,19 +417,23 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
                 area = energy_J / u_op / d
             else:
                 area = np.full(m, np.nan if area_t is None else float(area_t))
-            ed = e_design(np.where(np.isfinite(area), area, test_area))
+            ed = e_design(np.where(np.isfinite(area), area, test_area), d)
             out["over-design-field"] = e_op > ed * (1 + TOL)
         elif energy_J is not None:
             rows = np.flatnonzero(live)
             d, area, ed = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
             converged = np.zeros(m, dtype=bool)
             if rows.size:
+                # the law folds into an effective shape and constant: d ∝ A^(1/(β(1−n)))
+                b_eff = beta * (1.0 - nn)
+                log_k_eff = log_v - (log_v - log_k - nn * log_d0) / (1.0 - nn)
                 sol = size_columns(
-                    energy_J=energy_J, voltage_V=V, log_k=log_k[rows], shape=beta[rows],
+                    energy_J=energy_J, voltage_V=V, log_k=log_k_eff[rows], shape=b_eff[rows],
                     relative_permittivity=_first_guess_eps(inp, rows), nonlinear=inp.kind[rows] != LINEAR,
                     energy_density=lambda idx, e: energy_density(inp, rows[idx], e), segment_area_m2=seg[rows],
                     min_thickness_m=d_min[rows])
-                d[rows], area[rows], ed[rows] = sol["thickness_m"], sol["area_m2"], sol["design_field_V_per_m"]
+                d[rows], area[rows] = sol["thickness_m"], sol["area_m2"]
+                ed[rows] = e_design(area, d)[rows]
                 its[rows], converged[rows] = sol["iterations"], sol["converged"]
             e_op = V / d
             u_op = energy_density(inp, everyone, e_op)
@@ -420,12 +442,15 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
             out["area-impractical"] = ~out["no-size"] & (area > MAX_AREA_M2)
         else:
             area = np.full(m, np.nan if area_t is None else float(area_t))
-            ed = e_design(np.where(np.isfinite(area), area, test_area))
-            d = V / ed
+            a_ref = np.where(np.isfinite(area), area, test_area)
+            d = breakdown_limited(a_ref)
             d = np.where(has_dmin & (d < d_min), d_min, d)
+            ed = e_design(a_ref, d)
             e_op = V / d
             u_op = energy_density(inp, everyone, e_op)
-    out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k)
+        shift = nn * (np.log(d) - log_d0)
+    out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k, log_k_d=log_k - shift,
+               scale_d=inp.ebd_v * np.exp(-shift))
     return out
 
 

@@ -10,6 +10,7 @@ import numpy as np
 
 from materials.table import ValueTable
 from ranking.criteria import CRITERIA_NAMES, Evaluation
+from materials.priors import LAW_FACTOR
 from ranking.engine import BIAS, MAX_AREA_M2, METHOD_NAMES, STAGES, THICKNESS_FACTOR, Columns, evaluate
 from ranking.reasons import words
 
@@ -107,9 +108,14 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     out = []
     if inp.extrapolated[i]:
         out.append(words("extrapolated"))
+    if cols.parts["scaled"][i] and not cols.parts["thick_out"][i]:
+        out.append(words("thickness-scaled", thickness_m=float(cols.parts["d"][i]),
+                         test_thickness_m=float(inp.test_thickness[i]), n=float(inp.law_n[i]),
+                         source=inp.law_source[i]))
     if cols.parts["thick_out"][i]:
         out.append(words("thickness-outside", thickness_m=float(cols.parts["d"][i]),
-                         test_thickness_m=float(inp.test_thickness[i]), factor=THICKNESS_FACTOR))
+                         test_thickness_m=float(inp.test_thickness[i]),
+                         factor=LAW_FACTOR if np.isfinite(inp.law_n[i]) else THICKNESS_FACTOR))
     if not inp.shape_found[i]:
         out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
     if not inp.area_found[i]:
@@ -158,11 +164,22 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("shape-lent")
     if P["thick_out"][i]:
         ev.flags.append("thickness-extrapolated")
+    elif P["scaled"][i]:
+        ev.flags.append("thickness-scaled")
     c_eps, c_ebd, sh = inp.c_eps[i], inp.c_ebd[i], inp.sh
     eps_rows = _rows_behind(inp.eps_g, c_eps)
     ebd_rows = _rows_behind(inp.ebd_g, c_ebd)
     beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
     add("energy", *eps_rows, *ebd_rows, *beta_rows)
+    # the stated priors and laws the numbers rest on, by their source keys (materials.priors)
+    from materials.priors import TEST_AREA, shape_prior
+
+    laws = ([shape_prior(t.families[i]).source] if not inp.shape_found[i] else []) + \
+        ([TEST_AREA.source] if not inp.area_found[i] else []) + \
+        ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else [])
+    for name in ("energy", "volume", "mass"):
+        lst = ev.sources.setdefault(name, [])
+        lst.extend(k for k in laws if k not in lst)
     if inp.thick.present[i]:
         add("volume", inp.thick.used0[i], inp.thick.used1[i])
     if inp.dens.present[i]:

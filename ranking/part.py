@@ -60,8 +60,8 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
     loss = float(cols.values["loss"][0]) if np.isfinite(cols.values["loss"][0]) else None
     density = float(inp.density[0]) if np.isfinite(inp.density[0]) else None
     res = _finish(d=d, area=area, voltage=voltage_V, charge_per_m2=float(charge_density(inp, [0], [e_op])[0]),
-                  energy=area * d * u, small_signal=EPSILON_0 * small * area / d, scale=float(inp.ebd_v[0]),
-                  shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k"][0]),
+                  energy=area * d * u, small_signal=EPSILON_0 * small * area / d, scale=float(P["scale_d"][0]),
+                  shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k_d"][0]),
                   limited_by="min_thickness" if P["at_min"][0] else "breakdown",
                   iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=ripple_current_A,
                   frequency=frequency_Hz, notes=res_notes, segment_area=seg)

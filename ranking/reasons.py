@@ -74,8 +74,10 @@ TEXT = {
     "extrapolated": lambda q: ("permittivity or breakdown held at the end of its data outside the measured "
                                "temperatures"),
     "thickness-outside": lambda q: (f"breakdown measured on {_um(q['test_thickness_m'])} specimens, used for a "
-                                    f"{_um(q['thickness_m'])} layer (more than {q['factor']:g}× away; no thickness "
-                                    "law applied)"),
+                                    f"{_um(q['thickness_m'])} layer (more than {q['factor']:g}× away: beyond what "
+                                    "a thickness law may carry)"),
+    "thickness-scaled": lambda q: (f"breakdown carried from {_um(q['test_thickness_m'])} specimens to the "
+                                   f"{_um(q['thickness_m'])} layer by E ∝ d^-n, n = {q['n']:.3g} ({q['source']})"),
     "strict-outside-data": lambda q: f"--strict refuses values used outside their data: {q['notes']}",
     "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",
     "segment-ignored": lambda q: ("segment area ignored: the material is not self-healing, so the whole area "

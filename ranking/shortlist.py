@@ -82,7 +82,12 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         raise InputError(f"method '{method}' is not one of {', '.join(METHODS)}")
     table = materials if isinstance(materials, ValueTable) else ValueTable.from_materials(list(materials))
     thicknesses = list(target.thicknesses_m) or [None]
-    kind_of = dict(zip(table.source_keys, table.source_kinds, strict=True))
+    from materials.priors import sources as prior_sources
+
+    stated = prior_sources()
+    # a stated prior range stands in for data: its numbers are "assumed"; a published law keeps its kind
+    kind_of = {**{k: ("assumed" if v["kind"] == "common-practice" else v["kind"]) for k, v in stated.items()},
+               **dict(zip(table.source_keys, table.source_kinds, strict=True))}
     weights = weights_for(target)
     names = [n for n in CRITERIA if weights.get(n, 0) > 0]
     if not names:
@@ -169,8 +174,8 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         e = full(i, ti)
         excluded.append({"key": e.key, "name": e.name, "family": e.family, "label": e.label,
                          "thickness_m": e.thickness_m, "reasons": e.reasons})
-    srcs = {k: {"kind": kind, "citation": cit} for k, kind, cit in
-            zip(table.source_keys, table.source_kinds, table.source_citations, strict=True)}
+    srcs = {**stated, **{k: {"kind": kind, "citation": cit} for k, kind, cit in
+                         zip(table.source_keys, table.source_kinds, table.source_citations, strict=True)}}
     used = {k for r in ranked for lst in r["sources"].values() for k in lst}
     from materials.sizing import CAUTION
 
@@ -199,15 +204,14 @@ EVIDENCE_CLASS = {"handbook": "published", "standard": "published", "paper": "pu
 
 
 def _source_kinds(e: Evaluation, names, kind_of: dict) -> dict[str, list[str]]:
-    """Per criterion, the kinds of the sources behind its number; "assumed" where a prior or an imputation stands
-    in for data (an assumed Weibull shape or test area, a criterion taken as the worst of the field)."""
-    assumed_energy = any(f in ("assumed-shape", "assumed-test-area") for f in e.flags)
+    """Per criterion, the kinds of the sources behind its number; "assumed" where a stated prior or an imputation
+    stands in for data (an assumed Weibull shape or test area, a criterion taken as the worst of the field)."""
     out = {}
     for n in names:
-        kinds = sorted({kind_of.get(k, "common-practice") for k in e.sources.get(n, [])})
-        if (assumed_energy and n in ("energy", "volume", "mass")) or n in e.missing:
-            kinds.append("assumed")
-        out[n] = kinds
+        kinds = {kind_of.get(k, "common-practice") for k in e.sources.get(n, [])}
+        if n in e.missing:
+            kinds.add("assumed")
+        out[n] = sorted(kinds)
     return out
 
 

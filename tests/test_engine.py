@@ -289,3 +289,58 @@ def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_stric
     assert any("3 µm specimens" in a for a in thick.details["assumptions"])
     strict = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, strict=True))
     assert not strict.ok and "--strict refuses" in strict.reasons[0] and "3 µm specimens" in strict.reasons[0]
+
+
+def test_thickness_law_exponent_is_the_weibull_relative_spread_per_zhao_liu():
+    """Zhao & Liu, Nanomaterials 10, 2473 (2020): the exponent of E ∝ d^-a is about the relative standard error of
+    the breakdown distribution — for a Weibull of shape β, std/mean from scipy.stats.weibull_min."""
+    from scipy.stats import weibull_min
+
+    from materials.priors import weibull_relative_spread
+
+    for beta in (3.0, 8.0, 12.0, 30.0):
+        assert weibull_relative_spread(beta) == pytest.approx(weibull_min(beta).std() / weibull_min(beta).mean(),
+                                                              rel=1e-9)
+
+
+def test_thickness_law_sizing_against_brentq(make_material):
+    """A film tested at 3 µm sized for 2 kV: d = V/E_d(A, d) with E_d = α·(−ln(1−p)·A_t/A)^(1/β)·(d/d0)^-n and
+    A = c·d, solved by scipy.optimize.brentq, equals the engine's folded closed form; the part's failure
+    probability at the scale carried to d is p."""
+    from scipy.optimize import brentq
+    from scipy.stats import weibull_min
+
+    a, b, at, d0, p, V, W, er = 600e6, 12.0, 1e-4, 3e-6, 1e-3, 2000.0, 50.0, 2.2
+    n = weibull_min(b).std() / weibull_min(b).mean()
+    rows = [("relative_permittivity", er, "handbook"),
+            ("breakdown_field", a, "handbook", {"thickness_m": d0, "area_m2": at}),
+            ("weibull_shape", b, "handbook"), ("max_temperature", 105 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook")]
+    ev = evaluate_material(make_material("law-film", rows), target(voltage_V=V, energy_J=W, failure_probability=p))
+    c = 2 * W / (EPS0 * er * V ** 2)
+
+    def g(log_d):
+        d = np.exp(log_d)
+        e_d = a * (-np.log1p(-p) * at / (c * d)) ** (1 / b) * (d / d0) ** -n
+        return log_d - np.log(V / e_d)
+
+    d_ref = np.exp(brentq(g, np.log(1e-7), np.log(1e-2), xtol=1e-14))
+    assert ev.ok, ev.reasons
+    assert ev.details["thickness_m"] == pytest.approx(d_ref, rel=1e-9)
+    assert "thickness-scaled" in ev.flags and any("E ∝ d^-n" in s for s in ev.details["assumptions"])
+    assert ev.details["failure_probability"] == pytest.approx(p, rel=1e-6)
+
+
+def test_class_2_layers_use_the_measured_mlcc_exponent(make_material):
+    """BaTiO3 multilayers: E_B ∝ d^-0.5 (the base-metal MLCC thickness study): a layer four times thicker than the
+    tested one gets half its breakdown field at equal area."""
+    rows = [("relative_permittivity", 2000.0, "handbook"),
+            ("breakdown_field", 80e6, "handbook", {"thickness_m": 10e-6, "area_m2": 1e-5}),
+            ("weibull_shape", 10.0, "handbook"), ("max_temperature", 125 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook")]
+    m = make_material("x7r-like", rows, family="ceramic-class-2")
+    ev = evaluate_material(m, target(voltage_V=30e6 * 40e-6, energy_J=None, area_m2=1e-5, failure_probability=0.5,
+                                     thicknesses_m=(40e-6,)), thickness_m=40e-6)
+    # design field at 40 µm with the test area and p = 0.5: 80 V/µm · (ln 2)^(1/10) · (40/10)^-0.5
+    assert ev.details["design_field_V_per_m"] == pytest.approx(80e6 * np.log(2) ** 0.1 * 0.5, rel=1e-9)
+    assert "paper-mlcc-thickness-exponent" in " ".join(ev.details["assumptions"])

@@ -321,7 +321,7 @@ def test_ranked_rows_say_what_their_numbers_rest_on(make_material):
     res = shortlist([a, b], target(), draws=20)
     rows = {r["key"]: r for r in res["ranked"]}
     assert rows["published-film"]["source_kinds"]["energy"] == ["handbook"]
-    assert rows["recalled-film"]["source_kinds"]["energy"] == ["recollection", "assumed"]
+    assert rows["recalled-film"]["source_kinds"]["energy"] == ["assumed", "recollection"]
     ev = res["evidence"]
     assert ev["rows"] == 2
     assert ev["published"] + ev["lab"] + ev["common_practice"] + ev["assumed_or_recollected"] == pytest.approx(1.0)
