@@ -190,7 +190,7 @@ def test_catalog_file_names_match_keys():
 
 
 def test_coverage_asked_for_by_the_issue(catalog):
-    # Issue 2: at least 45 materials; curves for the ceramic classes; DC-bias curves of >= 5 points for class 2.
+    # At least 45 materials; curves for the ceramic classes; DC-bias curves of >= 5 points for class 2.
     _, materials = catalog
     assert len(materials) >= 45
     families = {m.family for m in materials}

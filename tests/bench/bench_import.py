@@ -1,6 +1,6 @@
 """Benchmark: importing 10⁵ breakdown points into a SQLite store, side by side with bare sqlite3 executemany.
 
-Goal (issue 5): the import of the points within 2× of a bare ``sqlite3`` ``executemany`` of the same rows into the
+Goal: the import of the points within 2× of a bare ``sqlite3`` ``executemany`` of the same rows into the
 same table of the same kind of file (WAL, synchronous NORMAL, foreign keys on — the store's own pragmas).
 
 Timed, each on a fresh copy of one freshly built store, median of the repetitions:
