@@ -27,7 +27,7 @@ import numpy as np
 from materials.errors import DataError
 from materials.reading import (  # noqa: F401 - the column-wise reading, re-exported as the lookup's API
     CONFIDENCE, REFERENCE_FREQUENCY_HZ, REFERENCE_TEMPERATURE_K, TIER, BiasCurves, Curve, Lookup, Reader,
-    bias_curves, distinct_temperatures, fmt_field, fmt_temperature, outside_data_message, pick_rows,
+    bias_curves, fmt_field, fmt_temperature, outside_data_message, pick_rows,
     reference_values, row_sources)
 from materials.records import MaterialData, StoredValue
 from materials.table import ValueTable

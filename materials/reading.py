@@ -207,15 +207,6 @@ def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
     return lab[t.source], tier[t.source]
 
 
-def distinct_temperatures(t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int) -> np.ndarray:
-    """Per material, how many distinct temperatures ``rows`` (of one property, in table order) state."""
-    rows = rows[~np.isnan(t.temperature_K[rows])]
-    rm, rt = mat[rows], t.temperature_K[rows]
-    new = np.ones(rows.size, dtype=bool)
-    new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])  # table order: by material, then temperature
-    return np.bincount(rm[new], minlength=m)
-
-
 class Reader:
     """A table prepared for lookups: active rows, their material, lab flag and evidence tier, computed once."""
 

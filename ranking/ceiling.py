@@ -52,15 +52,6 @@ def _one(material: MaterialData, temperature_K: float, assume_defaults: bool):
     return worst_inputs(r, tmin_K=temperature_K, tmax_K=temperature_K, assume_defaults=assume_defaults)
 
 
-def energy_density_at(material: MaterialData, field_V_per_m: float, *, temperature_K: float) -> tuple[float, str]:
-    """Stored energy density (J/m³) at a field, and the method used (linear, bias-curve, loop or the linear upper
-    bound of a nonlinear material known only by εr): :func:`ranking.engine.energy_density` for one material."""
-    from ranking.engine import METHOD_NAMES, energy_density
-
-    inp = _one(material, temperature_K, True)
-    return float(energy_density(inp, [0], [field_V_per_m])[0]), METHOD_NAMES[int(inp.kind[0])]
-
-
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,
                failure_probability: float | None = None, margin: float = 1.0, extrapolate: bool = False,
                assume_defaults: bool = False) -> Ceiling:

@@ -9,13 +9,6 @@ from materials.records import MaterialData
 _RATED = ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min")
 
 
-def self_heals(material: MaterialData) -> bool:
-    from materials.lookup import reference_value
-
-    v = reference_value(material, "self_healing")
-    return v is not None and v >= 0.5
-
-
 def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, tmin_K: float, tmax_K: float,
                   failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
                   frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None) -> dict:

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from functools import lru_cache
-
 import numpy as np
 
 from materials.errors import InputError
@@ -42,14 +40,6 @@ def _impute(typ: dict, lo: dict, hi: dict, names: list[str], flags: list[list[st
             d[name] = np.where(have, d[name], worst)
         for i in np.flatnonzero(~have):
             flags[i].append(f"{name} missing: worst of the field assumed")
-
-
-@lru_cache(maxsize=None)
-def _display_scale(display_unit: str, unit: str) -> float:
-    """SI value per display unit of a criterion (criteria units are all proportional: no offsets)."""
-    from materials.units import from_si
-
-    return 1.0 / from_si(1.0, display_unit, unit)
 
 
 def _fmt_criterion(name: str, value: float) -> str:
