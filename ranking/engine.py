@@ -28,20 +28,13 @@ import numpy as np
 from materials.energy import EPSILON_0, CurveSet
 from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
 from materials.priors import LAW_FACTOR, TEST_AREA, shape_priors, thickness_exponents
-from materials.sizing import failure_probability, size_columns
+from materials.sizing import failure_probability
 from materials.table import ValueTable
 
 #: Energy models, per material.
-LINEAR, BIAS, LOOP, UPPER_BOUND = 0, 1, 2, 3
-METHOD_NAMES = {LINEAR: "linear", BIAS: "bias-curve", LOOP: "loop", UPPER_BOUND: "linear-upper-bound"}
-#: Relative tolerance of the comparisons that decide a verdict (a value at its limit passes).
-TOL = 1e-9
-#: A breakdown value measured on specimens of thickness d0 is used as measured for layers within this factor of d0;
-#: beyond it (no thickness law is stored yet) the cell is flagged, and --strict refuses it.
-THICKNESS_FACTOR = 3.0
-#: Largest active area a sizing may return (1 km² of electrode, beyond any capacitor bank): a Weibull shape near 1
-#: makes the self-consistent area grow without bound, and such a "size" is no answer.
-MAX_AREA_M2 = 1e6
+from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
+    BIAS, LINEAR, LOOP, MAX_AREA_M2, METHOD_NAMES, THICKNESS_FACTOR, TOL, UPPER_BOUND, _design, charge_density,
+    energy_density, small_signal_permittivity)
 
 
 @dataclass
@@ -181,59 +174,6 @@ def _count_temperatures(t, rows, mat, m):
     new = np.ones(rm.size, dtype=bool)
     new[1:] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])
     return np.bincount(rm[new], minlength=m)
-
-
-# --- energy along each material's model -----------------------------------------------------------------------
-
-
-def energy_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
-    """Stored energy density (J/m³) of materials ``idx`` at fields ``e`` by their energy model: ``½·ε0·εr·E²``
-    (linear, and the upper bound of a nonlinear material known only by εr), ``∫E dD`` along the DC-bias curve
-    (exact for its piecewise-linear interpolant), or a loop's recoverable density scaled by ``(E/E_loop)²`` and
-    capped at the loop's field."""
-    idx = np.asarray(idx, dtype=np.int64)
-    e = np.asarray(e_V_per_m, dtype=float)
-    k = inp.kind[idx]
-    out = 0.5 * EPSILON_0 * inp.eps_v[idx] * e * e
-    b = k == BIAS
-    if b.any():
-        out = np.where(b, inp.curves.energy(np.where(b, idx, 0), e), out)
-    lp = k == LOOP
-    if lp.any():
-        out = np.where(lp, _loop_energy(inp.loops, np.where(lp, idx, 0), e), out)
-    return out
-
-
-def _loop_energy(loops, idx, e):
-    """A loop profile read at fields ``e`` (one per row ``idx``): √u interpolated linearly between the stored
-    fields (exact for a linear dielectric, u ∝ E²; one stored point gives the (E/E_loop)² scaling), held at the
-    loop's largest field beyond it (the rule "above-loop" refuses such a design)."""
-    idx, e = np.broadcast_arrays(np.asarray(idx, dtype=np.int64), np.asarray(e, dtype=float))
-    f, s = loops.fields[idx], np.sqrt(np.maximum(loops.eps[idx], 0.0))
-    last = np.maximum(loops.n[idx] - 1, 1)
-    j = np.clip((f <= e[..., None]).sum(axis=-1) - 1, 0, last - 1)[..., None]
-    f0, f1 = np.take_along_axis(f, j, -1)[..., 0], np.take_along_axis(f, j + 1, -1)[..., 0]
-    s0, s1 = np.take_along_axis(s, j, -1)[..., 0], np.take_along_axis(s, j + 1, -1)[..., 0]
-    with np.errstate(all="ignore"):
-        w = np.clip(np.where(f1 > f0, (e - f0) / (f1 - f0), 1.0), 0.0, 1.0)
-    return (s0 + w * (s1 - s0)) ** 2
-
-
-def charge_density(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
-    """Displacement D (C/m²) at fields ``e``: ``ε0·εr·E``, or ``ε0·∫εr,diff de`` along a DC-bias curve."""
-    idx = np.asarray(idx, dtype=np.int64)
-    e = np.asarray(e_V_per_m, dtype=float)
-    out = EPSILON_0 * inp.eps_v[idx] * e
-    b = inp.kind[idx] == BIAS
-    return np.where(b, inp.curves.charge(np.where(b, idx, 0), e), out) if b.any() else out
-
-
-def small_signal_permittivity(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
-    """Differential εr at fields ``e`` (the worst small-signal εr for a material without a bias curve)."""
-    idx = np.asarray(idx, dtype=np.int64)
-    out = inp.eps_v[idx] * np.ones_like(np.asarray(e_V_per_m, dtype=float))
-    b = inp.kind[idx] == BIAS
-    return np.where(b, inp.curves.permittivity(np.where(b, idx, 0), e_V_per_m), out) if b.any() else out
 
 
 # --- the verdict -----------------------------------------------------------------------------------------------
@@ -379,88 +319,6 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
                      has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
                      fail=fail, iterations=its, log_k=log_k)
     return out
-
-
-def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
-    """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
-    its design field), a self-consistent size for the target energy, or the design field alone."""
-    m = inp.reader.m
-    everyone = inp.everyone
-    no = np.zeros(m, dtype=bool)
-    out = {"thinner-than-made": no, "over-design-field": no, "no-size": no, "area-impractical": no}
-    V, p, margin = float(target.voltage_V), float(target.failure_probability), float(target.margin)
-    d_min, energy_J, area_t = inp.d_min, target.energy_J, target.area_m2
-    has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
-    its = np.zeros(m, dtype=np.int64)
-    # The thickness law E = E0·(d/d0)^−n (materials.priors): n = 0 where no law applies.
-    has_law = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
-    nn = np.where(has_law, inp.law_n, 0.0)
-    log_d0 = np.where(has_law, np.log(np.where(has_law, inp.test_thickness, 1.0)), 0.0)
-    log_v = np.log(V)
-    with np.errstate(all="ignore"):
-        log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
-
-        def e_design(area, d):
-            return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta - nn * (np.log(d) - log_d0))
-
-        def breakdown_limited(area):
-            """d = V/E_design(A, d), solved for d: (1 − n)·ln d = ln V − ln K + ln A/β − n·ln d0."""
-            link = np.where(has_seg, seg, area)
-            return np.exp((log_v - log_k + np.log(link) / beta - nn * log_d0) / (1.0 - nn))
-
-        if thickness_m is not None:
-            d = np.full(m, float(thickness_m))
-            out["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-            if area_t is None and energy_J is not None:
-                area = energy_J / u_op / d
-            else:
-                area = np.full(m, np.nan if area_t is None else float(area_t))
-            ed = e_design(np.where(np.isfinite(area), area, test_area), d)
-            out["over-design-field"] = e_op > ed * (1 + TOL)
-        elif energy_J is not None:
-            rows = np.flatnonzero(live)
-            d, area, ed = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
-            converged = np.zeros(m, dtype=bool)
-            if rows.size:
-                # the law folds into an effective shape and constant: d ∝ A^(1/(β(1−n)))
-                b_eff = beta * (1.0 - nn)
-                log_k_eff = log_v - (log_v - log_k - nn * log_d0) / (1.0 - nn)
-                sol = size_columns(
-                    energy_J=energy_J, voltage_V=V, log_k=log_k_eff[rows], shape=b_eff[rows],
-                    relative_permittivity=_first_guess_eps(inp, rows), nonlinear=inp.kind[rows] != LINEAR,
-                    energy_density=lambda idx, e: energy_density(inp, rows[idx], e), segment_area_m2=seg[rows],
-                    min_thickness_m=d_min[rows])
-                d[rows], area[rows] = sol["thickness_m"], sol["area_m2"]
-                ed[rows] = e_design(area, d)[rows]
-                its[rows], converged[rows] = sol["iterations"], sol["converged"]
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-            out["no-size"] = ~(converged & np.isfinite(d) & (d > 0) & np.isfinite(area) & (area > 0)
-                               & np.isfinite(u_op) & (u_op > 0))
-            out["area-impractical"] = ~out["no-size"] & (area > MAX_AREA_M2)
-        else:
-            area = np.full(m, np.nan if area_t is None else float(area_t))
-            a_ref = np.where(np.isfinite(area), area, test_area)
-            d = breakdown_limited(a_ref)
-            d = np.where(has_dmin & (d < d_min), d_min, d)
-            ed = e_design(a_ref, d)
-            e_op = V / d
-            u_op = energy_density(inp, everyone, e_op)
-        shift = nn * (np.log(d) - log_d0)
-    out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k, log_k_d=log_k - shift,
-               scale_d=inp.ebd_v * np.exp(-shift))
-    return out
-
-
-def _first_guess_eps(inp: Inputs, idx) -> np.ndarray:
-    """The εr of the linear first guess of a sizing: the small-signal εr, or a loop's effective εr."""
-    eps = inp.eps_v[idx].copy()
-    lp = inp.kind[idx] == LOOP
-    with np.errstate(all="ignore"):
-        eff = 2.0 * inp.loop_value[idx] / (EPSILON_0 * inp.loop_field[idx] ** 2)
-    return np.where(lp, eff, eps)
 
 
 def _confidence(inp: Inputs) -> np.ndarray:
