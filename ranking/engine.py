@@ -31,7 +31,6 @@ from materials.priors import LAW_FACTOR, TEST_AREA, shape_priors, thickness_expo
 from materials.sizing import failure_probability
 from materials.table import ValueTable
 
-#: Energy models, per material.
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
     BIAS, LINEAR, LOOP, MAX_AREA_M2, METHOD_NAMES, THICKNESS_FACTOR, TOL, UPPER_BOUND, _design, charge_density,
     energy_density, small_signal_permittivity)
