@@ -99,7 +99,7 @@ def shortlist(
 
 
 def render(result: dict, *, top: int) -> None:
-    from cli.output import caution, esc, say, table
+    from cli.output import esc, say, table
     from materials.numfmt import fmt_celsius, fmt_number, to_display
 
     t = result["target"]
@@ -136,6 +136,11 @@ def render(result: dict, *, top: int) -> None:
                      *[show(n, r["criteria"].get(n)) for n in names],
                      f"{r['p_top']:.2f}", f"{r['p_top_k']:.2f}", f"{r['confidence']:.2f}", r["binding"]])
     counts = result.get("counts") or {"ranked": len(result["ranked"]), "excluded": len(result["excluded"])}
+    if not body:
+        # nothing ranked: no empty grid, just the count; the exclusions below say why
+        say(f"0 ranked, {counts['excluded']} excluded")
+        _exclusions(result, counts)
+        return
     table(cols, body, right=set(range(2, 3 + len(names) + 3)),
           title=f"{counts['ranked']} ranked, {counts['excluded']} excluded")
     ev = result.get("evidence") or {}
@@ -155,6 +160,12 @@ def render(result: dict, *, top: int) -> None:
         for r in result["ranked"][1:min(top, 4)]:
             say(f"  {esc(r['label'])}: {esc(r['versus_winner'])}"
                 + (f"; dominated by {esc(r['dominated_by'])}" if r["dominated_by"] else ""))
+    _exclusions(result, counts)
+
+
+def _exclusions(result: dict, counts: dict) -> None:
+    from cli.output import caution, say, table
+
     if result["excluded"]:
         table(["excluded", "reasons"], [[e["label"], "; ".join(e["reasons"])] for e in result["excluded"]])
         more = counts["excluded"] - len(result["excluded"])

@@ -11,7 +11,7 @@ from materials.lookup import fmt_temperature as _c
 from materials.priors import assumed_area_note, assumed_shape_note, shape_prior
 
 #: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
-DEFAULTS_HINT = "leave out --strict (or strict = true in a target file) to assume the family's stated range"
+DEFAULTS_HINT = "without --strict, or strict = true in a target file, the family's stated range is assumed"
 
 
 def _um(d_m: float) -> str:

@@ -359,3 +359,10 @@ def test_sources_used_reports_the_evidence_behind_a_shortlist(cli):
     assert used["published"] + used["lab"] + used["common_practice"] + used["assumed_or_recollected"] == \
         pytest.approx(1.0)
     assert 0 < d["published_share"] < 1
+
+
+def test_nothing_ranked_prints_the_reasons_not_an_empty_grid(cli):
+    code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80",
+                          "--strict", "--draws", "50"])
+    assert code == 1
+    assert "0 ranked" in out and "p_top0" not in out and "weibull_shape missing" in out and "--strict" in out
