@@ -7,16 +7,18 @@ Three steps, each column-wise over every material:
    breakdown or loss data point in between: the lowest permittivity and the lowest breakdown field (even where
    they fall at different temperatures: conservative), the Weibull shape at the worst breakdown temperature, the
    test electrode area of the breakdown rows used, the largest loss tangent, the rated range, the thinnest layer,
-   density, self-healing, and the energy model (linear ``½·ε0·εr·E²``, ``∫E dD`` along a DC-bias curve, or a
-   loop's recoverable density).
-2. :func:`evaluate` — the design (fixed layer, self-consistent sizing for an energy, or the design field alone),
-   the criteria of :mod:`ranking.criteria` and the hard constraints. Each constraint is a rule with a reason code
-   (:mod:`ranking.reasons`); a candidate's bad data becomes its own reason, never an error of the run.
+   density, self-healing, the thickness law, and the energy model (linear ``½·ε0·εr·E²``, ``∫E dD`` along a
+   DC-bias curve, or a loop's recoverable energy).
+2. :func:`evaluate` — the design (:mod:`ranking.design`: fixed layer, self-consistent sizing for an energy, or the
+   design field alone), the criteria of :mod:`ranking.criteria` and the hard constraints. Each constraint is a
+   rule with a reason code (:mod:`ranking.reasons`); a candidate's bad data becomes its own reason, never an error
+   of the run.
 3. :func:`ranking.explain.explain` — one candidate's words (reasons, binding constraint, flags, sources, design)
    from the arrays.
 
-The design field is ``E_d = E_bd·(−ln(1−p)·A_test/A)^(1/β) / margin`` (the Weibull quantile at the accepted failure
-probability, weakest-link scaled from the test area to the part's area, IEEE Std 930 / IEC 62539).
+The design field is ``E_d = E_bd·(−ln(1−p)·A_test/A)^(1/β)·(d/d0)^−n / margin`` (the Weibull quantile at the
+accepted failure probability, weakest-link scaled from the test area to the part's area, IEEE Std 930 / IEC 62539,
+and carried to the layer's thickness by the thickness law).
 """
 
 from __future__ import annotations
@@ -30,7 +32,6 @@ from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reade
 from materials.priors import LAW_FACTOR, TEST_AREA, shape_priors, thickness_exponents
 from materials.sizing import failure_probability
 from materials.table import ValueTable
-
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
     BIAS, LINEAR, LOOP, MAX_AREA_M2, METHOD_NAMES, THICKNESS_FACTOR, TOL, UPPER_BOUND, _design, charge_density,
     energy_density, small_signal_permittivity)
