@@ -96,7 +96,7 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
     its = np.zeros(m, dtype=np.int64)
     # The thickness law E = E0·(d/d0)^−n (materials.priors): n = 0 where no law applies.
-    has_law = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
+    has_law = inp.has_law
     nn = np.where(has_law, inp.law_n, 0.0)
     log_d0 = np.where(has_law, np.log(np.where(has_law, inp.test_thickness, 1.0)), 0.0)
     log_v = np.log(V)

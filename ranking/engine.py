@@ -129,7 +129,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
         extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0, test_thickness=d0,
-        law_n=law_n, law_source=law_src,
+        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0),
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
@@ -239,7 +239,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
     energy_J = target.energy_J
     sizing = thickness_m is None and energy_J is not None
-    has_law = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
+    has_law = inp.has_law
     beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
     fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~has_seg
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)

@@ -115,7 +115,7 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     if cols.parts["thick_out"][i]:
         out.append(words("thickness-outside", thickness_m=float(cols.parts["d"][i]),
                          test_thickness_m=float(inp.test_thickness[i]),
-                         factor=LAW_FACTOR if np.isfinite(inp.law_n[i]) else THICKNESS_FACTOR))
+                         factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR))
     if not inp.shape_found[i]:
         out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
     if not inp.area_found[i]:
