@@ -9,7 +9,7 @@ into an empty store and dumping again gives the same bytes, on SQLite and Postgr
 
 Lines, in this order::
 
-    {"format": "holdoff-bundle", "version": 1, "schema_revision": "0002"}
+    {"format": "holdoff-bundle", "version": 1, "schema_revision": "0003"}
     {"type": "meta", "key": …, "value": …}                                  by key
     {"type": "source", "key": …, "kind": …, "citation": …, "note": …}       by key
     {"type": "material", "key": …, "name": …, "family": …, "form": …, "description": …, "origin": …,

@@ -49,6 +49,16 @@ PROPERTIES: dict[str, Property] = {p.key: p for p in (
     Property("recoverable_energy_density", "J/m3", "J/cm**3", "recovered energy density from a loop",
              0.0, 5e8),
     Property("efficiency", "1", "%", "recovered / stored energy of a loop", 0.0, 1.0),
+    Property("max_thickness", "m", "um",
+             "thickest single layer made in practice (forming-voltage limit, green-tape or film gauge)", 1e-9, 1.0),
+    Property("thickness_exponent", "1", "", "exponent n of the thickness law E_bd ∝ d^−n", 0.0, 1.5),
+    Property("temperature_index", "K", "degC", "resin or film temperature index (not a capacitor rating)",
+             150.0, 2300.0),
+    Property("life_exponent", "1", "", "exponent n of the inverse-power life law t ∝ E^−n (or V^−n)", 0.5, 60.0),
+    Property("activation_energy", "J", "eV", "activation energy of the Arrhenius life law", 1.6e-21, 8e-19),
+    Property("townsend_a", "1/(Pa m)", "1/(Pa m)", "Townsend ionisation constant A of Paschen's law", 0.1, 100.0),
+    Property("townsend_b", "V/(Pa m)", "V/(Pa m)", "Townsend constant B of Paschen's law", 1.0, 2000.0),
+    Property("secondary_emission", "1", "", "secondary-electron emission coefficient γ of the cathode", 1e-6, 1.0),
 )}
 
 # εr plausibility by family (SI, dimensionless); other families use the property's own range.

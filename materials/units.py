@@ -35,6 +35,8 @@ SI_UNITS = {
     "kg": "kilogram",
     "C/m2": "coulomb / meter ** 2",
     "V/s": "volt / second",
+    "1/(Pa m)": "1 / pascal / meter",
+    "V/(Pa m)": "volt / pascal / meter",
 }
 
 # Typed spellings rewritten to pint's before any lookup, in this order. tests/test_units.py converts every form

@@ -255,10 +255,14 @@ def test_a_scattered_lab_set_stops_no_one_else(cli, tmp_path):
     assert "Weibull shape 0." in pps["reasons"][0] and "1 or less" in pps["reasons"][0]
 
 
+# Temperatures on a 0.1 °C grid, as data state them: a range end then either equals a data point or clears it.
+_TENTHS = st.integers(-600, 2000).map(lambda x: x / 10)
+
+
 @settings(max_examples=60, deadline=None)
-@given(eps_t=st.lists(st.floats(-60, 200), min_size=1, max_size=4, unique=True),
-       ebd_t=st.lists(st.floats(-60, 200), min_size=1, max_size=4, unique=True),
-       lo=st.floats(-60, 150), span=st.floats(0, 100))
+@given(eps_t=st.lists(_TENTHS, min_size=1, max_size=4, unique=True),
+       ebd_t=st.lists(_TENTHS, min_size=1, max_size=4, unique=True),
+       lo=st.integers(-600, 1500).map(lambda x: x / 10), span=st.integers(0, 1000).map(lambda x: x / 10))
 def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, ebd_t, lo, span):
     """Property: a candidate whose worst case reads permittivity or breakdown outside the temperatures its data
     state carries the ``extrapolated`` flag; one read inside never does."""
