@@ -992,3 +992,34 @@ def test_relaxor_breakdown_bound_is_the_published_loop_field(catalog, key, sourc
     assert e == pytest.approx(field_kv_cm * 1e5)
     for v in rows(catalog, key, "recoverable_energy_density"):
         assert v.field_V_per_m is None or v.field_V_per_m <= e + 1e-6
+
+
+def test_nitrogen_townsend_constants_reproduce_the_one_centimetre_gap(catalog):
+    """Lieberman & Lichtenberg, Table 14.1: N2 A = 11.8 1/(cm Torr), B = 325 V/(cm Torr). Put into Paschen's law with
+    γ = 0.01 (materials.gas) they give a 1 cm gap at 101.3 kPa within 10 % of the sparking chapter's 30.4 kV."""
+    from materials.gas import paschen_voltage
+
+    torr = 101325 / 760
+    a = one(catalog, "nitrogen", "townsend_a", "lieberman-lichtenberg-2005-t14-1").value
+    b = one(catalog, "nitrogen", "townsend_b", "lieberman-lichtenberg-2005-t14-1").value
+    assert (a * 0.01 * torr, b * 0.01 * torr) == pytest.approx((11.8, 325))
+    v = float(paschen_voltage(101325 * 0.01, a_per_Pa_m=a, b_V_per_Pa_m=b, gamma=0.01))
+    e = one(catalog, "nitrogen", "breakdown_field", "gas-sparking-chapter", thickness_m=0.01).value
+    assert v == pytest.approx(e * 0.01, rel=0.10)
+
+
+def test_nitrogen_density_from_the_webbook_molar_mass(catalog):
+    """NIST WebBook molar mass 28.0134 g/mol, ideal gas at 101.325 kPa and 20 degC."""
+    from scipy.constants import R
+
+    v = one(catalog, "nitrogen", "density", "nist-webbook-nitrogen", temperature_K=20 + C0)
+    assert v.value == pytest.approx(101325 * 0.0280134 / (R * (20 + C0)), rel=1e-4)
+
+
+def test_uncertain_handbook_strengths_do_not_outrank_film_data(catalog):
+    """Springer Handbook Table 3.3-12 prints four electric strengths for five fluoropolymers, so no strength is taken
+    from it; FEP's strength comes from the film bulletin (> 260 kV/mm at 25 um)."""
+    for key in ("fep-film", "ptfe-film"):
+        assert not rows(catalog, key, "breakdown_field", "springer-hcmmd-t3-3-12"), key
+    v = one(catalog, "fep-film", "breakdown_field", "fep-film-properties-bulletin", thickness_m=25.4e-6)
+    assert v.value == pytest.approx(6500 * V_PER_MIL)
