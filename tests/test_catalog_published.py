@@ -346,9 +346,12 @@ def test_specific_heat_callister_fundamentals_table_b8(catalog):
 
 def test_resin_limits_crawford_table_1_8(catalog):
     src = "crawford-plastics-eng-t1-8"
-    for key, tmax in (("peek-film", 204), ("ptfe-film", 250), ("pei-film", 170), ("pet-film", 110),
-                      ("polycarbonate-film", 125), ("pps-film", 150), ("hdpe-film", 55)):
+    for key, tmax in (("peek-film", 204), ("pei-film", 170), ("hdpe-film", 55)):
         assert one(catalog, key, "max_temperature", src).value == pytest.approx(tmax + C0), key
+    # where a film-capacitor rating exists, the resin's limit is kept apart as its temperature index
+    for key, tmax in (("ptfe-film", 250), ("pet-film", 110), ("polycarbonate-film", 125), ("pps-film", 150)):
+        assert one(catalog, key, "temperature_index", src).value == pytest.approx(tmax + C0), key
+        assert not rows(catalog, key, "max_temperature", src), key
     for key, rho in (("pet-film", 1360), ("pei-film", 1270), ("peek-film", 1300), ("pps-film", 1340)):
         assert one(catalog, key, "density", src).value == pytest.approx(rho), key
     assert one(catalog, "polypropylene-bopp", "specific_heat", src).value == pytest.approx(2000)
@@ -1023,3 +1026,33 @@ def test_uncertain_handbook_strengths_do_not_outrank_film_data(catalog):
         assert not rows(catalog, key, "breakdown_field", "springer-hcmmd-t3-3-12"), key
     v = one(catalog, "fep-film", "breakdown_field", "fep-film-properties-bulletin", thickness_m=25.4e-6)
     assert v.value == pytest.approx(6500 * V_PER_MIL)
+
+
+CAPACITOR_RATINGS = {"film-capacitor-maker-dielectric-table", "film-capacitor-encyclopedia", "film-dielectrics-blog-2010",
+                     "yang-dang-2020-iet", "energies-2023-pp-conduction", "itwissen-pet"}
+
+
+@pytest.mark.parametrize("key", ["pet-film", "pps-film", "pen-film", "polycarbonate-film", "polystyrene-film",
+                                 "ptfe-film", "polypropylene-bopp"])
+def test_rated_maximum_is_a_capacitor_rating_where_one_is_published(catalog, key):
+    """Film-capacitor ratings (maker table: PET 105, PP 105, PEN 125, PPS 140 degC; PTFE and polystyrene capacitor
+    pages) are the max_temperature rows; resin and film indices (Crawford Table 1.8, supplier charts) are kept apart
+    as temperature_index rows, so the shortlist's rated range is the capacitor's."""
+    for v in rows(catalog, key, "max_temperature"):
+        assert v.source in CAPACITOR_RATINGS, (key, v.source)
+
+
+def test_pen_film_index_above_its_capacitor_rating(catalog):
+    """PEN film certified for long-term electrical use at 155 degC (supplier) against PEN capacitors rated to 125 degC
+    (maker table): the index is the film's, the rating the capacitor's."""
+    index = one(catalog, "pen-film", "temperature_index", "azom-pen-1933").value
+    rating = one(catalog, "pen-film", "max_temperature", "film-capacitor-maker-dielectric-table").value
+    assert (index - C0, rating - C0) == pytest.approx((155, 125))
+
+
+def test_tantalum_maker_table_loss_and_drift(catalog):
+    """Maker table, tantalum column: dissipation factor 8 % at 1 kHz and ±10 % capacitance over -55...+125 degC."""
+    assert one(catalog, "tantalum-pentoxide", "loss_tangent", MAKER, frequency_Hz=1e3).value == pytest.approx(0.08)
+    for t in (-55, 125):
+        v = one(catalog, "tantalum-pentoxide", "capacitance_change", MAKER, temperature_K=t + C0)
+        assert (v.low, v.high) == pytest.approx((-0.10, 0.10))
