@@ -1028,8 +1028,8 @@ def test_uncertain_handbook_strengths_do_not_outrank_film_data(catalog):
     assert v.value == pytest.approx(6500 * V_PER_MIL)
 
 
-CAPACITOR_RATINGS = {"film-capacitor-maker-dielectric-table", "film-capacitor-encyclopedia", "film-dielectrics-blog-2010",
-                     "yang-dang-2020-iet", "energies-2023-pp-conduction", "itwissen-pet"}
+CAPACITOR_RATINGS = {"film-capacitor-maker-dielectric-table", "film-capacitor-encyclopedia",
+                     "film-dielectrics-blog-2010", "yang-dang-2020-iet", "energies-2023-pp-conduction", "itwissen-pet"}
 
 
 @pytest.mark.parametrize("key", ["pet-film", "pps-film", "pen-film", "polycarbonate-film", "polystyrene-film",
