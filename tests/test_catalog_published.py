@@ -1056,3 +1056,11 @@ def test_tantalum_maker_table_loss_and_drift(catalog):
     for t in (-55, 125):
         v = one(catalog, "tantalum-pentoxide", "capacitance_change", MAKER, temperature_K=t + C0)
         assert (v.low, v.high) == pytest.approx((-0.10, 0.10))
+
+
+def test_pps_film_temperature_index_maker_page(catalog):
+    """PPS film maker: UL 746B indices 160 degC mechanical and 200 degC electrical for film of 25 um and more; kept as a
+    temperature index above the 140 degC capacitor rating of the maker's comparison table."""
+    index = one(catalog, "pps-film", "temperature_index", "pps-film-maker-product-page", thickness_m=25e-6).value
+    rating = one(catalog, "pps-film", "max_temperature", MAKER).value
+    assert index == pytest.approx(200 + C0) and rating < index
