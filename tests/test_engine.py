@@ -264,8 +264,9 @@ _TENTHS = st.integers(-600, 2000).map(lambda x: x / 10)
        ebd_t=st.lists(_TENTHS, min_size=1, max_size=4, unique=True),
        lo=st.integers(-600, 1500).map(lambda x: x / 10), span=st.integers(0, 1000).map(lambda x: x / 10))
 def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, ebd_t, lo, span):
-    """Property: a candidate whose worst case reads permittivity or breakdown outside the temperatures its data
-    state carries the ``extrapolated`` flag; one read inside never does."""
+    """Property: a candidate that reads permittivity outside the temperatures its data state, or breakdown above
+    the warmest of them, is refused unless extrapolating (then flagged ``extrapolated``); breakdown below the
+    coldest is held as a lower bound and flagged ``held-cold``; one read inside is neither."""
     rows = [("relative_permittivity", 2.2 + 0.001 * t, "handbook", {"temperature_K": t + C}) for t in eps_t]
     rows += [("breakdown_field", 6e8 - 1e6 * t, "handbook", {"temperature_K": t + C, "area_m2": 1e-4})
              for t in ebd_t]
@@ -273,14 +274,18 @@ def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, 
              ("min_temperature", -100 + C, "handbook")]
     m = make_material("m", rows)
     ev = evaluate_material(m, target(tmin_K=lo + C, tmax_K=lo + span + C))
+    held = evaluate_material(m, target(tmin_K=lo + C, tmax_K=lo + span + C, extrapolate=True))
     tol = 1e-6
-    outside = any(lo < min(ts) - tol or lo + span > max(ts) + tol for ts in (eps_t, ebd_t))
-    assert ("extrapolated" in ev.flags) == outside
+    outside = lo < min(eps_t) - tol or lo + span > max(eps_t) + tol or lo + span > max(ebd_t) + tol
+    assert ("extrapolated" in held.flags) == outside
+    assert any("refused (--extrapolate" in r for r in ev.reasons) == outside
+    assert ("held-cold" in held.flags) == (lo < min(ebd_t) - tol)
 
 
-def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_strict(make_material):
-    """Breakdown measured on 3 µm film, a 400 V part sized at the design field: a layer more than 3× thicker than
-    the specimens is flagged (no thickness law stored); --strict refuses it, naming why."""
+def test_a_layer_far_from_the_tested_thickness_is_refused_unless_extrapolating(make_material):
+    """Breakdown measured on 3 µm film, a 20 kV part sized at the design field: a layer more than 10× thicker than
+    the specimens is beyond what the thickness law may carry: refused, naming why; with extrapolate it is used and
+    flagged."""
     rows = [("relative_permittivity", 2.2, "handbook"),
             ("breakdown_field", 600e6, "handbook", {"thickness_m": 3e-6, "area_m2": 1e-4}),
             ("weibull_shape", 12.0, "handbook"), ("max_temperature", 105 + C, "handbook"),
@@ -288,11 +293,13 @@ def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_stric
     m = make_material("thin-tested", rows)
     thin = evaluate_material(m, target(voltage_V=400.0, energy_J=1.0))        # a few µm: inside the factor
     assert thin.ok and "thickness-extrapolated" not in thin.flags
-    thick = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0))     # about 100 µm
+    refused = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0))     # about 140 µm
+    assert not refused.ok and "3 µm specimens" in refused.reasons[0] and "--extrapolate" in refused.reasons[0]
+    thick = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, extrapolate=True))
     assert thick.ok and "thickness-extrapolated" in thick.flags
     assert any("3 µm specimens" in a for a in thick.details["assumptions"])
     strict = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, strict=True))
-    assert not strict.ok and "--strict refuses" in strict.reasons[0] and "3 µm specimens" in strict.reasons[0]
+    assert not strict.ok and "3 µm specimens" in strict.reasons[0]
 
 
 def test_thickness_law_exponent_is_the_weibull_relative_spread_per_zhao_liu():
