@@ -77,6 +77,8 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
         carried = prop == "breakdown_field" and inp.cold[c[0]]   # held below the coldest point: a lower bound
         if lk.extrapolated[c[0]] and not extrapolate and not carried:
             raise DataError(outside_data_message(prop, lk.lo_x[c[0]], lk.hi_x[c[0]], temperature_K))
+    if inp.loop_out[0] and not extrapolate:
+        raise DataError(outside_data_message("loop energy", inp.loop_lo[0], inp.loop_hi[0], temperature_K))
     eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
     kind = int(inp.kind[0])

@@ -121,9 +121,12 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
     eps_at_worst = _Pick(eps_g, c_eps)
     bias = bias_curves(r, t_eps, eps_at_worst)
-    loops = bias_curves(r, t_eps, _Zero(m), prop="recoverable_energy_density", scale=False)
+    t_loop, loop_lo, loop_hi = _worst_loop_temperature(r, tmin_K, tmax_K)
+    loops = bias_curves(r, t_loop, _Zero(m), prop="recoverable_energy_density", scale=False)
     nonlinear = np.array([x != "linear" for x in t.responses], dtype=bool)
     kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loops.has, LOOP, UPPER_BOUND), LINEAR))
+    tol = 1e-6
+    loop_out = (kind == LOOP) & np.isfinite(loop_lo) & ((tmin_K < loop_lo - tol) | (tmax_K > loop_hi + tol))
     # Capacitance drift over temperature: an εr curve, else stated capacitance changes inside the range.
     small = r.rows_of("relative_permittivity")
     small = small[np.isnan(t.field_V_per_m[small]) | (t.field_V_per_m[small] == 0)]
@@ -141,7 +144,8 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         c_ebd=c_ebd, t_eps=t_eps, t_ebd=t_ebd, eps_v=eps_g.value[c_eps], eps_lo=eps_g.low[c_eps],
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
-        extrapolated=np.bincount(gm[eps_g.extrapolated | (ebd_g.extrapolated & ~cold)], minlength=m) > 0,
+        extrapolated=(np.bincount(gm[eps_g.extrapolated | (ebd_g.extrapolated & ~cold)], minlength=m) > 0)
+        | loop_out, loop_out=loop_out, t_loop=t_loop, loop_lo=loop_lo, loop_hi=loop_hi,
         held_cold=np.bincount(gm[cold], minlength=m) > 0, cold=cold, test_thickness=d0,
         law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0),
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
@@ -162,6 +166,41 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
         assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
+
+
+def _worst_loop_temperature(r: Reader, tmin_K: float, tmax_K: float):
+    """Per material, the temperature of the loop data to use over ``tmin_K…tmax_K`` and the span of temperatures
+    its loops state (NaN where none is stated).
+
+    Loops measured at several temperatures: the weakest of those inside the range — the lowest recoverable energy
+    per squared field at its largest field, ``u_max/E_max²`` — else the stated temperature nearest the range."""
+    t, m = r.t, r.m
+    code = t.code("recoverable_energy_density")
+    t_loop, lo, hi = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
+    if code < 0:
+        return t_loop, lo, hi
+    rows = np.flatnonzero(r.active & (t.prop == code) & np.isfinite(t.field_V_per_m) & (t.field_V_per_m > 0)
+                          & np.isfinite(t.temperature_K))
+    if not rows.size:
+        return t_loop, lo, hi
+    rm, rt, e, u = r.mat[rows], t.temperature_K[rows], t.field_V_per_m[rows], t.value[rows]
+    np.fmin.at(lo, rm, rt)
+    np.fmax.at(hi, rm, rt)
+    # the largest field of each (material, temperature), and its energy
+    o = np.lexsort((e, rt, rm))
+    rm, rt, e, u = rm[o], rt[o], e[o], u[o]
+    last = np.ones(rm.size, dtype=bool)
+    last[:-1] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])
+    rm, rt, metric = rm[last], rt[last], u[last] / (e[last] * e[last])
+    tol = 1e-6
+    inside = (rt >= tmin_K - tol) & (rt <= tmax_K + tol)
+    gap = np.where(inside, 0.0, np.minimum(np.abs(rt - tmin_K), np.abs(rt - tmax_K)))
+    # inside the range the weakest loop first; else the nearest temperature
+    o = np.lexsort((rt, np.where(inside, metric, 0.0), gap, rm))
+    first = np.ones(o.size, dtype=bool)
+    first[1:] = rm[o][1:] != rm[o][:-1]
+    t_loop[rm[o][first]] = rt[o][first]
+    return t_loop, lo, hi
 
 
 class _Zero:

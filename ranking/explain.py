@@ -120,6 +120,10 @@ def outside_notes(cols: Columns, i: int) -> list[str]:
                 far = c[np.argmax(np.maximum(lk.lo_x[c] - at, at - lk.hi_x[c]))]
                 out.append(words("extrapolated", prop=prop, lo_K=float(lk.lo_x[far]), hi_K=float(lk.hi_x[far]),
                                  at_K=float(inp.gt[far])))
+    if inp.loop_out[i]:
+        at = inp.tmin_K if inp.tmin_K < inp.loop_lo[i] else inp.tmax_K
+        out.append(words("extrapolated", prop="loop energy", lo_K=float(inp.loop_lo[i]), hi_K=float(inp.loop_hi[i]),
+                         at_K=float(at)))
     if P["thick_out"][i]:
         out.append(words("thickness-outside", thickness_m=float(P["layer"][i]),
                          test_thickness_m=float(inp.test_thickness[i]),

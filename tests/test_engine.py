@@ -355,3 +355,36 @@ def test_class_2_layers_use_the_measured_mlcc_exponent(make_material):
     # design field at 40 µm with the test area and p = 0.5: 80 V/µm · (ln 2)^(1/10) · (40/10)^-0.5
     assert ev.details["design_field_V_per_m"] == pytest.approx(80e6 * np.log(2) ** 0.1 * 0.5, rel=1e-9)
     assert "paper-mlcc-thickness-exponent" in " ".join(ev.details["assumptions"])
+
+
+def _relaxor_with_loops(make_material, loops):
+    """A nonlinear ceramic known by loop profiles ``{temperature °C: [(field V/m, recoverable J/m³)…]}``."""
+    rows = [("relative_permittivity", 1500.0, "handbook"), ("breakdown_field", 40e6, "handbook", {"area_m2": 1e-5}),
+            ("weibull_shape", 8.0, "handbook"), ("max_temperature", 150 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook")]
+    rows += [("recoverable_energy_density", u, "lab", {"field_V_per_m": e, "temperature_K": tc + C})
+             for tc, pts in loops.items() for e, u in pts]
+    return make_material("relaxor", rows, family="ceramic-bulk", response="nonlinear")
+
+
+def test_loops_at_several_temperatures_use_the_weakest_inside_the_range(make_material):
+    """Loops at 25 and 120 °C (the hotter one weaker): over 25…120 °C the 120 °C loop sets the energy, its
+    profile read at the operating field (√u linear between stored fields); over 25…60 °C the 25 °C loop does."""
+    m = _relaxor_with_loops(make_material, {25: [(10e6, 0.6e6), (20e6, 2.0e6)], 120: [(10e6, 0.4e6), (20e6, 1.5e6)]})
+    tg = dict(voltage_V=500.0, energy_J=None, area_m2=1e-4)
+    hot = evaluate_material(m, target(tmin_K=25 + C, tmax_K=120 + C, **tg))
+    cool = evaluate_material(m, target(tmin_K=25 + C, tmax_K=60 + C, **tg))
+    assert hot.ok and cool.ok
+    for ev, (u1, u2) in ((hot, (0.4e6, 1.5e6)), (cool, (0.6e6, 2.0e6))):
+        e = ev.details["operating_field_V_per_m"]
+        s = math.sqrt(u1) + (math.sqrt(u2) - math.sqrt(u1)) * (min(e, 20e6) - 10e6) / 10e6
+        assert ev.values["energy"] == pytest.approx(s * s, rel=1e-9)
+
+
+def test_a_loop_used_outside_its_temperatures_is_refused_unless_extrapolating(make_material):
+    m = _relaxor_with_loops(make_material, {25: [(10e6, 0.6e6), (20e6, 2.0e6)]})
+    tg = dict(voltage_V=500.0, energy_J=None, area_m2=1e-4, tmin_K=-40 + C, tmax_K=25 + C)
+    ev = evaluate_material(m, target(**tg))
+    assert not ev.ok and "loop energy known at 25 °C only, held at the end of its data at -40 °C" in ev.reasons[0]
+    held = evaluate_material(m, target(extrapolate=True, **tg))
+    assert held.ok and "extrapolated" in held.flags
