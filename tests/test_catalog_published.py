@@ -1064,3 +1064,12 @@ def test_pps_film_temperature_index_maker_page(catalog):
     index = one(catalog, "pps-film", "temperature_index", "pps-film-maker-product-page", thickness_m=25e-6).value
     rating = one(catalog, "pps-film", "max_temperature", MAKER).value
     assert index == pytest.approx(200 + C0) and rating < index
+
+
+def test_polyimide_film_strengths_are_film_values(catalog):
+    """The moulded-resin strength of the encyclopedia's Table II (thick specimen, thickness not printed) is not a film
+    value and would outrank the film specification (GS-96-7 Table 3) as handbook evidence, so the film record keeps
+    only film strengths: each states its thickness or is a film source's."""
+    assert not rows(catalog, "polyimide-pmda-oda", "breakdown_field", "epst-3e-thermally-stable-polymers")
+    spec = rows(catalog, "polyimide-pmda-oda", "breakdown_field", PI)
+    assert len(spec) == 6 and all(v.thickness_m and v.area_m2 for v in spec)
