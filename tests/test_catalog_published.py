@@ -1077,7 +1077,8 @@ def test_polyimide_film_strengths_are_film_values(catalog):
 
 def test_generic_class_ranges_are_not_stored_as_typical_values(catalog):
     """Callister's 'titanate ceramics' row (permittivity 15-10,000, strength 50-300 V/mil) and the class II(B) range
-    K 3000-12000 describe whole families; their midpoints are not typical values of one dielectric, so none is stored."""
+    K 3000-12000 describe whole families; their midpoints are not typical values of one dielectric, so none is
+    stored."""
     assert not rows(catalog, "barium-titanate", "relative_permittivity", "callister-8e-t18-5")
     assert not rows(catalog, "barium-titanate", "breakdown_field", "callister-8e-t18-5")
     assert not rows(catalog, "mlcc-z5u", "relative_permittivity", "ceramic-classes-page")
