@@ -221,6 +221,7 @@ CLI_DEFAULTS = {
     "frequency": ("Hz", "Hz"),
     "current": ("A", "A"),
     "ramp": ("V/s", "V/s"),
+    "pressure": ("kPa", "Pa"),
 }
 
 
