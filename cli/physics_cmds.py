@@ -155,5 +155,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
 
 
 def register(app) -> None:
+    from cli import stack_cmds
+
     app.command("ceiling")(ceiling)
     app.command("size")(size)
+    stack_cmds.register(app)

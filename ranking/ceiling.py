@@ -209,5 +209,4 @@ def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:
         rows.append(g["rows"][i])
     inp.parts["gap_rows"] = rows[0] if inp.reader.m == 1 else []
     inp.parts["gap_sources"] = sources[0] if inp.reader.m == 1 else []
-    del t
     return {**g, "notes": notes, "sources": sources, "rows": rows}

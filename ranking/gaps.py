@@ -54,8 +54,8 @@ def apply_gaps(inp, gap_m, *, pressure_Pa: float | None = None, temperature_K=No
         a, b, g = (np.where(c.present, c.value, np.nan) for c in consts)
         formula = np.array([FORMULAS.get(k, gas.NO_FORMULA) for k in t.keys], dtype=np.int64)
         ok = is_gas & np.isfinite(gap) & (gap > 0)
-        v, code = gas.gap_breakdown_voltage(np.where(ok, gap, 1.0), pressure_Pa=p,
-                                            temperature_K=np.where(np.isfinite(temp), temp, gas.REFERENCE_TEMPERATURE_K),
+        t_gas = np.where(np.isfinite(temp), temp, gas.REFERENCE_TEMPERATURE_K)
+        v, code = gas.gap_breakdown_voltage(np.where(ok, gap, 1.0), pressure_Pa=p, temperature_K=t_gas,
                                             a_per_Pa_m=a, b_V_per_Pa_m=b, gamma=g, formula=formula)
         v, code = np.atleast_1d(v), np.atleast_1d(code).astype(np.int64)
         use = ok & (code != gas.NO_LAW)
