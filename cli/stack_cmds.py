@@ -9,20 +9,6 @@ from cli.output import DefaultsOpt, JsonOpt, StrictOpt
 from cli.physics_cmds import AreaOpt, ExtrapOpt, MarginOpt, PressureOpt, ProbOpt
 
 
-def parse_layer(text: str) -> tuple[str, float]:
-    """``KEY:THICKNESS`` (µm unless a unit is given) into (key, metres)."""
-    from materials.errors import InputError
-    from materials.units import parse_option
-
-    key, sep, thick = text.partition(":")
-    if not sep or not key.strip() or not thick.strip():
-        raise InputError(f"layer '{text}': write KEY:THICKNESS, e.g. polypropylene-bopp:10um")
-    d = parse_option(thick.strip(), "thickness", name=f"layer {key.strip()}")
-    if not d > 0:
-        raise InputError(f"layer '{text}': thickness must be positive")
-    return key.strip(), d
-
-
 def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as KEY:THICKNESS (µm unless a unit), "
                                                                 "from one electrode to the other.")] = None,
           layer: Annotated[Optional[list[str]], typer.Option("--layer", help="A layer KEY:THICKNESS; repeat.")] = None,
@@ -47,7 +33,7 @@ def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as 
     from materials.errors import InputError
     from materials.sizing import CAUTION
     from materials.units import parse_option
-    from ranking.stack import evaluate_stack
+    from ranking.stack import evaluate_stack, parse_layer
 
     specs = [parse_layer(x) for x in (layers or []) + (layer or [])]
     if not voltage:

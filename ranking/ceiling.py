@@ -180,7 +180,6 @@ def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:
     from ranking.reasons import words
 
     g = apply_gaps(inp, gaps_m, pressure_Pa=pressure_Pa, temperature_K=temperature_K)
-    t = inp.reader.t
     gaps = np.broadcast_to(np.asarray(gaps_m, dtype=float), (inp.reader.m,))
     notes, sources, rows = [], [], []
     for i in range(inp.reader.m):

@@ -24,6 +24,20 @@ from materials.errors import DataError, InputError
 _FLUID = ("gas", "liquid")
 
 
+def parse_layer(text: str) -> tuple[str, float]:
+    """``KEY:THICKNESS`` (µm unless a unit is given) into (key, metres)."""
+    from materials.errors import InputError
+    from materials.units import parse_option
+
+    key, sep, thick = text.partition(":")
+    if not sep or not key.strip() or not thick.strip():
+        raise InputError(f"layer '{text}': write KEY:THICKNESS, e.g. polypropylene-bopp:10um")
+    d = parse_option(thick.strip(), "thickness", name=f"layer {key.strip()}")
+    if not d > 0:
+        raise InputError(f"layer '{text}': thickness must be positive")
+    return key.strip(), d
+
+
 def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = False, reversal: bool = False,
                    temperature_K: float, area_m2: float | None = None, failure_probability: float | None = None,
                    margin: float = 1.0, pressure_Pa: float | None = None, void_m: float | None = None,

@@ -183,3 +183,36 @@ def test_stack_cli_table_marks_the_first_layer_and_refuses_bad_layers(cli, shipp
     assert code == 2 and "KEY:THICKNESS" in err
     code, out, err = cli(["stack", "polypropylene-bopp:10um", "--voltage", "2kV", "--dc"], db=shipped)
     assert code == 2 and "volume_resistivity" in err
+
+
+def test_target_file_stack_candidate_syntax_and_its_evaluation(tmp_path, cli, shipped):
+    # a layered candidate in a target file: film + impregnant, read in SI and evaluated by the stack command's engine
+    from db.query import load_materials
+    from materials.errors import InputError
+    from ranking.stack import evaluate_stack
+    from ranking.target import load_target
+
+    f = tmp_path / "t.toml"
+    f.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n\n[[stack]]\n'
+                 'name = "film + impregnant"\nlayers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5 um"]\n')
+    t = load_target(f)
+    assert t.stacks == (("film + impregnant", (("polypropylene-bopp", 10e-6), ("mineral-transformer-oil", 5e-6))),)
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n\n[[stack]]\nlayers = ["pp"]\n')
+    with pytest.raises(InputError, match="bad.toml.*KEY:THICKNESS"):
+        load_target(bad)
+    code, _, err = cli(["catalog"], db=shipped)       # make sure the store is built
+    assert code == 0, err
+    from cli import state
+
+    state.set_url(shipped)
+    try:
+        with state.store().session(read_only=True) as s:
+            mats = {m.key: m for m in load_materials(s, [k for k, _ in t.stacks[0][1]])}
+    finally:
+        state.reset()
+    res = evaluate_stack([mats[k] for k, _ in t.stacks[0][1]], [d for _, d in t.stacks[0][1]],
+                         voltage_V=t.voltage_V, temperature_K=t.tmin_K, extrapolate=True)
+    # both εr 2.2: 2 kV over 15 µm = 133.3 V/µm in each layer
+    np.testing.assert_allclose([ly["field_ac_V_per_m"] for ly in res["layers"]], [2000 / 15e-6] * 2, rtol=1e-3)
+    assert res["first_to_fail"] == "mineral-transformer-oil"
