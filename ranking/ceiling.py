@@ -117,7 +117,7 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
             raise DataError(f"{material.key}: " + words("shape-missing"))
         shape = float(inp.beta[0])
         notes.append(words("assumed-shape", shape=shape, family=material.family))
-    if area_m2 is not None and test_area is None:
+    if area_m2 is not None and test_area is None and not gas:
         if not assume_defaults:
             raise DataError(f"{material.key}: " + words("test-area-missing"))
         test_area = float(inp.test_area[0])

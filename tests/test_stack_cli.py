@@ -4,6 +4,7 @@ figures (source named beside each check)."""
 from __future__ import annotations
 
 import json
+import math
 
 import numpy as np
 import pytest
@@ -216,3 +217,22 @@ def test_target_file_stack_candidate_syntax_and_its_evaluation(tmp_path, cli, sh
     # both εr 2.2: 2 kV over 15 µm = 133.3 V/µm in each layer
     np.testing.assert_allclose([ly["field_ac_V_per_m"] for ly in res["layers"]], [2000 / 15e-6] * 2, rtol=1e-3)
     assert res["first_to_fail"] == "mineral-transformer-oil"
+
+
+def test_engine_never_scales_a_gas_by_area(make_material):
+    # A gas gap's strength is set by gap and pressure (Paschen); the weakest-link area law (IEEE Std 930) applies to
+    # the solid: at 1 m² against the 1 cm² test area with β = 10 the film falls by 10^(4/10) = 2.512, the gas not.
+    from materials.table import ValueTable
+    from ranking.engine import evaluate
+    from ranking.target import Target
+
+    rows = [("relative_permittivity", 1.0006, "handbook"), ("breakdown_field", 3e6, "handbook", {"area_m2": 1e-4}),
+            ("weibull_shape", 10.0, "handbook")]
+    g = make_material("g", rows, family="gas")
+    f = make_material("f", rows, family="polymer-film")
+    tab = ValueTable.from_materials([g, f])
+    target = Target(voltage_V=100.0, tmin_K=298.15, tmax_K=298.15, area_m2=1.0, failure_probability=0.5)
+    ed = evaluate(tab, target, thickness_m=1e-3).parts["ed"]
+    base = 3e6 * math.log(2) ** 0.1
+    assert ed[0] == pytest.approx(base, rel=1e-12)
+    assert ed[1] == pytest.approx(base / 10 ** 0.4, rel=1e-12)
