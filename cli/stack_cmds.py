@@ -26,9 +26,13 @@ def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as 
           pressure: PressureOpt = None,
           void: Annotated[Optional[str], typer.Option("--void", help="Flat gas void (µm unless a unit) in each "
                                                       "solid layer: partial-discharge inception voltage.")] = None,
+          target: Annotated[Optional[str], typer.Option("--target", help="Evaluate the [[stack]] candidates of a "
+                                                        "target file at its voltage and temperature range.")] = None,
           extrapolate: ExtrapOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
           json_out: JsonOpt = False):
     """Fields in each layer of a series stack, each layer's margin to its own breakdown, the first to fail."""
+    if target:
+        return _candidates(target, extrapolate=extrapolate, strict=strict, json_out=json_out)
     from db.query import load_materials
     from materials.errors import InputError
     from materials.sizing import CAUTION
@@ -73,6 +77,42 @@ def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as 
         print_json(res)
         return
     _render(res)
+
+
+def _candidates(path: str, *, extrapolate: bool, strict: bool, json_out: bool):
+    """The layered candidates of a target file, each at the worse end of the target's temperature range."""
+    from dataclasses import replace
+    from pathlib import Path
+
+    from db.query import load_materials
+    from materials.errors import InputError
+    from materials.sizing import CAUTION
+    from ranking.stack import evaluate_candidates
+    from ranking.target import load_target
+
+    tg = load_target(Path(path))
+    if strict:
+        tg = replace(tg, strict=True)
+    if not tg.stacks:
+        raise InputError("no [[stack]] tables", file=path, field="stack")
+    keys = list(dict.fromkeys(k for _, layers in tg.stacks for k, _ in layers))
+    with state.store().session(read_only=True) as s:
+        mats = {m.key: m for m in load_materials(s, keys)}
+    rows = evaluate_candidates(tg, mats, extrapolate=extrapolate)
+    if json_out:
+        from cli.output import print_json
+
+        print_json({"target": tg.to_dict(), "stacks": rows, "cautions": [CAUTION]})
+        return
+    from cli.output import caution, table
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
+
+    body = [[r["name"], " / ".join(f"{ly['key']} {fmt_number(ly['thickness_m'] * 1e6)} µm" for ly in r["layers"]),
+             r["first_to_fail"], fmt_quantity(r["stack_breakdown_V"], "V", "V"), fmt_celsius(r["worst_temperature_K"]),
+             "yes" if r["holds"] else "no", fmt_number(r["energy_density_J_per_m3"] / 1e6)] for r in rows]
+    table(["stack", "layers", "fails first", "at", "worst T", f"holds {fmt_number(tg.voltage_V)} V", "J/cm³"], body,
+          right={3, 6}, title=f"layered candidates of {path}")
+    caution([CAUTION])
 
 
 def _gap_options(gap, pressure):

@@ -183,3 +183,27 @@ def _void(d, eps, keys, families, *, void_m, void_gas, pressure_Pa, temperature_
         raise InputError("no solid layer is thicker than the void")
     return {"pd_inception_V": best, "pd_layer": keys[where], "void_gas": void_gas.key,
             "void_breakdown_V": float(vb), "void_law": gas.LAW_NAMES[int(law)]}
+
+
+def evaluate_candidates(target, materials: dict, *, extrapolate: bool = False) -> list[dict]:
+    """Each layered candidate of ``target`` (its ``[[stack]]`` tables) at the target's voltage, area, failure
+    probability and margin, at both ends of its temperature range: the worse end decides. Adds per candidate
+    ``name``, ``holds`` (the first failure lies at or above the target voltage), ``energy_density_J_per_m3`` (the
+    stack's stored energy over its dielectric volume) and ``worst_temperature_K``."""
+    out = []
+    for name, layers in target.stacks:
+        missing = [k for k, _ in layers if k not in materials]
+        if missing:
+            raise DataError(f"stack '{name}': no material '{missing[0]}'")
+        ends = []
+        for t_K in dict.fromkeys((target.tmin_K, target.tmax_K)):
+            ends.append(evaluate_stack([materials[k] for k, _ in layers], [d for _, d in layers],
+                                       voltage_V=target.voltage_V, temperature_K=t_K, area_m2=target.area_m2,
+                                       failure_probability=target.failure_probability, margin=target.margin,
+                                       assume_defaults=target.assume_defaults, extrapolate=extrapolate))
+        worst = min(ends, key=lambda r: r["stack_breakdown_V"])
+        total = sum(d for _, d in layers)
+        out.append({"name": name, **worst, "worst_temperature_K": worst["temperature_K"],
+                    "holds": worst["stack_breakdown_V"] >= target.voltage_V,
+                    "energy_density_J_per_m3": worst["energy_per_area_J_per_m2"] / total})
+    return out

@@ -236,3 +236,21 @@ def test_engine_never_scales_a_gas_by_area(make_material):
     base = 3e6 * math.log(2) ** 0.1
     assert ed[0] == pytest.approx(base, rel=1e-12)
     assert ed[1] == pytest.approx(base / 10 ** 0.4, rel=1e-12)
+
+
+def test_stack_cli_evaluates_a_target_files_layered_candidates(tmp_path, cli, shipped):
+    # each [[stack]] at the target's voltage, at both ends of its temperature range; the worse end decides, and
+    # the energy density is the stack's ½·C·V² per area over its total thickness (here 2 kV over 15 µm of εr 2.2 at
+    # 25 °C: ½·ε0·2.2·(2 kV/15 µm)² = 0.1731 J/cm³ when both layers hold εr 2.2)
+    f = tmp_path / "t.toml"
+    f.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n\n[[stack]]\n'
+                 'name = "film + impregnant"\nlayers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5um"]\n')
+    code, out, err = cli(["stack", "--target", f, "--extrapolate", "--json"], db=shipped)
+    assert code == 0, err
+    (row,) = json.loads(out)["stacks"]
+    assert row["name"] == "film + impregnant" and row["first_to_fail"] == "mineral-transformer-oil"
+    assert row["holds"] is (row["stack_breakdown_V"] >= 2000)
+    assert row["energy_density_J_per_m3"] == pytest.approx(0.5 * EPS0 * 2.2 * (2000 / 15e-6) ** 2, rel=2e-3)
+    f.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n')
+    code, out, err = cli(["stack", "--target", f], db=shipped)
+    assert code == 2 and "stack" in err
