@@ -161,6 +161,7 @@ def _at_gap(inp, material, *, temperature_K, area_m2, failure_probability, margi
     import math
 
     from ranking.engine import evaluate
+    from ranking.explain import law_notes
     from ranking.target import Target
 
     fixed = apply_gap_laws(inp, [gap_m], pressure_Pa=pressure_Pa, temperature_K=temperature_K)
@@ -168,14 +169,15 @@ def _at_gap(inp, material, *, temperature_K, area_m2, failure_probability, margi
                     failure_probability=failure_probability if failure_probability is not None
                     else -math.expm1(-1.0), assume_defaults=assume_defaults)
     cols = evaluate(inp, target, thickness_m=gap_m)
-    return fixed["notes"][0], float(cols.parts["scale_d"][0]), float(cols.parts["ed"][0])
+    return fixed["notes"][0] + law_notes(cols, 0), float(cols.parts["scale_d"][0]), float(cols.parts["ed"][0])
 
 
 def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:
-    """Apply :func:`ranking.gaps.apply_gaps` and say, per material, which law carried its breakdown to its gap."""
+    """Apply :func:`ranking.gaps.apply_gaps` and say, per material, which gas law gave its breakdown at its gap (the
+    engine's :func:`ranking.explain.law_notes` say how a liquid or solid was carried there)."""
     import numpy as np
 
-    from materials.priors import LAW_FACTOR, LIQUID_TEST_GAP, STRESSED_VOLUME
+    from materials.priors import LIQUID_TEST_GAP
     from ranking.gaps import FORMULA_SOURCES, apply_gaps, law_name
     from ranking.reasons import words
 
@@ -192,17 +194,10 @@ def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:
                 s.append(FORMULA_SOURCES[code][0])
         elif g["gas"][i]:
             n.append(words("gas-no-law"))
-        if g["liquid"][i]:
-            if g["gap_assumed"][i]:
-                n.append(words("liquid-gap-assumed", thickness_m=LIQUID_TEST_GAP.typical))
-                s.append(LIQUID_TEST_GAP.source)
-            d0 = float(inp.test_thickness[i])
-            n.append(words("thickness-scaled", test_thickness_m=d0, thickness_m=float(gaps[i]),
-                           n=float(inp.law_n[i]), source=STRESSED_VOLUME[0]))
-            if abs(np.log(gaps[i] / d0)) > np.log(LAW_FACTOR):
-                n.append(words("thickness-outside", test_thickness_m=d0, thickness_m=float(gaps[i]),
-                               factor=LAW_FACTOR))
-            s.append(STRESSED_VOLUME[0])
+        if g["gap_assumed"][i]:
+            s.append(LIQUID_TEST_GAP.source)
+        if g["liquid"][i] and inp.has_law[i]:
+            s.append(inp.law_source[i])
         notes.append(n)
         sources.append(s)
         rows.append(g["rows"][i])

@@ -29,7 +29,8 @@ import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
 from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
-from materials.priors import LAW_FACTOR, NO_AREA_LAW, TEST_AREA, shape_priors, thickness_exponents
+from materials.priors import (LAW_FACTOR, LIQUID_TEST_GAP, NO_AREA_LAW, TEST_AREA, shape_priors,
+                              thickness_exponents)
 from materials.sizing import failure_probability
 from materials.table import ValueTable
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
@@ -98,6 +99,10 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
     d0 = np.fmax(np.where(u0 >= 0, t.thickness_m[np.maximum(u0, 0)], np.nan),
                  np.where(u1 >= 0, t.thickness_m[np.maximum(u1, 0)], np.nan))
+    # A liquid's figure without its gap is taken at the quality-test gap (assumed), so the stressed-volume law and
+    # its flags apply at any other gap.
+    gap_assumed = np.array([f == "liquid" for f in t.families], dtype=bool) & ~np.isfinite(d0)
+    d0 = np.where(gap_assumed, LIQUID_TEST_GAP.typical, d0)
     a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
     a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
@@ -129,7 +134,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
         extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0, test_thickness=d0,
-        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0),
+        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0), gap_assumed=gap_assumed,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),

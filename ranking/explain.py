@@ -105,9 +105,24 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     """What candidate ``i``'s numbers assume: values held outside their data, an assumed Weibull shape or test area
     (with the stated range the Monte Carlo draws over)."""
     inp = cols.parts["inputs"]
+    out = [words("extrapolated")] if inp.extrapolated[i] else []
+    out += law_notes(cols, i)
+    if not inp.shape_found[i]:
+        out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
+    if not inp.area_found[i]:
+        out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
+    return out
+
+
+def law_notes(cols: Columns, i: int) -> list[str]:
+    """How candidate ``i``'s breakdown was carried to its layer: an assumed liquid test gap, the thickness (or
+    stressed-volume) law, or a layer beyond what the law may carry."""
+    from materials.priors import LIQUID_TEST_GAP
+
+    inp = cols.parts["inputs"]
     out = []
-    if inp.extrapolated[i]:
-        out.append(words("extrapolated"))
+    if inp.gap_assumed[i]:
+        out.append(words("liquid-gap-assumed", thickness_m=LIQUID_TEST_GAP.typical))
     if cols.parts["scaled"][i] and not cols.parts["thick_out"][i]:
         out.append(words("thickness-scaled", thickness_m=float(cols.parts["d"][i]),
                          test_thickness_m=float(inp.test_thickness[i]), n=float(inp.law_n[i]),
@@ -116,10 +131,6 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
         out.append(words("thickness-outside", thickness_m=float(cols.parts["d"][i]),
                          test_thickness_m=float(inp.test_thickness[i]),
                          factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR))
-    if not inp.shape_found[i]:
-        out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
-    if not inp.area_found[i]:
-        out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
     return out
 
 
@@ -160,6 +171,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("assumed-shape")
     if not inp.area_found[i]:
         ev.flags.append("assumed-test-area")
+    if inp.gap_assumed[i]:
+        ev.flags.append("assumed-gap")
     if inp.lent[i]:
         ev.flags.append("shape-lent")
     if P["thick_out"][i]:
@@ -172,11 +185,12 @@ def explain(cols: Columns, i: int) -> Evaluation:
     beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
     add("energy", *eps_rows, *ebd_rows, *beta_rows)
     # the stated priors and laws the numbers rest on, by their source keys (materials.priors)
-    from materials.priors import TEST_AREA, shape_prior
+    from materials.priors import LIQUID_TEST_GAP, TEST_AREA, shape_prior
 
     laws = ([shape_prior(t.families[i]).source] if not inp.shape_found[i] else []) + \
         ([TEST_AREA.source] if not inp.area_found[i] else []) + \
-        ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else [])
+        ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else []) + \
+        ([LIQUID_TEST_GAP.source] if inp.gap_assumed[i] else [])
     for name in ("energy", "volume", "mass"):
         lst = ev.sources.setdefault(name, [])
         lst.extend(k for k in laws if k not in lst)

@@ -5,8 +5,8 @@
   :func:`materials.gas.gap_breakdown_voltage`. It replaces the stored gas row (whose gap may be another one) and
   is never area-scaled (the engine's ``no_area_law``).
 * A liquid's breakdown is carried to the gap by the engine's thickness law, which for liquids is the stressed-
-  volume law ``n = 1/β`` (:data:`materials.priors.STRESSED_VOLUME`). A liquid figure that states no gap is taken
-  at the quality-test gap of :data:`materials.priors.LIQUID_TEST_GAP` and marked assumed.
+  volume law ``n = 1/β`` (:data:`materials.priors.STRESSED_VOLUME`); the engine takes a liquid figure that states
+  no gap at the quality-test gap of :data:`materials.priors.LIQUID_TEST_GAP` (``gap_assumed``).
 
 Arrays in and out; :func:`apply_gaps` edits the columns of an :class:`ranking.engine.Inputs` in place.
 """
@@ -17,7 +17,6 @@ import numpy as np
 
 from materials import gas
 from materials.gas import REFERENCE_PRESSURE_PA
-from materials.priors import LIQUID_TEST_GAP
 
 #: Which published formula holds above the Townsend range, by material key.
 FORMULAS = {"air": gas.AIR, "sf6": gas.SF6}
@@ -65,12 +64,7 @@ def apply_gaps(inp, gap_m, *, pressure_Pa: float | None = None, temperature_K=No
         law = np.where(use, code, -1)
         for i in np.flatnonzero(use & np.isin(code, (gas.PASCHEN, gas.PASCHEN_BEYOND))):
             rows[i] = [int(c.used0[i]) for c in consts if c.used0[i] >= 0]
-    d0 = inp.test_thickness
-    gap_assumed = is_liquid & ~np.isfinite(d0)
-    if gap_assumed.any():
-        inp.parts["test_thickness"] = np.where(gap_assumed, LIQUID_TEST_GAP.typical, d0)
-        inp.parts["has_law"] = np.isfinite(inp.law_n) & np.isfinite(inp.test_thickness)
-    return {"law": law, "gas": is_gas, "liquid": is_liquid, "gap_assumed": gap_assumed, "rows": rows}
+    return {"law": law, "gas": is_gas, "liquid": is_liquid, "gap_assumed": inp.gap_assumed, "rows": rows}
 
 
 def law_name(code: int) -> str:

@@ -53,6 +53,7 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
     from materials.table import ValueTable
     from ranking.ceiling import apply_gap_laws, check_inputs
     from ranking.engine import evaluate, worst_inputs
+    from ranking.explain import law_notes
     from ranking.target import Target
 
     d = np.asarray(thicknesses_m, dtype=float)
@@ -131,7 +132,7 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
             "field_V_per_m": float(worst[i]), "breakdown_V_per_m": float(scale[i]),
             "design_field_V_per_m": float(ed[i]), "margin": float(margins[i]),
             "fails_at_V": float(voltage_V * margins[i]), "law": _law(i, gaps, P, inp), "flags": flags,
-            "notes": gaps["notes"][i], "sources": srcs})
+            "notes": gaps["notes"][i] + law_notes(cols, i), "sources": srcs})
     out = {
         "layers": layers, "voltage_V": float(voltage_V), "mode": "reversal" if reversal else "dc" if dc else "ac",
         "temperature_K": float(temperature_K), "area_m2": area_m2, "failure_probability": p, "margin": margin,
