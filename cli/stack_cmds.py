@@ -1,5 +1,6 @@
 """``holdoff stack``: the field in each layer of a series stack and which layer fails first."""
 
+import math
 from typing import Annotated, Optional
 
 import typer
@@ -124,6 +125,7 @@ def _gap_options(gap, pressure):
 def _render(res: dict) -> None:
     from cli.output import caution, say, table
     from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
+    from ranking.reasons import words
     from ranking.report.model import LEGEND, MARKS
 
     cases = [c for c in ("ac", "dc", "reversal") if f"field_{c}_V_per_m" in res["layers"][0]]
@@ -160,7 +162,10 @@ def _render(res: dict) -> None:
     if res["time_constants_s"]:
         say("interfacial (Maxwell-Wagner) time constants: "
             + ", ".join(fmt_quantity(x, "s", "s") for x in res["time_constants_s"]))
-    if res["pd_inception_V"] is not None:
+    if res.get("void_law") == "left-of-Paschen-asymptote":
+        say(f"void {fmt_number(res['void_m'] * 1e6)} µm of {res['void_gas']}: " + words(
+            "gas-gap-law", gap_m=res["void_m"], field_V_per_m=math.inf, law=res["void_law"]))
+    elif res["pd_inception_V"] is not None:
         say(f"void {fmt_number(res['void_m'] * 1e6)} µm of {res['void_gas']} ({res['void_law']}, "
             f"{fmt_number(res['void_breakdown_V'])} V across it): partial discharges start at "
             f"{fmt_quantity(res['pd_inception_V'], 'V', 'V')} (void in {res['pd_layer']})")

@@ -124,9 +124,11 @@ def sf6_breakdown_field(*, pressure_Pa, temperature_K=REFERENCE_TEMPERATURE_K):
 # --- choosing the law for a gap -------------------------------------------------------------------------------
 
 #: Laws a gas gap's breakdown may come from (codes in the arrays :func:`gap_breakdown_voltage` returns).
-PASCHEN, PASCHEN_BEYOND, AIR_FORMULA, SF6_STREAMER, NO_LAW = 0, 1, 2, 3, 4
+PASCHEN, PASCHEN_BEYOND, AIR_FORMULA, SF6_STREAMER, NO_LAW, LEFT_OF_ASYMPTOTE = 0, 1, 2, 3, 4, 5
 LAW_NAMES = {PASCHEN: "Paschen", PASCHEN_BEYOND: "Paschen-beyond-fit", AIR_FORMULA: "air-formula",
-             SF6_STREAMER: "SF6-streamer", NO_LAW: "none"}
+             SF6_STREAMER: "SF6-streamer", NO_LAW: "none", LEFT_OF_ASYMPTOTE: "left-of-Paschen-asymptote"}
+#: Laws whose answer is used outside what they were fitted or derived for (flagged wherever they are shown).
+BEYOND_LAWS = (PASCHEN_BEYOND, LEFT_OF_ASYMPTOTE)
 #: Above-Townsend formulas per gas: none, the air engineering formula, the SF6 limiting field.
 NO_FORMULA, AIR, SF6 = 0, 1, 2
 
@@ -143,8 +145,10 @@ def gap_breakdown_voltage(gap_m, *, pressure_Pa, temperature_K, a_per_Pa_m, b_V_
     Inside the Townsend range of the stored constants (breakdown ``E/p`` at or above
     :data:`TOWNSEND_MIN_E_OVER_P_V_PER_PA_M`) Paschen's law; above it the air engineering formula
     (:func:`air_breakdown_voltage`) for air, the limiting field (:func:`sf6_breakdown_field`) for SF6, and
-    otherwise Paschen's law carried beyond its fit (``PASCHEN_BEYOND``, to be flagged). A gas without Townsend
-    constants takes its formula everywhere; one with neither gets NaN and ``NO_LAW``.
+    otherwise Paschen's law carried beyond its fit (``PASCHEN_BEYOND``, to be flagged). Left of the Paschen
+    asymptote Townsend's criterion cannot be met: the voltage is infinite and the law ``LEFT_OF_ASYMPTOTE`` (to be
+    flagged: gaps of a few µm and less break down by field emission, which Paschen's law does not describe). A gas
+    without Townsend constants takes its formula everywhere; one with neither gets NaN and ``NO_LAW``.
 
     Args:
         gap_m: gap (m); pressure_Pa, temperature_K: the gas's state.
@@ -170,6 +174,6 @@ def gap_breakdown_voltage(gap_m, *, pressure_Pa, temperature_K, a_per_Pa_m, b_V_
     v_sf6 = sf6_breakdown_field(pressure_Pa=p, temperature_K=t) * d
     v = np.where(inside, np.where(np.isnan(v_p), np.inf, v_p),
                  np.where(f == AIR, v_air, np.where(f == SF6, v_sf6, v_p)))
-    law = np.where(inside, PASCHEN, np.where(f == AIR, AIR_FORMULA, np.where(
-        f == SF6, SF6_STREAMER, np.where(has, PASCHEN_BEYOND, NO_LAW))))
+    above = np.where(f == AIR, AIR_FORMULA, np.where(f == SF6, SF6_STREAMER, np.where(has, PASCHEN_BEYOND, NO_LAW)))
+    law = np.where(inside, np.where(np.isnan(v_p), LEFT_OF_ASYMPTOTE, PASCHEN), above)
     return _out(v), _out(law)

@@ -62,7 +62,7 @@ def check_inputs(inp, i: int, *, key: str, temperature_K: float, extrapolate: bo
         if not has[i]:
             raise DataError(f"{key} has no {prop}")
         if lk.extrapolated[c[i]] and not extrapolate:
-            raise DataError(outside_data_message(prop, lk.lo_x[c[i]], lk.hi_x[c[i]], temperature_K))
+            raise DataError(f"{key}: " + outside_data_message(prop, lk.lo_x[c[i]], lk.hi_x[c[i]], temperature_K))
 
 
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,

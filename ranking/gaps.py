@@ -61,8 +61,10 @@ def apply_gaps(inp, gap_m, *, pressure_Pa: float | None = None, temperature_K=No
         e = np.where(use, v / np.where(ok, gap, 1.0), np.nan)
         for k in ("ebd_v", "ebd_lo", "ebd_hi"):
             inp.parts[k] = np.where(use, e, inp.parts[k])
+        # the law gives the breakdown at the gap itself: nothing is carried from the stored row's gap
+        inp.parts["test_thickness"] = np.where(use, gap, inp.test_thickness)
         law = np.where(use, code, -1)
-        for i in np.flatnonzero(use & np.isin(code, (gas.PASCHEN, gas.PASCHEN_BEYOND))):
+        for i in np.flatnonzero(use & np.isin(code, (gas.PASCHEN, gas.PASCHEN_BEYOND, gas.LEFT_OF_ASYMPTOTE))):
             rows[i] = [int(c.used0[i]) for c in consts if c.used0[i] >= 0]
     return {"law": law, "gas": is_gas, "liquid": is_liquid, "gap_assumed": inp.gap_assumed, "rows": rows}
 

@@ -85,7 +85,10 @@ TEXT = {
     "gas-stored-gap": lambda q: (f"gas breakdown as stored for a {q['thickness_m'] * 1e3:g} mm gap; give --gap (and "
                                  "--pressure) for another gap" if q["thickness_m"] == q["thickness_m"] else
                                  "gas breakdown as stored, gap not stated; give --gap (and --pressure)"),
-    "gas-gap-law": lambda q: (f"gas gap {_um(q['gap_m'])}: {_vum(q['field_V_per_m'])} by {q['law']}"
+    "gas-gap-law": lambda q: (f"gas gap {_um(q['gap_m'])}: "
+                              + (f"{_vum(q['field_V_per_m'])} by {q['law']}" if q["law"] != "left-of-Paschen-asymptote"
+                                 else "left of the Paschen asymptote, no Townsend breakdown; gaps of a few µm and "
+                                      "less break down by field emission, which this law does not bound")
                               + (" (Townsend constants used beyond their fitted E/p range)"
                                  if q["law"] == "Paschen-beyond-fit" else "")),
     "gas-no-law": lambda q: "no Townsend constants or published formula stored for this gas: breakdown as stored",

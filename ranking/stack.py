@@ -18,6 +18,7 @@ import math
 
 import numpy as np
 
+from materials import gas
 from materials.errors import DataError, InputError
 
 #: Families whose layer can hold a gas void (a solid).
@@ -123,7 +124,7 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
         flags = sorted(kd for kd in kinds if kd in FLAG_KINDS)
         if assumed or gaps["gap_assumed"][i]:
             flags.append("assumed")
-        if inp.extrapolated[i] or P["thick_out"][i] or gaps["law"][i] == 1:
+        if inp.extrapolated[i] or P["thick_out"][i] or gaps["law"][i] in gas.BEYOND_LAWS:
             flags.append("extrapolated")
         layers.append({
             "key": k, "family": t.families[i], "thickness_m": float(d[i]), "relative_permittivity": float(eps[i]),
@@ -159,7 +160,6 @@ def _law(i, gaps, P, inp) -> str:
 
 def _void(d, eps, keys, families, *, void_m, void_gas, pressure_Pa, temperature_K, reader_of, pd_inception_voltage):
     """The lowest partial-discharge inception voltage over the solid layers able to hold the void."""
-    from materials import gas
     from ranking.gaps import FORMULAS
 
     if void_gas is None:
@@ -173,6 +173,9 @@ def _void(d, eps, keys, families, *, void_m, void_gas, pressure_Pa, temperature_
                                         b_V_per_Pa_m=b, gamma=g, formula=formula)
     if int(law) == gas.NO_LAW:
         raise DataError(f"{void_gas.key}: no Townsend constants or published formula for the void's gas")
+    found = {"void_gas": void_gas.key, "void_breakdown_V": float(vb), "void_law": gas.LAW_NAMES[int(law)]}
+    if not math.isfinite(vb):
+        return {**found, "pd_inception_V": None, "pd_layer": None}
     best, where = math.inf, None
     for i in range(d.size):
         if families[i] in _FLUID or not void_m < d[i]:
@@ -182,8 +185,7 @@ def _void(d, eps, keys, families, *, void_m, void_gas, pressure_Pa, temperature_
             best, where = v, i
     if where is None:
         raise InputError("no solid layer is thicker than the void")
-    return {"pd_inception_V": best, "pd_layer": keys[where], "void_gas": void_gas.key,
-            "void_breakdown_V": float(vb), "void_law": gas.LAW_NAMES[int(law)]}
+    return {**found, "pd_inception_V": best, "pd_layer": keys[where]}
 
 
 def evaluate_candidates(target, materials: dict, *, extrapolate: bool = False) -> list[dict]:

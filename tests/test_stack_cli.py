@@ -264,3 +264,19 @@ def test_liquid_within_the_laws_reach_names_the_stressed_volume_exponent(cli, sh
     (row,) = json.loads(out)
     assert "n = 0.1 (common-practice-stressed-liquid-volume)" in " ".join(row["notes"])
     assert row["breakdown_field_V_per_m"] == pytest.approx(12.5e6 * 2.5 ** 0.1, rel=1e-9)
+
+
+def test_gap_left_of_the_paschen_asymptote_is_flagged_not_trusted(cli, shipped):
+    # 2 µm of air at 80 kPa: A·pd = 11.25·0.16 = 1.8 < ln(1 + 1/γ) = 4.6, so Townsend's criterion cannot be met
+    # (Raizer 1991 §4.2); the stack keeps the layer but flags it, and the void reports no inception
+    code, out, err = cli(["stack", "pet-film:10um", "--gap", "2um", "--pressure", "80", "--void", "2um",
+                          "--voltage", "300", "--extrapolate", "--json"], db=shipped)
+    assert code == 0, err
+    res = json.loads(out)
+    air = res["layers"][1]
+    assert air["law"] == "left-of-Paschen-asymptote" and "extrapolated" in air["flags"]
+    assert air["margin"] is None and "field emission" in " ".join(air["notes"])
+    assert res["first_to_fail"] == "pet-film" and res["pd_inception_V"] is None
+    assert res["void_law"] == "left-of-Paschen-asymptote"
+    code, out, err = cli(["stack", "pet-film:10um", "--voltage", "300", "--temp", "300"], db=shipped)
+    assert code == 2 and err.startswith("holdoff: error: pet-film: ")
