@@ -6,8 +6,8 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, StrictOpt
-from cli.physics_cmds import AreaOpt, ExtrapOpt, MarginOpt, PressureOpt, ProbOpt
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, StrictOpt
+from cli.physics_cmds import AreaOpt, MarginOpt, PressureOpt, ProbOpt
 
 
 def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as KEY:THICKNESS (µm unless a unit), "
@@ -29,7 +29,7 @@ def stack(layers: Annotated[Optional[list[str]], typer.Argument(help="Layers as 
                                                       "solid layer: partial-discharge inception voltage.")] = None,
           target: Annotated[Optional[str], typer.Option("--target", help="Evaluate the [[stack]] candidates of a "
                                                         "target file at its voltage and temperature range.")] = None,
-          extrapolate: ExtrapOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
+          extrapolate: ExtrapolateOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
           json_out: JsonOpt = False):
     """Fields in each layer of a series stack, each layer's margin to its own breakdown, the first to fail."""
     if target:

@@ -53,16 +53,21 @@ def _one(material: MaterialData, temperature_K: float, assume_defaults: bool):
 
 
 def check_inputs(inp, i: int, *, key: str, temperature_K: float, extrapolate: bool) -> None:
-    """Refuse material ``i`` of the engine's inputs without a permittivity or a breakdown field, or with one held
-    outside its temperatures (unless ``extrapolate``)."""
+    """Refuse material ``i`` of the engine's inputs without a permittivity or a breakdown field, or with one (or its
+    loop) held outside its temperatures (unless ``extrapolate``; breakdown held below its coldest point is a lower
+    bound and passes)."""
     from materials.lookup import outside_data_message
 
     for prop, has, lk, c in (("relative_permittivity", inp.eps_has, inp.eps_g, inp.c_eps),
                              ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
         if not has[i]:
             raise DataError(f"{key} has no {prop}")
-        if lk.extrapolated[c[i]] and not extrapolate:
+        carried = prop == "breakdown_field" and inp.cold[c[i]]   # held below the coldest point: a lower bound
+        if lk.extrapolated[c[i]] and not extrapolate and not carried:
             raise DataError(f"{key}: " + outside_data_message(prop, lk.lo_x[c[i]], lk.hi_x[c[i]], temperature_K))
+    if inp.loop_out[i] and not extrapolate:
+        raise DataError(f"{key}: " + outside_data_message("loop energy", inp.loop_lo[i], inp.loop_hi[i],
+                                                          temperature_K))
 
 
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,
@@ -101,7 +106,8 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     if gap_m is not None:
         gap_notes, ebd, fixed_design = _at_gap(inp, material, temperature_K=temperature_K, area_m2=area_m2,
                                                failure_probability=failure_probability, margin=margin,
-                                               gap_m=gap_m, pressure_Pa=pressure_Pa, assume_defaults=assume_defaults)
+                                               gap_m=gap_m, pressure_Pa=pressure_Pa, assume_defaults=assume_defaults,
+                                               extrapolate=extrapolate)
         notes += gap_notes
         ceiling = float(linear_energy_density(eps, ebd)) if kind not in (BIAS, LOOP) else \
             float(energy_density(inp, [0], [min(ebd, top)])[0])
@@ -145,6 +151,11 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     rows += getattr(inp, "gap_rows", [])
     srcs = list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0))
     srcs += [k for k in getattr(inp, "gap_sources", []) if k not in srcs]
+    if inp.held_cold[0]:
+        from materials.priors import COLD_HOLD
+
+        notes.append(words("held-cold", coldest_K=float(inp.ebd_g.lo_x[inp.c_ebd[0]]), source=COLD_HOLD[0]))
+        srcs.append(COLD_HOLD[0])
     if method == "linear-upper-bound":
         notes.append(words("linear-upper-bound"))
     if method == "loop":
@@ -152,11 +163,12 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     return Ceiling(key=material.key, temperature_K=temperature_K, relative_permittivity=eps,
                    breakdown_field_V_per_m=ebd, ceiling_J_per_m3=ceiling, design_field_V_per_m=e_design,
                    design_J_per_m3=u_design, weibull_shape=shape, test_area_m2=test_area,
-                   extrapolated=bool(inp.extrapolated[0]), sources=srcs, notes=notes, method=method)
+                   extrapolated=bool(inp.extrapolated[0] or inp.held_cold[0]), sources=srcs, notes=notes,
+                   method=method)
 
 
 def _at_gap(inp, material, *, temperature_K, area_m2, failure_probability, margin, gap_m, pressure_Pa,
-            assume_defaults):
+            assume_defaults, extrapolate):
     """(notes, breakdown at the gap, design field at the gap) of material 0 of ``inp``, by the engine's laws."""
     import math
 
@@ -167,9 +179,19 @@ def _at_gap(inp, material, *, temperature_K, area_m2, failure_probability, margi
     fixed = apply_gap_laws(inp, [gap_m], pressure_Pa=pressure_Pa, temperature_K=temperature_K)
     target = Target(voltage_V=1.0, tmin_K=temperature_K, tmax_K=temperature_K, margin=margin, area_m2=area_m2,
                     failure_probability=failure_probability if failure_probability is not None
-                    else -math.expm1(-1.0), assume_defaults=assume_defaults)
+                    else -math.expm1(-1.0), assume_defaults=assume_defaults, extrapolate=extrapolate)
     cols = evaluate(inp, target, thickness_m=gap_m)
+    refuse_outside(cols, [material.key])
     return fixed["notes"][0] + law_notes(cols, 0), float(cols.parts["scale_d"][0]), float(cols.parts["ed"][0])
+
+
+def refuse_outside(cols, keys) -> None:
+    """Refuse the first candidate the engine found outside its data (a temperature, or a layer beyond what a law may
+    carry) when the target does not extrapolate, naming it and why."""
+    from ranking.explain import outside_notes
+
+    for i in map(int, (cols.fails["outside-data"]).nonzero()[0][:1]):
+        raise DataError(f"{keys[i]}: " + "; ".join(outside_notes(cols, i)) + " (ask for extrapolation to use it)")
 
 
 def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:

@@ -52,7 +52,7 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
     from materials.stack import (layer_fields, maxwell_wagner_time_constants, pd_inception_voltage,
                                  polarity_reversal_fields, stack_capacitance_per_area, stack_energy_per_area)
     from materials.table import ValueTable
-    from ranking.ceiling import apply_gap_laws, check_inputs
+    from ranking.ceiling import apply_gap_laws, check_inputs, refuse_outside
     from ranking.engine import evaluate, worst_inputs
     from ranking.explain import law_notes
     from ranking.target import Target
@@ -74,8 +74,9 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
     gaps = apply_gap_laws(inp, d, pressure_Pa=pressure_Pa, temperature_K=temperature_K)
     p = failure_probability if failure_probability is not None else -math.expm1(-1.0)
     target = Target(voltage_V=voltage_V, tmin_K=temperature_K, tmax_K=temperature_K, margin=margin,
-                    area_m2=area_m2, failure_probability=p, assume_defaults=assume_defaults)
+                    area_m2=area_m2, failure_probability=p, assume_defaults=assume_defaults, extrapolate=extrapolate)
     cols = evaluate(inp, target, thickness_m=d)
+    refuse_outside(cols, keys)
     P = cols.parts
     eps = inp.eps_v.astype(float)
     res = inp.reader.at("volume_resistivity", temperature_K)
@@ -203,7 +204,8 @@ def evaluate_candidates(target, materials: dict, *, extrapolate: bool = False) -
             ends.append(evaluate_stack([materials[k] for k, _ in layers], [d for _, d in layers],
                                        voltage_V=target.voltage_V, temperature_K=t_K, area_m2=target.area_m2,
                                        failure_probability=target.failure_probability, margin=target.margin,
-                                       assume_defaults=target.assume_defaults, extrapolate=extrapolate))
+                                       assume_defaults=target.assume_defaults,
+                                       extrapolate=extrapolate or target.extrapolate))
         worst = min(ends, key=lambda r: r["stack_breakdown_V"])
         total = sum(d for _, d in layers)
         out.append({"name": name, **worst, "worst_temperature_K": worst["temperature_K"],

@@ -141,8 +141,11 @@ def test_ceiling_air_follows_the_gap_and_is_never_area_scaled(cli, shipped):
 
 
 def test_ceiling_liquid_at_a_gap_says_its_law_and_flags_the_assumed_gap(cli, shipped):
-    code, out, err = cli(["ceiling", "mineral-transformer-oil", "silicone-fluid", "--gap", "5um", "--json"],
-                         db=shipped)
+    # 500× from the assumed gap is beyond the law's 10× reach: refused with the reason, used only when asked
+    code, out, err = cli(["ceiling", "mineral-transformer-oil", "--gap", "5um"], db=shipped)
+    assert code == 2 and "more than 10×" in err and "extrapolat" in err
+    code, out, err = cli(["ceiling", "mineral-transformer-oil", "silicone-fluid", "--gap", "5um", "--extrapolate",
+                          "--json"], db=shipped)
     assert code == 0, err
     for row in json.loads(out):
         notes = " ".join(row["notes"])
