@@ -105,15 +105,36 @@ def _candidates(path: str, *, extrapolate: bool, strict: bool, json_out: bool):
 
         print_json({"target": tg.to_dict(), "stacks": rows, "cautions": [CAUTION]})
         return
-    from cli.output import caution, table
+    from cli.output import caution
+
+    render_candidates(rows, voltage_V=tg.voltage_V, title=f"layered candidates of {path}")
+    caution([CAUTION])
+
+
+def render_candidates(rows: list[dict], *, voltage_V: float, title: str) -> None:
+    """The table of layered candidates (``ranking.stack.evaluate_candidates``)."""
+    from cli.output import table
     from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
     body = [[r["name"], " / ".join(f"{ly['key']} {fmt_number(ly['thickness_m'] * 1e6)} µm" for ly in r["layers"]),
              r["first_to_fail"], fmt_quantity(r["stack_breakdown_V"], "V", "V"), fmt_celsius(r["worst_temperature_K"]),
              "yes" if r["holds"] else "no", fmt_number(r["energy_density_J_per_m3"] / 1e6)] for r in rows]
-    table(["stack", "layers", "fails first", "at", "worst T", f"holds {fmt_number(tg.voltage_V)} V", "J/cm³"], body,
-          right={3, 6}, title=f"layered candidates of {path}")
-    caution([CAUTION])
+    table(["stack", "layers", "fails first", "at", "worst T", f"holds {fmt_number(voltage_V)} V", "J/cm³"], body,
+          right={3, 6}, title=title)
+
+
+def shortlist_candidates(target, table) -> list[dict]:
+    """The target's layered candidates, from the materials of the shortlist's value table."""
+    from materials.errors import DataError
+    from ranking.stack import evaluate_candidates
+
+    index = {k: i for i, k in enumerate(table.keys)}
+    keys = list(dict.fromkeys(k for _, layers in target.stacks for k, _ in layers))
+    missing = [k for k in keys if k not in index]
+    if missing:
+        raise DataError(f"stack candidate: no material '{missing[0]}' in the store")
+    mats = dict(zip(keys, table.materials([index[k] for k in keys]), strict=True))
+    return evaluate_candidates(target, mats)
 
 
 def _gap_options(gap, pressure):

@@ -283,3 +283,20 @@ def test_gap_left_of_the_paschen_asymptote_is_flagged_not_trusted(cli, shipped):
     assert res["void_law"] == "left-of-Paschen-asymptote"
     code, out, err = cli(["stack", "pet-film:10um", "--voltage", "300", "--temp", "300"], db=shipped)
     assert code == 2 and err.startswith("holdoff: error: pet-film: ")
+
+
+def test_shortlist_reports_a_target_files_layered_candidates_beside_the_ranking(tmp_path, cli, shipped):
+    # the same evaluation as `stack --target` (fixed layers at the target's voltage): PET 10 µm + PTFE 20 µm at 1 kV
+    # carries 24.7 V/µm in the PET and 37.6 V/µm in the PTFE (εr 3.2 and 2.1, Σd/ε = 12.65 µm)
+    f = tmp_path / "t.toml"
+    f.write_text('[target]\nvoltage = "1 kV"\ntmin = "25 degC"\ntmax = "25 degC"\nenergy = "10 J"\n'
+                 'extrapolate = true\n\n[[stack]]\nlayers = ["pet-film:10um", "ptfe-film:20um"]\n')
+    code, out, err = cli(["shortlist", "--target", f, "--draws", "50", "--json"], db=shipped)
+    assert code == 0, err
+    (row,) = json.loads(out)["stacks"]
+    assert row["name"] == "pet-film + ptfe-film"
+    s = 10e-6 / 3.2 + 20e-6 / 2.1
+    np.testing.assert_allclose([ly["field_ac_V_per_m"] for ly in row["layers"]], [1000 / (3.2 * s), 1000 / (2.1 * s)],
+                               rtol=1e-3)
+    code, out, err = cli(["shortlist", "--target", f, "--draws", "50", "--top", "2"], db=shipped)
+    assert code == 0 and "layered candidates (fixed layers)" in out and "pet-film + ptfe-film" in out
