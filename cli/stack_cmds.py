@@ -189,7 +189,8 @@ def _render(res: dict) -> None:
     elif res["pd_inception_V"] is not None:
         say(f"void {fmt_number(res['void_m'] * 1e6)} µm of {res['void_gas']} ({res['void_law']}, "
             f"{fmt_number(res['void_breakdown_V'])} V across it): partial discharges start at "
-            f"{fmt_quantity(res['pd_inception_V'], 'V', 'V')} (void in {res['pd_layer']})")
+            f"{fmt_quantity(res['pd_inception_V'], 'V', 'V')} (void in {res['pd_layer']}; capacitive division, as "
+            "under AC or just after a DC step)")
     for ly in res["layers"]:
         for n in ly["notes"]:
             say(f"note ({ly['key']}): {n}")
