@@ -839,23 +839,20 @@ def test_mlcc_activation_energy_scientific_reports_2024(catalog):
     assert v.value / ev == pytest.approx(1.5)
 
 
-def test_air_townsend_constants_bazelyan_raizer(catalog):
-    """Bazelyan & Raizer, Spark Discharge, p. 32: air A = 15 1/(cm Torr), B = 365 V/(cm Torr), γ = 0.01; the
-    encyclopedia's kPa constants (112.50, 2737.50) are the same numbers."""
-    torr = 101325 / 760
-    a = one(catalog, "air", "townsend_a", "bazelyan-raizer-spark-discharge").value
-    b = one(catalog, "air", "townsend_b", "bazelyan-raizer-spark-discharge").value
-    assert a == pytest.approx(15 / (0.01 * torr)) and b == pytest.approx(365 / (0.01 * torr))
-    assert one(catalog, "air", "secondary_emission", "bazelyan-raizer-spark-discharge").value == 0.01
+def test_air_townsend_constants_encyclopedia_agrees_with_lux_notes(catalog):
+    """Encyclopedia 'Paschen's law': air A = 112.50 1/(kPa cm), B = 2737.50 V/(kPa cm), the same numbers as the
+    15 1/(cm Torr) and 365 V/(cm Torr) of the Lux notes (after Bazelyan p. 32) once Torr is converted to kPa."""
+    a = one(catalog, "air", "townsend_a", "lux-paschen-notes").value
+    b = one(catalog, "air", "townsend_b", "lux-paschen-notes").value
     assert one(catalog, "air", "townsend_a", "paschen-law-encyclopedia").value == pytest.approx(a, rel=1e-3)
     assert one(catalog, "air", "townsend_b", "paschen-law-encyclopedia").value == pytest.approx(b, rel=1e-3)
 
 
 def test_air_paschen_constant_c_as_printed(catalog):
-    """Same page: C = A / ln(1 + 1/γ) printed as 1.18 for air (in cm and Torr)."""
+    """Lux notes (after Bazelyan p. 32): C = A / ln(1 + 1/γ) printed as 1.18 for air (in cm and Torr)."""
     torr = 101325 / 760
-    a = one(catalog, "air", "townsend_a", "bazelyan-raizer-spark-discharge").value * 0.01 * torr
-    g = one(catalog, "air", "secondary_emission", "bazelyan-raizer-spark-discharge").value
+    a = one(catalog, "air", "townsend_a", "lux-paschen-notes").value * 0.01 * torr
+    g = one(catalog, "air", "secondary_emission", "lux-paschen-notes").value
     assert math.log(a / math.log(1 + 1 / g)) == pytest.approx(1.18, abs=0.01)
 
 
@@ -1083,3 +1080,20 @@ def test_generic_class_ranges_are_not_stored_as_typical_values(catalog):
     assert not rows(catalog, "barium-titanate", "breakdown_field", "callister-8e-t18-5")
     assert not rows(catalog, "mlcc-z5u", "relative_permittivity", "ceramic-classes-page")
     assert not rows(catalog, "mlcc-u2j", "relative_permittivity", "ceramic-classes-page")
+
+
+def test_air_townsend_constants_lux_notes_after_bazelyan(catalog):
+    # Lux, 'Paschen's law' notes (from Bazelyan p. 32): air A = 15 /(cm·Torr), B = 365 V/(cm·Torr), γ = 1e-2
+    cm_torr = 0.01 * 101325.0 / 760.0
+    assert one(catalog, "air", "townsend_a", "lux-paschen-notes").value * cm_torr == pytest.approx(15.0)
+    assert one(catalog, "air", "townsend_b", "lux-paschen-notes").value * cm_torr == pytest.approx(365.0)
+    assert one(catalog, "air", "secondary_emission", "lux-paschen-notes").value == 0.01
+
+
+def test_nitrogen_townsend_constants_lieberman_lichtenberg_table_14_1(catalog):
+    # Lieberman & Lichtenberg (2005) Table 14.1: N2 A = 11.8 /(cm·Torr), B = 325 V/(cm·Torr)
+    cm_torr = 0.01 * 101325.0 / 760.0
+    assert one(catalog, "nitrogen", "townsend_a", "lieberman-lichtenberg-2005-t14-1").value * cm_torr == \
+        pytest.approx(11.8)
+    assert one(catalog, "nitrogen", "townsend_b", "lieberman-lichtenberg-2005-t14-1").value * cm_torr == \
+        pytest.approx(325.0)
