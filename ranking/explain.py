@@ -258,6 +258,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("no-area-scaling")
     code, q = binding(cols, i)
     ev.binding = words(code, **q)
+    if P["sections"][i] > 1:
+        ev.binding += ", " + words("binding-sections", sections=float(P["sections"][i]), layer_m=float(P["layer"][i]))
     for name in CRITERIA_NAMES:
         v = float(cols.values[name][i])
         if v == v:

@@ -72,6 +72,7 @@ TEXT = {
                                         f"{_vum(q['design_V_per_m'])}"),
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
+    "binding-sections": lambda q: f"as {q['sections']:g} series sections of {_um(q['layer_m'])}",
     # notes on assumptions
     "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
     "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
