@@ -37,6 +37,9 @@ SI_UNITS = {
     "V/s": "volt / second",
     "1/(Pa m)": "1 / pascal / meter",
     "V/(Pa m)": "volt / pascal / meter",
+    "s": "second",
+    "ohm": "ohm",
+    "K/W": "kelvin / watt",
 }
 
 # Typed spellings rewritten to pint's before any lookup, in this order. tests/test_units.py converts every form
@@ -221,6 +224,10 @@ CLI_DEFAULTS = {
     "frequency": ("Hz", "Hz"),
     "current": ("A", "A"),
     "ramp": ("V/s", "V/s"),
+    "capacitance": ("uF", "F"),
+    "time": ("h", "s"),
+    "resistance": ("ohm", "ohm"),
+    "thermal_resistance": ("K/W", "K/W"),
 }
 
 
