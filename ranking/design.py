@@ -84,9 +84,10 @@ def small_signal_permittivity(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
     return np.where(b, inp.curves.permittivity(np.where(b, idx, 0), e_V_per_m), out) if b.any() else out
 
 
-def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
+def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live, log_k=None) -> dict:
     """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
-    its design field), a self-consistent size for the target energy, or the design field alone."""
+    its design field), a self-consistent size for the target energy, or the design field alone. ``log_k`` (per
+    row) replaces the short-term constant ``ln K`` of ``E_d = K·A^(−1/β)`` by another law of that form (life)."""
     m = inp.reader.m
     everyone = inp.everyone
     no = np.zeros(m, dtype=bool)
@@ -101,7 +102,8 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     log_d0 = np.where(has_law, np.log(np.where(has_law, inp.test_thickness, 1.0)), 0.0)
     log_v = np.log(V)
     with np.errstate(all="ignore"):
-        log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
+        if log_k is None:
+            log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
 
         def e_design(area, d):
             return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta - nn * (np.log(d) - log_d0))

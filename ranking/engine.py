@@ -35,6 +35,7 @@ from materials.table import ValueTable
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
     BIAS, LINEAR, LOOP, MAX_AREA_M2, METHOD_NAMES, THICKNESS_FACTOR, TOL, UPPER_BOUND, _design, charge_density,
     energy_density, small_signal_permittivity)
+from ranking.service import b_life_at, design_for_service
 
 
 @dataclass
@@ -55,17 +56,19 @@ class Inputs:
 
 def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, frequency_Hz: float | None = None,
                  assume_defaults: bool = False) -> Inputs:
-    """The worst case of every material over the range (see the module docstring)."""
+    """The worst case of every material over the range (see the module docstring). ``tmax_K`` may be one per
+    material (a hot spot above the target's range)."""
     r = table if isinstance(table, Reader) else Reader(table)
     t, m, mat = r.t, r.m, r.mat
     everyone = np.arange(m)
     P: dict = {}
+    top = np.broadcast_to(np.asarray(tmax_K, dtype=float), (m,))
     # The grid: both ends and every εr / breakdown / loss point strictly inside (any of their rows counts).
-    pts_m, pts_t = [everyone, everyone], [np.full(m, float(tmin_K)), np.full(m, float(tmax_K))]
+    pts_m, pts_t = [everyone, everyone], [np.full(m, float(tmin_K)), top.copy()]
     for prop in ("relative_permittivity", "breakdown_field", "loss_tangent"):
         rows = r.rows_of(prop)
         tt = t.temperature_K[rows]
-        inner = (tt > tmin_K) & (tt < tmax_K)
+        inner = (tt > tmin_K) & (tt < top[mat[rows]])
         pts_m.append(mat[rows][inner])
         pts_t.append(tt[inner])
     gm, gt = np.concatenate(pts_m), np.concatenate(pts_t)
@@ -120,7 +123,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         d_t_eps = grid(np.abs(eps_g.value / ref.value[gm] - 1), -np.inf).max(axis=1)
     cc = r.rows_of("capacitance_change")
     ct, ce = t.temperature_K[cc], t.field_V_per_m[cc]
-    cc = cc[np.isfinite(ct) & (ct >= tmin_K - 1e-6) & (ct <= tmax_K + 1e-6) & (np.isnan(ce) | (ce == 0))]
+    cc = cc[np.isfinite(ct) & (ct >= tmin_K - 1e-6) & (ct <= top[mat[cc]] + 1e-6) & (np.isnan(ce) | (ce == 0))]
     d_t_cc = np.full(m, -np.inf)
     np.maximum.at(d_t_cc, mat[cc], np.abs(t.value[cc]))
     P.update(
@@ -147,6 +150,23 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
         assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
+
+
+def inputs_for(table: ValueTable | Reader, target) -> Inputs:
+    """:func:`worst_inputs` for a target: over ``tmin … max(tmax, hot spot)`` when a ripple current heats the
+    part, with the hot spot (:func:`ranking.service.hot_spots`) and the life exponents
+    (:func:`ranking.service.life_exponents`) of every material among the parts (``heat``, ``life``)."""
+    from ranking import service
+
+    r = table if isinstance(table, Reader) else Reader(table)
+    heat = service.hot_spots(r, target) if target.ripple else None
+    top = target.tmax_K if heat is None else np.fmax(target.tmax_K, np.where(heat["steady"], heat["temperature_K"],
+                                                                             target.tmax_K))
+    inp = worst_inputs(r, tmin_K=target.tmin_K, tmax_K=top, frequency_Hz=target.frequency_Hz,
+                       assume_defaults=target.assume_defaults)
+    inp.parts["heat"] = heat
+    inp.parts["life"] = service.life_exponents(r, r.t.families) if target.life_s is not None else None
+    return inp
 
 
 class _Zero:
@@ -187,9 +207,10 @@ STAGES = (
     ("shape-missing",),
     ("test-area-missing",),
     ("value-invalid",),
-    ("shape-too-low",),
+    ("heat-unknown", "thermal-runaway", "hot-spot-over-rating"),
+    ("shape-too-low", "life-no-size"),
     ("thinner-than-made",),
-    ("over-design-field", "no-size", "area-impractical", "above-loop"),
+    ("over-design-field", "no-size", "area-impractical", "above-loop", "life-short"),
     ("strict-outside-data",),
     ("energy-short", "loss-over", "loss-missing"),
 )
@@ -212,9 +233,7 @@ class Columns:
 
 def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = None) -> Columns:
     """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`)."""
-    inp = table if isinstance(table, Inputs) else worst_inputs(
-        table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
-        assume_defaults=target.assume_defaults)
+    inp = table if isinstance(table, Inputs) else inputs_for(table, target)
     t, m = inp.reader.t, inp.reader.m
     everyone = inp.everyone
     fails: dict[str, np.ndarray] = {}
@@ -243,11 +262,14 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
     fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~has_seg
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
-    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
+    heat, life = inp.parts.get("heat"), inp.parts.get("life")
+    fails.update(_heat_fails(inp, heat, no))
+    des = design_for_service(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
     scale_d = des["scale_d"]
-    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
-        fails[code] = des[code]
+    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical", "life-short",
+                 "life-no-size"):
+        fails[code] = des.get(code, no)
     with np.errstate(invalid="ignore"):
         fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
         d0 = inp.test_thickness
@@ -257,12 +279,14 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     fails["strict-outside-data"] = (inp.extrapolated | thick_out) & bool(getattr(target, "strict", False))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
-    assumed = ~inp.shape_found | ~inp.area_found
+    # A life rests on a stated ramp time and, without a stored exponent, on the family's prior: assumptions too.
+    assumed = ~inp.shape_found | ~inp.area_found | (des["life_has"] if life is not None else no)
     u_ends = []
     if assumed.any():
-        for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
-            end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
-                          test_area=np.where(assumed, a, test_area), seg=seg, live=live & assumed & (b > 1))
+        for end_i, (b, a) in enumerate(((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi))):
+            end = design_for_service(inp, target, thickness_m, beta=np.where(assumed, b, beta),
+                                     test_area=np.where(assumed, a, test_area), seg=seg,
+                                     live=live & assumed & (b > 1), end=end_i)
             u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
     with np.errstate(all="ignore"):
         fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
@@ -317,8 +341,25 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     out.parts = dict(inputs=inp, target=target, thick_out=thick_out, scaled=scaled, scale_d=scale_d,
                      log_k_d=des["log_k_d"], thickness_m=thickness_m, seg=seg,
                      has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
-                     fail=fail, iterations=its, log_k=log_k)
+                     fail=fail, iterations=its, log_k=log_k, heat=heat, life=life,
+                     **{k: des[k] for k in ("life_has", "life_binds", "life_n", "ramp_time", "e_life") if k in des})
+    if life is not None:
+        with np.errstate(all="ignore"):
+            out.parts["b_life"] = b_life_at(field_V_per_m=e_op, scale_V_per_m=scale_d, beta=beta,
+                                            test_area_m2=test_area, area_m2=link, n=des["life_n"],
+                                            ramp_time_s=des["ramp_time"], fraction=target.life_fraction)
     return out
+
+
+def _heat_fails(inp: Inputs, heat, no) -> dict:
+    """The heat rules: no loss tangent to heat by, no steady hot spot, a hot spot above the rated maximum."""
+    if heat is None:
+        return {"heat-unknown": no, "thermal-runaway": no, "hot-spot-over-rating": no}
+    rated = inp.rated["max_temperature"]
+    with np.errstate(invalid="ignore"):
+        over = heat["steady"] & rated.present & (heat["temperature_K"] > rated.value + 1e-6)
+    return {"heat-unknown": ~heat["has_loss"], "thermal-runaway": heat["has_loss"] & ~heat["steady"],
+            "hot-spot-over-rating": heat["has_loss"] & over}
 
 
 def _confidence(inp: Inputs) -> np.ndarray:
