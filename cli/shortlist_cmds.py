@@ -7,7 +7,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, StrictOpt
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
 from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, RippleOpt, SeriesResistanceOpt,
                               ThermalResistanceOpt)
 
@@ -56,6 +56,8 @@ def shortlist(
     life: LifeOpt = None,
     life_fraction: LifeFractionOpt = None,
     strict: StrictOpt = False,
+    extrapolate: ExtrapolateOpt = False,
+    sections: SectionsOpt = None,
     assume_defaults: DefaultsOpt = False,
     draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws for p_top.")] = 1000,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
@@ -79,6 +81,7 @@ def shortlist(
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
                             families=family, thicknesses=thickness, weights=weights, strict=strict,
+                            extrapolate=extrapolate, max_sections=sections,
                             capacitance=capacitance, ripple=ripple, series_resistance=series_resistance,
                             thermal_resistance=thermal_resistance, ambient=ambient, life=life,
                             life_fraction=life_fraction)

@@ -13,7 +13,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
                   tmax_K: float, failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
                   frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None, capacitance_F=None,
                   ripple=(), series_resistance_ohm: float = 0.0, thermal_resistance_K_per_W=None, ambient_K=None,
-                  life_s=None, life_fraction: float = 0.01, packing_factor: float | None = None) -> dict:
+                  life_s=None, life_fraction: float = 0.01, packing_factor: float | None = None,
+                  strict: bool = False, extrapolate: bool = False, max_sections: int = 1) -> dict:
     """Size ``material`` for ``energy_J`` (or ``capacitance_F``) at ``voltage_V`` over ``tmin_K…tmax_K``: the
     ``size`` JSON contract.
 
@@ -51,7 +52,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
                     failure_probability=failure_probability, margin=margin, segment_area_m2=segment_area_m2,
                     frequency_Hz=frequency_Hz, assume_defaults=assume_defaults, ripple=ripple if heated else (),
                     series_resistance_ohm=series_resistance_ohm, thermal_resistance_K_per_W=thermal_resistance_K_per_W,
-                    ambient_K=ambient_K, life_s=life_s, life_fraction=life_fraction)
+                    ambient_K=ambient_K, life_s=life_s, life_fraction=life_fraction, strict=strict,
+                    extrapolate=extrapolate, max_sections=max_sections)
     energy_J = target.energy_J
     cols = evaluate(ValueTable.from_materials([material]), target)
     notes = []
@@ -65,6 +67,7 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
     e_op = voltage_V / d
     u = float(energy_density(inp, [0], [e_op])[0])
     seg = float(P["seg"][0]) if P["has_seg"][0] else None
+    n_sec = int(P["sections"][0])
     res_notes = assumption_notes(cols, 0)
     if seg:
         res_notes.append(_SEGMENT_NOTE)
@@ -78,7 +81,9 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
                   shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k_d"][0]),
                   limited_by="min_thickness" if P["at_min"][0] else "breakdown",
                   iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=None,
-                  frequency=frequency_Hz, notes=res_notes, segment_area=seg)
+                  frequency=frequency_Hz, notes=res_notes,
+                  # the weakest link: one segment, or the area of every series section
+                  segment_area=seg if seg else (area * n_sec if n_sec > 1 else None))
     small_c = EPSILON_0 * small * area / d
     dissipated = None
     if heated:
@@ -102,7 +107,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
            **res.as_dict(), "worst_temperature_K": float(inp.t_ebd[0]),
            "worst_permittivity_temperature_K": float(inp.t_eps[0]), "relative_permittivity": float(inp.eps_v[0]),
            "breakdown_field_V_per_m": float(inp.ebd_v[0]), "weibull_shape": float(inp.beta[0]),
-           "test_area_m2": float(inp.test_area[0]),
+           "test_area_m2": float(inp.test_area[0]), "sections": n_sec,
+           "layer_thickness_m": float(P["layer"][0]),
            "sources": list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0)), "flags": flags}
     out["notes"] = notes + list(out["notes"]) + [n for n in assumption_notes(cols, 0) if n not in res_notes]
     out["cautions"] = [CAUTION]

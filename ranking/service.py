@@ -170,11 +170,14 @@ def design_for_service(inp, target, thickness_m, *, beta, test_area, seg, live, 
     with np.errstate(all="ignore"):
         log_d0 = np.where(inp.has_law, np.log(np.where(inp.has_law, inp.test_thickness, 1.0)), 0.0)
 
-        def e_life(area, d):
+        def e_life(area, d, n_sec):
+            """E_L at a design; n series sections span n·A and the thickness law reads d/n (as the design)."""
             link = np.where(has_seg, seg, np.where(np.isfinite(area), area, test_area))
-            return np.exp(log_k_l - np.log(link) / beta_l - nn * (np.log(d) - log_d0))
+            log_n = np.log(n_sec)
+            return np.exp(log_k_l - (np.log(link) + log_n) / beta_l - nn * (np.log(d) - log_n - log_d0))
 
-        short = e_life(des["area"], des["d"])
+        ones = np.ones(n.shape)
+        short = e_life(des["area"], des["d"], des.get("sections", ones))
         out = dict(des)
         if thickness_m is not None:
             out["life-short"] = has & (des["e_op"] > short * (1 + TOL))
@@ -184,12 +187,16 @@ def design_for_service(inp, target, thickness_m, *, beta, test_area, seg, live, 
             lf = _design(inp, target, thickness_m, beta=np.where(has, beta_l, beta), test_area=test_area, seg=seg,
                          live=live & has & ~no_size, log_k=np.where(has, log_k_l, des["log_k"]))
             binds = has & ~no_size & (short < des["ed"] * (1 - TOL))
-            for k in ("d", "area", "e_op", "u_op", "its", "no-size", "area-impractical"):
-                out[k] = np.where(binds, lf[k], des[k])
+            for k in ("d", "area", "e_op", "u_op", "its", "no-size", "area-impractical", "thicker-than-made",
+                      "sections", "layer"):
+                if k in des:
+                    out[k] = np.where(binds, lf[k], des[k])
+            log_n = np.log(out.get("sections", ones))
             shift = nn * (np.log(out["d"]) - log_d0)
-            out["scale_d"], out["log_k_d"] = inp.ebd_v * np.exp(-shift), des["log_k"] - shift
-            out["ed"] = np.where(binds, e_life(out["area"], out["d"]), des["ed"])
+            out["scale_d"], out["log_k_d"] = inp.ebd_v * np.exp(-(shift - nn * log_n)), des["log_k"] - shift
+            out["ed"] = np.where(binds, e_life(out["area"], out["d"], out.get("sections", ones)), des["ed"])
             out["life-short"] = np.zeros(n.shape, dtype=bool)
         out.update({"life-no-size": no_size, "life_has": has, "life_binds": binds, "life_n": n,
-                    "ramp_time": np.full(n.shape, t_r), "e_life": e_life(out["area"], out["d"])})
+                    "ramp_time": np.full(n.shape, t_r),
+                    "e_life": e_life(out["area"], out["d"], out.get("sections", ones))})
     return out
