@@ -27,7 +27,7 @@ def _vum(e: float) -> str:
 
 
 def _h(t_s: float) -> str:
-    return f"{t_s / 3600:.4g} h"
+    return f"{t_s / 3600:,.6g} h"
 
 
 TEXT = {
@@ -86,7 +86,7 @@ TEXT = {
                                         f"{_vum(q['design_V_per_m'])}"),
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
-    "binding-life": lambda q: (f"life: {_h(q['life_s'])} at {q['fraction']:g} failed needs {_vum(q['life_V_per_m'])}"
+    "binding-life": lambda q: (f"life: {_h(q['life_s'])} with {q['fraction']:.3g} failed needs {_vum(q['life_V_per_m'])}"
                                f" (short-term design {_vum(q['short_V_per_m'])}; n {q['n']:.3g})"),
     "binding-heat": lambda q: (f"heat: breakdown at the hot spot {_c(q['breakdown_K'])} "
                                f"({_vum(q['breakdown_V_per_m'])} → design {_vum(q['design_V_per_m'])})"),

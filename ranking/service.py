@@ -90,10 +90,12 @@ def hot_spots(r, target) -> dict:
     steady = np.atleast_1d(np.asarray(hs.steady, dtype=bool))
     p0 = np.atleast_1d(ripple_losses(temperature_K=np.full(m, amb), **common))
     at = np.where(steady, theta, amb)
-    p_up = np.atleast_1d(ripple_losses(temperature_K=at + 0.5, **common))
-    p_dn = np.atleast_1d(ripple_losses(temperature_K=np.maximum(at - 0.5, amb), **common))
+    # the growth rate over one step of the loss table either side (a finer difference would read the slope of
+    # one linear piece of the table rather than the growth of the losses)
+    p_up = np.atleast_1d(ripple_losses(temperature_K=at + step, **common))
+    p_dn = np.atleast_1d(ripple_losses(temperature_K=np.maximum(at - step, amb), **common))
     with np.errstate(all="ignore"):
-        a = np.log(p_up / p_dn) / (at + 0.5 - np.maximum(at - 0.5, amb))
+        a = np.log(p_up / p_dn) / (at + step - np.maximum(at - step, amb))
         margin = np.where(a > 1e-12, 1.0 / (math.e * a * rth * p0), np.inf)
     margin = np.where(steady, margin, 0.0)
     tand_hot = tan_delta(freq, at[:, None]).max(axis=-1) if freq.size else np.zeros(m)
