@@ -87,7 +87,8 @@ TEXT = {
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
     "binding-life": lambda q: (f"life: {_h(q['life_s'])} with {q['fraction']:.3g} failed needs "
-                               f"{_vum(q['life_V_per_m'])} (short-term design {_vum(q['short_V_per_m'])}; n {q['n']:.3g})"),
+                               f"{_vum(q['life_V_per_m'])} (short-term design {_vum(q['short_V_per_m'])}; "
+                               f"n {q['n']:.3g})"),
     "binding-heat": lambda q: (f"heat: breakdown at the hot spot {_c(q['breakdown_K'])} "
                                f"({_vum(q['breakdown_V_per_m'])} → design {_vum(q['design_V_per_m'])})"),
     # notes on assumptions
