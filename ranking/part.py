@@ -37,8 +37,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
 
     if tmin_K > tmax_K:
         raise InputError("--tmin is above --tmax")
-    if (energy_J is None) == (capacitance_F is None):
-        raise InputError("give either --energy or --capacitance")
+    if energy_J is None and capacitance_F is None:
+        raise InputError("size needs --energy or --capacitance")
     if packing_factor is not None and not 0 < packing_factor <= 1:
         raise InputError("packing factor must lie in (0, 1]", field="--packing-factor")
     if ripple_current_A is not None:
@@ -119,6 +119,7 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
     out.update(service_details(cols, 0))
     if P.get("life_binds") is not None and P["life_binds"][0]:
         out["design_field_V_per_m"] = float(P["ed"][0])
+        out["limited_by"] = "life"
     if heated:
         out["dissipated_power_W"] = dissipated
     if P.get("life") is not None and P["life_has"][0] and not P["life"]["found"][0]:

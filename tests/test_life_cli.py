@@ -154,3 +154,36 @@ def test_bundle_carries_endurance_sets_byte_for_byte(cli, tmp_path, load2):
     assert cli(["db", "load", first], db=other, catalog=LAB_CATALOG)[0] == 0
     assert cli(["db", "dump", second], db=other, catalog=LAB_CATALOG)[0] == 0
     assert second.read_bytes() == first.read_bytes()
+
+
+def test_size_and_shortlist_json_carry_the_service_figures(cli):
+    # The catalog's BOPP with an invented ripple, thermal path and life: the JSON carries the hot spot (ambient +
+    # R_th·P), the dissipated power with I²·R_s, the B-life at the operating point (life × margin^n at a
+    # life-bound design, margin 1 here) and the binding limit.
+    args = ["size", "polypropylene-bopp", "--capacitance", "250uF", "--voltage", "800", "--tmin", "-40", "--tmax",
+            "85", "--ripple", "60A@10kHz", "--series-resistance", "1mohm", "--thermal-resistance", "2",
+            "--life", "30000h", "--json"]
+    code, out, err = cli(args)
+    assert code == 0, err
+    d = json.loads(out)
+    assert d["energy_J"] == pytest.approx(0.5 * 250e-6 * 800 ** 2)
+    assert d["hot_spot_K"] == pytest.approx(85 + 273.15 + 2.0 * d["dissipated_power_W"], rel=1e-9)
+    assert d["dissipated_power_W"] > 3600 * 1e-3
+    assert d["binding_limit"] == "life" and d["limited_by"] == "life"
+    assert d["b_life_s"] == pytest.approx(30000 * HOUR, rel=1e-6)
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-life-target.toml", "--draws", "50", "--json"])
+    assert code == 0, err
+    res = json.loads(out)
+    top = res["ranked"][0]["design"]
+    assert {"hot_spot_K", "runaway_margin", "b_life_s", "binding_limit"} <= set(top)
+    assert res["target"]["life_s"] == 30000 * HOUR and len(res["target"]["ripple"]) == 2
+
+
+def test_life_options_refuse_bad_input_with_one_line(cli):
+    code, _, err = cli(["size", "polypropylene-bopp", "--energy", "80", "--capacitance", "250uF", "--voltage",
+                        "800"])
+    assert code == 2 and err.strip().splitlines() == ["holdoff: error: give either an energy or a capacitance, "
+                                                      "not both"]
+    code, _, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "85", "--energy", "80",
+                        "--ripple", "50A@10kHz"])
+    assert code == 2 and "thermal resistance" in err and len(err.strip().splitlines()) == 1
