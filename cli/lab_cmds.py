@@ -202,7 +202,8 @@ def _imported_lines(res) -> None:
 
 
 def print_sets(sets: dict) -> None:
-    """Tables of a material's breakdown sets and loops (what :func:`db.labdata.describe_sets` returns), for show."""
+    """Tables of a material's breakdown sets, loops and endurance sets (what :func:`db.labdata.describe_sets`
+    returns), for show."""
     from cli.output import table
     from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
@@ -229,6 +230,15 @@ def print_sets(sets: dict) -> None:
                  f"{r['source']} [{r['kind']}]"] for r in sets["loops"]]
         table(["loop", "n", "T", "f", "peak field", "recovered", "efficiency", "source [kind]"], rows,
               right={1, 4, 5, 6})
+    if sets.get("endurance_sets"):
+        rows = [[r["label"], r["n"], r["censored"], fmt_celsius(r["temperature_K"]), r["stress_kind"],
+                 fmt_number(r["life_exponent"]),
+                 f"{fmt_number(r['life_exponent_low'])} … {fmt_number(r['life_exponent_high'])}"
+                 if r["life_exponent_low"] is not None else "",
+                 fmt_number(r["activation_energy_eV"]) if r["activation_energy_eV"] is not None else "—",
+                 f"{r['source']} [{r['kind']}]"] for r in sets["endurance_sets"]]
+        table(["endurance set", "n", "cens.", "T", "stress", "life exp. n", "bounds", "Ea eV", "source [kind]"],
+              rows, right={1, 2, 5, 7})
 
 
 # --- commands ---------------------------------------------------------------------------------------------------

@@ -7,8 +7,8 @@ import typer
 
 from cli import state
 from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
-from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, RippleOpt, SeriesResistanceOpt,
-                              ThermalResistanceOpt)
+from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, PackingOpt, RippleOpt,
+                              SeriesResistanceOpt, ThermalResistanceOpt)
 
 TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
                                                       "repeat for several. Default 25 °C.")]
@@ -87,9 +87,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          ripple: RippleOpt = None, series_resistance: SeriesResistanceOpt = None,
          thermal_resistance: ThermalResistanceOpt = None, ambient: AmbientOpt = None, life: LifeOpt = None,
          life_fraction: LifeFractionOpt = None,
-         packing_factor: Annotated[Optional[float], typer.Option("--packing-factor", help="Dielectric volume over "
-                                                                 "the part's volume, for the device-level energy "
-                                                                 "density (e.g. 0.5).")] = None,
+         packing_factor: PackingOpt = None,
          strict: StrictOpt = False, extrapolate: ExtrapolateOpt = False, sections: SectionsOpt = None,
          assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability;

@@ -21,6 +21,9 @@ LifeOpt = Annotated[Optional[str], typer.Option("--life", help="Service life (h 
 LifeFractionOpt = Annotated[Optional[float], typer.Option("--life-fraction", help="Fraction of parts allowed to "
                                                           "fail within the life (default 0.01).")]
 
+PackingOpt = Annotated[Optional[float], typer.Option("--packing-factor", help="Dielectric volume over the part's "
+                                                     "volume, for the device-level energy density (e.g. 0.5).")]
+
 
 def parse_service(*, capacitance=None, ripple=None, series_resistance=None, thermal_resistance=None, ambient=None,
                   life=None) -> dict:

@@ -8,8 +8,8 @@ import typer
 
 from cli import state
 from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
-from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, RippleOpt, SeriesResistanceOpt,
-                              ThermalResistanceOpt)
+from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, PackingOpt, RippleOpt,
+                              SeriesResistanceOpt, ThermalResistanceOpt)
 
 # Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
 EXCLUDED_SHOWN = 40
@@ -55,6 +55,7 @@ def shortlist(
     ambient: AmbientOpt = None,
     life: LifeOpt = None,
     life_fraction: LifeFractionOpt = None,
+    packing_factor: PackingOpt = None,
     strict: StrictOpt = False,
     extrapolate: ExtrapolateOpt = False,
     sections: SectionsOpt = None,
@@ -84,7 +85,7 @@ def shortlist(
                             extrapolate=extrapolate, max_sections=sections,
                             capacitance=capacitance, ripple=ripple, series_resistance=series_resistance,
                             thermal_resistance=thermal_resistance, ambient=ambient, life=life,
-                            life_fraction=life_fraction)
+                            life_fraction=life_fraction, packing_factor=packing_factor)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.

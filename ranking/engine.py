@@ -260,7 +260,7 @@ STAGES = (
     ("family",),
     ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min",
      "permittivity-missing", "breakdown-missing", "nonlinear-no-data"),
-    ("shape-missing",),
+    ("shape-missing", "life-exponent-missing"),
     ("test-area-missing",),
     ("value-invalid",),
     ("heat-unknown", "thermal-runaway", "hot-spot-over-rating"),
@@ -306,6 +306,9 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     fails["nonlinear-no-data"] = inp.kind == UPPER_BOUND
     fails["shape-missing"] = ~inp.shape_found & (not target.assume_defaults)
     fails["test-area-missing"] = ~inp.area_found & (not target.assume_defaults)
+    lf = inp.parts.get("life")
+    fails["life-exponent-missing"] = (np.isfinite(lf["n"]) & ~lf["found"] & (not target.assume_defaults)
+                                      if lf is not None else no)
     eps_v, ebd_v, beta, test_area = inp.eps_v, inp.ebd_v, inp.beta, inp.test_area
     d_min, density = inp.d_min, inp.density
     fails["value-invalid"] = ~((eps_v > 0) & (ebd_v > 0) & (beta > 0) & (test_area > 0) & ~(d_min <= 0)

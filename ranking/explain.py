@@ -219,7 +219,7 @@ def service_notes(cols: Columns, i: int) -> list[str]:
 #: The service figures of a design (SI), as :func:`service_details` returns them.
 SERVICE_KEYS = ("hot_spot_K", "dissipated_power_W", "runaway_margin", "loss_tangent_hot", "capacitance_F",
                 "life_exponent", "life_exponent_assumed", "b_life_s", "life_field_V_per_m", "life_fraction",
-                "binding_limit")
+                "binding_limit", "device_energy_density_J_per_m3")
 
 
 def service_details(cols: Columns, i: int) -> dict:
@@ -239,6 +239,8 @@ def service_details(cols: Columns, i: int) -> dict:
                    life_fraction=target.life_fraction)
     if out:
         out["binding_limit"] = LIMITS[binding(cols, i)[0]]
+    if target.packing_factor is not None:
+        out["device_energy_density_J_per_m3"] = float(P["u_op"][i]) * target.packing_factor
     return out
 
 
@@ -260,7 +262,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         if lk.present[i]:
             ev.details[prop + "_K"] = float(lk.value[i])
     if ev.codes and ev.codes[0][0] in ("family", "rated-missing", "rated-outside", "property-missing",
-                                       "nonlinear-no-data", "shape-missing", "test-area-missing"):
+                                       "nonlinear-no-data", "shape-missing", "test-area-missing",
+                                       "life-exponent-missing"):
         return ev
     src, kinds = t.source, t.source_kinds
 

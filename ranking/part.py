@@ -39,8 +39,6 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
         raise InputError("--tmin is above --tmax")
     if energy_J is None and capacitance_F is None:
         raise InputError("size needs --energy or --capacitance")
-    if packing_factor is not None and not 0 < packing_factor <= 1:
-        raise InputError("packing factor must lie in (0, 1]", field="--packing-factor")
     if ripple_current_A is not None:
         if ripple:
             raise InputError("give --ripple or --ripple-current, not both")
@@ -52,7 +50,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
                     failure_probability=failure_probability, margin=margin, segment_area_m2=segment_area_m2,
                     frequency_Hz=frequency_Hz, assume_defaults=assume_defaults, ripple=ripple if heated else (),
                     series_resistance_ohm=series_resistance_ohm, thermal_resistance_K_per_W=thermal_resistance_K_per_W,
-                    ambient_K=ambient_K, life_s=life_s, life_fraction=life_fraction, strict=strict,
+                    ambient_K=ambient_K, life_s=life_s, life_fraction=life_fraction, packing_factor=packing_factor,
+                    strict=strict,
                     extrapolate=extrapolate, max_sections=max_sections)
     energy_J = target.energy_J
     cols = evaluate(ValueTable.from_materials([material]), target)
@@ -125,6 +124,5 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
     if P.get("life") is not None and P["life_has"][0] and not P["life"]["found"][0]:
         flags.append("assumed-life-exponent")
     out["packing_factor"] = packing_factor
-    out["device_energy_density_J_per_m3"] = (out["energy_density_J_per_m3"] * packing_factor
-                                             if packing_factor is not None else None)
+    out.setdefault("device_energy_density_J_per_m3", None)
     return out

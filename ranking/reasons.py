@@ -41,6 +41,8 @@ TEXT = {
                                    "computed",
     "shape-missing": lambda q: ("weibull_shape missing: breakdown cannot be scaled to the part's area "
                                 f"({DEFAULTS_HINT})"),
+    "life-exponent-missing": lambda q: ("life_exponent missing: the service life cannot be judged "
+                                        f"({DEFAULTS_HINT})"),
     "test-area-missing": lambda q: ("breakdown test electrode area not stated: cannot scale to the part's area "
                                     f"({DEFAULTS_HINT})"),
     "value-invalid": lambda q: (f"stored {q['prop']} {q['value']:.4g} (source {q['source']}) is not a positive "

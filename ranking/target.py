@@ -29,6 +29,7 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
     ambient = "85 degC"             # within tmin…tmax; default tmax
     life = "100000 h"               # service life …
     life_fraction = 0.01            # … by which at most this fraction of parts may fail
+    packing_factor = 0.5            # dielectric volume over the part's: the device-level energy density beside
     strict = false                  # true: refuse the stated Weibull-shape and test-area priors where data lack them
     extrapolate = false             # true: use a value outside its data's temperatures or thickness (held, flagged)
     max_sections = 1                # a layer thicker than can be made may be built as up to N series sections
@@ -77,6 +78,7 @@ class Target:
     ambient_K: float | None = None
     life_s: float | None = None
     life_fraction: float = 0.01
+    packing_factor: float | None = None   # dielectric volume over the part's volume (device energy density)
     #: the energy was derived from the capacitance (½·C·V²)
     energy_from_capacitance: bool = False
 
@@ -136,6 +138,8 @@ class Target:
             raise InputError("service life must be positive")
         if not 0 < self.life_fraction < 1:
             raise InputError("life failure fraction must lie between 0 and 1")
+        if self.packing_factor is not None and not 0 < self.packing_factor <= 1:
+            raise InputError("packing factor must lie in (0, 1]")
 
     @property
     def capacitance_or_energy_F(self) -> float | None:
@@ -167,7 +171,7 @@ class Target:
                 "ripple": [{"current_A": i, "frequency_Hz": f} for i, f in self.ripple],
                 "series_resistance_ohm": self.series_resistance_ohm,
                 "thermal_resistance_K_per_W": self.thermal_resistance_K_per_W, "ambient_K": self.ambient_K,
-                "life_s": self.life_s, "life_fraction": self.life_fraction}
+                "life_s": self.life_s, "life_fraction": self.life_fraction, "packing_factor": self.packing_factor}
 
 
 def parse_weights(text: str | None) -> dict:
@@ -245,7 +249,7 @@ def _quantities(given: dict, *, options: bool) -> dict:
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
               "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults",
               "strict", "extrapolate", "max_sections", "capacitance", "ripple", "ripple_current", "ripple_frequency",
-              "series_resistance", "thermal_resistance", "ambient", "life", "life_fraction"}
+              "series_resistance", "thermal_resistance", "ambient", "life", "life_fraction", "packing_factor"}
 
 
 def parse_ripple(spectrum=None, *, current=None, frequency=None, options: bool = True) -> tuple:
@@ -319,6 +323,7 @@ def load_target(path: Path) -> Target:
             ripple=parse_ripple(t.get("ripple"), current=t.get("ripple_current"), frequency=t.get("ripple_frequency"),
                                 options=False),
             life_fraction=float(t.get("life_fraction", 0.01)),
+            packing_factor=float(t["packing_factor"]) if "packing_factor" in t else None,
         )
     except UnitError as exc:
         raise InputError(str(exc), file=str(path)) from None
@@ -345,7 +350,7 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
                         max_sections: int | None = None,
                         capacitance=None, ripple=None, ripple_current=None, ripple_frequency=None,
                         series_resistance=None, thermal_resistance=None, ambient=None, life=None,
-                        life_fraction=None) -> Target:
+                        life_fraction=None, packing_factor=None) -> Target:
     """A Target from a target file and/or command options as typed (an option given overrides the file).
 
     Quantities are text, in the option's default unit unless one is written; ``families`` is comma-separated,
@@ -366,7 +371,7 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
         extrapolate=True if extrapolate else None,
         max_sections=max_sections,
         ripple=parse_ripple(ripple, current=ripple_current, frequency=ripple_frequency) or None,
-        life_fraction=life_fraction,
+        life_fraction=life_fraction, packing_factor=packing_factor,
     )
 
     w = parse_weights(weights) if weights else None

@@ -209,3 +209,12 @@ def test_target_file_and_options_for_service(tmp_path):
     with pytest.raises(InputError, match="CURRENT@FREQUENCY"):
         target_from_options(voltage="800", tmin="25", tmax="85", energy="80", ripple="50A",
                             thermal_resistance="2")
+
+
+def test_strict_refuses_an_assumed_life_exponent_and_keeps_a_stored_one(make_material):
+    t = target(life_s=10000 * HOUR, strict=True)
+    ev = evaluate_material(film(make_material), t)
+    assert ev.reasons and ev.reasons[0].startswith("life_exponent missing")
+    ev = evaluate_material(film(make_material, life_exponent=9.0), t)
+    assert ev.ok and ev.details["life_exponent"] == 9.0 and not ev.details["life_exponent_assumed"]
+    assert any(k == "lab-source" for k in ev.sources["energy"])
