@@ -113,8 +113,8 @@ TEXT = {
                             f"{q['low']:g}–{q['high']:g} s, {q['source']}), cumulative exposure under E^-n"),
     "loss-frequency": lambda q: (f"loss tangent for the {q['frequency_Hz']:g} Hz ripple read from data at "
                                  f"{q['stored']} (not within a factor {q['factor']:g})"),
-    "loss-outside": lambda q: ("loss tangent held at the end of its data: the hot spot lies outside its measured "
-                               "temperatures"),
+    "loss-outside": lambda q: ("loss tangent at the hot spot not measured: held at the end of its data, or stated "
+                               "at no temperature"),
     "outside-data": lambda q: (f"{q['notes']}: refused ({EXTRAPOLATE_HINT})"),
     "thicker-than-made": lambda q: (
         f"needs {_um(q['thickness_m'])} of dielectric; the thickest single layer made is {_um(q['max_thickness_m'])}"

@@ -32,6 +32,8 @@ import numpy as np
 #: Width (K) of the hot-spot search above ambient, and the points of each material's loss table over it.
 SPAN_K = 300.0
 GRID = 121
+#: Materials per pass of the hot-spot search (its scan holds rows × 2049 temperatures × harmonics at once).
+CHUNK = 512
 #: A loss tangent stored within this factor of a harmonic's frequency counts as read at that frequency.
 FREQUENCY_FACTOR = 2.0
 
@@ -44,35 +46,62 @@ def hot_spots(r, target) -> dict:
     ``tan_delta`` (the largest over the harmonics at the hot spot), ``has_loss``, ``loss_rows`` (the rows read, per
     harmonic, at ambient), ``loss_frequency_off`` (a harmonic read from a loss tangent stored at another
     frequency, or at none stated), ``loss_outside`` (the hot spot outside the loss data's temperatures: held at
-    their end), ``capacitance_F``, ``ambient_K``.
+    their end; or a loss tangent stated at no temperature), ``capacitance_F``, ``ambient_K``.
     """
-    from materials.thermal import hot_spot, ripple_losses
-
     m = r.m
     amb = float(target.ambient_or_tmax_K)
     cur = np.array([i for i, _ in target.ripple], dtype=float)
     freq = np.array([f for _, f in target.ripple], dtype=float)
     cap = np.full(m, float(target.capacitance_or_energy_F))
     grid_t = amb + np.linspace(0.0, SPAN_K, GRID)
-    q, x = np.repeat(np.arange(m), GRID), np.tile(grid_t, m)
     tabs, rows = [], []
     has = np.ones(m, dtype=bool)
     off = np.zeros(m, dtype=bool)
     lo_x, hi_x = np.full(m, -np.inf), np.full(m, np.inf)
+    everyone = np.arange(m)
     for f in freq.tolist():
-        lk = r.lookup("loss_tangent", q, x, frequency_Hz=f)
-        tabs.append(lk.value.reshape(m, GRID))
-        has &= r.curve("loss_tangent", f).has
-        used = lk.used0.reshape(m, GRID)[:, 0]
+        at_amb = r.lookup("loss_tangent", everyone, np.full(m, amb), frequency_Hz=f)
+        tab = np.repeat(at_amb.value[:, None], GRID, axis=1)
+        # a loss tangent over temperature is read on the whole grid; one stated at a single temperature (or none)
+        # is the same everywhere (lending a weaker curve's shape included: read on the grid too)
+        curve = r.curve("loss_tangent", f)
+        vary = np.flatnonzero((curve.n > 1) | at_amb.lent)
+        if vary.size:
+            lk = r.lookup("loss_tangent", np.repeat(vary, GRID), np.tile(grid_t, vary.size), frequency_Hz=f)
+            tab[vary] = lk.value.reshape(vary.size, GRID)
+        tabs.append(tab)
+        has &= curve.has
+        used = at_amb.used0
         rows.append(used)
         f_row = np.where(used >= 0, r.t.frequency_Hz[np.maximum(used, 0)], np.nan)
         with np.errstate(invalid="ignore", divide="ignore"):
             off |= ~(np.abs(np.log(f_row / f)) <= math.log(FREQUENCY_FACTOR))
-        lo_x = np.fmax(lo_x, lk.lo_x.reshape(m, GRID)[:, 0])
-        hi_x = np.fmin(hi_x, lk.hi_x.reshape(m, GRID)[:, 0])
+        # a loss tangent stated at no temperature counts as outside its data at any hot spot
+        lo_x = np.where(np.isnan(at_amb.lo_x), np.inf, np.fmax(lo_x, at_amb.lo_x))
+        hi_x = np.fmin(hi_x, at_amb.hi_x)
     tab = np.stack(tabs, axis=-1) if tabs else np.zeros((m, GRID, 0))
     tab = np.where(np.isfinite(tab), tab, 0.0)
     step = SPAN_K / (GRID - 1)
+
+    rth, rs = float(target.thermal_resistance_K_per_W), float(target.series_resistance_ohm)
+    parts = [_heat(tab[i:i + CHUNK], cap[i:i + CHUNK], amb=amb, step=step, cur=cur, freq=freq, rth=rth, rs=rs)
+             for i in range(0, m, CHUNK)]
+    theta, power, steady, p0, margin, tand_hot = (np.concatenate([p[k] for p in parts]) if parts else np.zeros(0)
+                                                  for k in range(6))
+    steady = steady.astype(bool)
+    return {"temperature_K": theta, "power_W": power,
+            "power_ambient_W": p0, "steady": steady, "runaway_margin": margin, "tan_delta": tand_hot,
+            "has_loss": has, "loss_rows": rows, "loss_frequency_off": off & has,
+            "loss_outside": has & ~((lo_x <= amb + 1e-9) & (np.where(steady, theta, amb) <= hi_x + 1e-9)),
+            "capacitance_F": cap, "ambient_K": amb}
+
+
+def _heat(tab, cap, *, amb, step, cur, freq, rth, rs):
+    """Hot spot, its losses, losses at ambient, steadiness, margin to runaway and the largest tan δ at the hot spot of
+    the rows of one chunk, whose loss tables ``tab`` are (rows, GRID, harmonics) from ``amb`` in steps ``step``."""
+    from materials.thermal import hot_spot, ripple_losses
+
+    m = tab.shape[0]
 
     def tan_delta(_f, theta):
         th = np.asarray(theta, dtype=float)
@@ -83,7 +112,6 @@ def hot_spots(r, target) -> dict:
         mi = np.arange(m).reshape((m,) + (1,) * (th.ndim - 1))
         return tab[mi, i0] * (1.0 - w) + tab[mi, i0 + 1] * w
 
-    rth, rs = float(target.thermal_resistance_K_per_W), float(target.series_resistance_ohm)
     common = dict(currents_A_rms=cur, frequencies_Hz=freq, capacitance_F=cap, esr_ohm=rs, tan_delta=tan_delta)
     hs = hot_spot(ambient_K=amb, rth_K_per_W=rth, max_temperature_K=amb + SPAN_K, **common)
     theta = np.atleast_1d(np.asarray(hs.temperature_K, dtype=float))
@@ -99,11 +127,7 @@ def hot_spots(r, target) -> dict:
         margin = np.where(a > 1e-12, 1.0 / (math.e * a * rth * p0), np.inf)
     margin = np.where(steady, margin, 0.0)
     tand_hot = tan_delta(freq, at[:, None]).max(axis=-1) if freq.size else np.zeros(m)
-    return {"temperature_K": theta, "power_W": np.atleast_1d(np.asarray(hs.power_W, dtype=float)),
-            "power_ambient_W": p0, "steady": steady, "runaway_margin": margin, "tan_delta": tand_hot,
-            "has_loss": has, "loss_rows": rows, "loss_frequency_off": off & has,
-            "loss_outside": has & ~((lo_x <= amb + 1e-9) & (np.where(steady, theta, amb) <= hi_x + 1e-9)),
-            "capacitance_F": cap, "ambient_K": amb}
+    return theta, np.atleast_1d(np.asarray(hs.power_W, dtype=float)), steady, p0, margin, tand_hot
 
 
 def life_exponents(r, families, *, stored=None) -> dict:
