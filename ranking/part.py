@@ -100,7 +100,8 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
             rows += [lk.used0[0], lk.used1[0]]
     if inp.has_loss[0]:
         rows += [inp.ls.used0[inp.c_loss[0]], inp.ls.used1[inp.c_loss[0]]]
-    flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("assumed-shape", not inp.shape_found[0]),
+    flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("held-cold", inp.held_cold[0]),
+                             ("assumed-shape", not inp.shape_found[0]),
                              ("assumed-test-area", not inp.area_found[0])) if on]
     out = {"key": material.key, "name": material.name, "voltage_V": voltage_V, "tmin_K": tmin_K, "tmax_K": tmax_K,
            **res.as_dict(), "worst_temperature_K": float(inp.t_ebd[0]),
@@ -109,6 +110,10 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
            "test_area_m2": float(inp.test_area[0]), "sections": n_sec,
            "layer_thickness_m": float(P["layer"][0]),
            "sources": list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0)), "flags": flags}
+    if inp.held_cold[0]:
+        from materials.priors import COLD_HOLD
+
+        out["sources"].append(COLD_HOLD[0])
     out["notes"] = notes + list(out["notes"]) + [n for n in assumption_notes(cols, 0) if n not in res_notes]
     out["cautions"] = [CAUTION]
     out["dissipated_power_W"] = dissipated
