@@ -84,11 +84,24 @@ def hot_spots(r, target) -> dict:
     step = SPAN_K / (GRID - 1)
 
     rth, rs = float(target.thermal_resistance_K_per_W), float(target.series_resistance_ohm)
-    parts = [_heat(tab[i:i + CHUNK], cap[i:i + CHUNK], amb=amb, step=step, cur=cur, freq=freq, rth=rth, rs=rs)
-             for i in range(0, m, CHUNK)]
-    theta, power, steady, p0, margin, tand_hot = (np.concatenate([p[k] for p in parts]) if parts else np.zeros(0)
-                                                  for k in range(6))
-    steady = steady.astype(bool)
+    # Losses that do not change with temperature have the closed form θ = θ_amb + R_th·P (no runaway); the rest
+    # are searched, a chunk at a time.
+    flat = np.all(tab == tab[:, :1, :], axis=(1, 2)) if tab.size else np.ones(m, dtype=bool)
+    theta, power, p0 = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
+    steady, margin, tand_hot = np.ones(m, dtype=bool), np.full(m, np.inf), np.zeros(m)
+    if flat.any():
+        from materials.thermal import ripple_losses
+
+        k = np.flatnonzero(flat)
+        p0[k] = ripple_losses(currents_A_rms=cur, frequencies_Hz=freq, capacitance_F=cap[k], esr_ohm=rs,
+                              tan_delta=tab[k, 0, :])
+        power[k], theta[k] = p0[k], amb + rth * p0[k]
+        tand_hot[k] = tab[k, 0, :].max(axis=-1) if freq.size else 0.0
+    rest = np.flatnonzero(~flat)
+    for i in range(0, rest.size, CHUNK):
+        k = rest[i:i + CHUNK]
+        theta[k], power[k], steady[k], p0[k], margin[k], tand_hot[k] = _heat(
+            tab[k], cap[k], amb=amb, step=step, cur=cur, freq=freq, rth=rth, rs=rs)
     return {"temperature_K": theta, "power_W": power,
             "power_ambient_W": p0, "steady": steady, "runaway_margin": margin, "tan_delta": tand_hot,
             "has_loss": has, "loss_rows": rows, "loss_frequency_off": off & has,
