@@ -165,7 +165,9 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         rows.append(["dissipated power", fmt_quantity(res["dissipated_power_W"], "W", "W")
                      + f" (series {fmt_quantity(res['series_resistance_ohm'], 'mohm', 'ohm')} and dielectric)"])
     rows += service_rows(res)
-    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {fmt_number(res['energy_J'])} J at "
+    cap = (f"{fmt_quantity(res['capacitance_target_F'], 'uF', 'F')} (" if res.get("capacitance_target_F") else "")
+    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {cap}{fmt_number(res['energy_J'])} J"
+          + (") at " if cap else " at ") + 
           f"{fmt_number(res['voltage_V'])} V, {fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
     for n in res["notes"]:
         say(f"note: {n}")
