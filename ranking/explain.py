@@ -57,7 +57,10 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
     if code == "above-loop":
         return code, {"field_V_per_m": f(P["e_op"]), "loop_V_per_m": f(inp.loop_field)}
     if code == "area-impractical":
-        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": f(inp.beta)}
+        shape = f(inp.beta)
+        if P.get("life_binds") is not None and P["life_binds"][i]:
+            shape *= f(P["life_n"]) / (f(P["life_n"]) + 1.0)   # the life law's effective shape β·n/(n+1)
+        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": shape}
     if code == "thinner-than-made":
         return code, {"thickness_m": P["thickness_m"], "min_thickness_m": f(inp.d_min)}
     if code == "over-design-field":
