@@ -218,6 +218,15 @@ class Reader:
         self.lab_row, self.tier = row_sources(t)
         self._curves: dict = {}
 
+    def without(self, rows: np.ndarray) -> Reader:
+        """The same table read as if the rows masked by ``rows`` (a boolean mask over the table) were not there."""
+        other = Reader.__new__(Reader)
+        other.t, other.m, other.mat = self.t, self.m, self.mat
+        other.active = self.active & ~rows
+        other.lab_row, other.tier = self.lab_row, self.tier
+        other._curves = {}
+        return other
+
     def rows_of(self, prop: str, mask: np.ndarray | None = None) -> np.ndarray:
         c = self.t.code(prop)
         if c < 0:
