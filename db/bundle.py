@@ -106,7 +106,9 @@ def _require_head(conn, url: str) -> None:
 
 def _snapshot(engine):
     """A connection that sees one consistent state of the store for the whole dump."""
-    conn = engine.connect()
+    from db.store import reader
+
+    conn = reader(engine).connect()
     if engine.dialect.name == "postgresql":
         conn = conn.execution_options(isolation_level="REPEATABLE READ")
     return conn

@@ -18,8 +18,10 @@ def check_store(store) -> list[Finding]:
     from db.models import BreakdownPoint, BreakdownSet, Loop, LoopPoint, Material, PropertyValue, Source
     from materials.properties import PROPERTIES, check_plausible, outside_range
 
+    from db.store import reader
+
     out: list[Finding] = []
-    with store.engine.connect() as c:
+    with reader(store.engine).connect() as c:
         if store.engine.dialect.name == "sqlite":
             res = [r[0] for r in c.exec_driver_sql("PRAGMA integrity_check").fetchall()]
             if res != ["ok"]:

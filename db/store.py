@@ -28,7 +28,7 @@ class Store:
         """
         from sqlalchemy.orm import Session
 
-        bind = self.engine.execution_options(holdoff_read=True) if read_only else self.engine
+        bind = reader(self.engine) if read_only else self.engine
         with Session(bind, expire_on_commit=False) as s:
             with s.begin():
                 yield s
@@ -39,8 +39,7 @@ class Store:
     def reading(self):
         """A plain (Core) connection in one read-only transaction (rolled back at the end), for reads that need no
         ORM. On SQLite it takes no write lock: it reads one consistent snapshot while writers go on."""
-        with self.engine.connect() as conn:
-            conn = conn.execution_options(holdoff_read=True)
+        with reader(self.engine).connect() as conn:
             with conn.begin() as tx:
                 yield conn
                 tx.rollback()
@@ -102,8 +101,10 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
     engine = make_engine(url)
     from sqlalchemy.exc import SQLAlchemyError
 
+    # Opening only reads: on SQLite these checks take no write lock, so a command opens the store at once while
+    # another holds a long write transaction (tests/test_store_locks.py).
     try:
-        fresh = not _has_schema(engine)
+        fresh = not _has_schema(reader(engine))
     except (SQLAlchemyError, OSError) as exc:
         engine.dispose()
         raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
@@ -121,18 +122,24 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
             engine.dispose()
             rebuild_if(url, path, lambda e: not _has_schema(e), force=True)
             engine = make_engine(url)
-    elif path is not None and create and _stale_catalog_only(engine):
+    elif path is not None and create and _stale_catalog_only(reader(engine)):
         # A store that holds nothing but an older catalog is rebuilt from the current one (nothing is lost);
         # under the lock it is checked again, as another command may have rebuilt it or written to it meanwhile.
         engine.dispose()
         rebuild_if(url, path, _stale_catalog_only)
         engine = make_engine(url)
     try:
-        _require_current_schema(engine, url)
+        _require_current_schema(reader(engine), url)
     except BaseException:
         engine.dispose()
         raise
     return Store(url=url, engine=engine)
+
+
+def reader(engine):
+    """``engine`` for reads only: on SQLite its transactions begin with a plain ``BEGIN`` (a WAL snapshot that
+    neither waits for a writer nor holds one up) instead of ``BEGIN IMMEDIATE``."""
+    return engine.execution_options(holdoff_read=True)
 
 
 def _require_current_schema(engine, url: str) -> None:
