@@ -112,6 +112,12 @@ def _target(material, new_material, family) -> dict:
         raise InputError("give either --material KEY or --new-material NAME --family F")
     if new_material and not family:
         raise InputError("--new-material needs --family", field="--family")
+    if new_material:
+        from materials.textfile import text_problem
+
+        why = text_problem(new_material, "name")
+        if why:
+            raise InputError(f"the name {why}", field="--new-material")
     if material and family:
         raise InputError("--family goes with --new-material only", field="--family")
     return {"material_key": material, "new_material": new_material, "family": family}

@@ -28,6 +28,7 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
 
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -77,6 +78,10 @@ class Target:
             raise InputError("energy must be positive")
         if self.energy_density_J_per_m3 is not None and not self.energy_density_J_per_m3 > 0:
             raise InputError("energy density must be positive")
+        if self.area_m2 is not None and not self.area_m2 > 0:
+            raise InputError("area must be positive")
+        if self.max_loss_tangent is not None and not 0 < self.max_loss_tangent <= 1:
+            raise InputError("max loss tangent must lie above 0 and at most 1")
 
     def to_dict(self) -> dict:
         return {"name": self.name, "voltage_V": self.voltage_V, "tmin_K": self.tmin_K, "tmax_K": self.tmax_K,
@@ -105,9 +110,11 @@ def parse_weights(text: str | None) -> dict:
         if name not in CRITERIA:
             raise InputError(f"--weights: unknown criterion '{name}' (one of {', '.join(CRITERIA)})")
         try:
-            out[name] = float(w)
+            out[name] = float(w) if w.strip().isascii() else math.nan
         except ValueError:
             raise InputError(f"--weights: '{w.strip()}' is not a number") from None
+        if not math.isfinite(out[name]):
+            raise InputError(f"--weights: weight of '{name}' is not a finite number ('{w.strip()}')")
         if out[name] < 0:
             raise InputError(f"--weights: weight of '{name}' is negative")
     return out
@@ -153,7 +160,7 @@ def _option(key: str) -> str:
 
 def _quantities(given: dict, *, options: bool) -> dict:
     """The quantities among ``given`` (by file key) as SI Target fields; errors name the option if ``options``."""
-    return {attr: parse_option(given[key], kind, name=_option(key) if options else None)
+    return {attr: parse_option(given[key], kind, name=_option(key) if options else key)
             for key, attr, kind in _QUANTITIES if key in given}
 
 
@@ -166,7 +173,42 @@ def _flag(table: dict, key: str, default: bool) -> bool:
     """A yes/no field of a target file: a TOML boolean, never a string or a number read as one."""
     v = table.get(key, default)
     if not isinstance(v, bool):
-        raise TypeError(f"'{key}' must be true or false, not {v!r}")
+        raise _FileFieldError(key, f"'{key}' must be true or false, not {v!r:.40}")
+    return v
+
+
+def _real(table: dict, key: str, default):
+    """A plain number field of a target file: a finite TOML integer or float (not a string, boolean or NaN)."""
+    v = table.get(key, default)
+    if v is None:
+        return None
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        raise _FileFieldError(key, f"must be a number, not {v!r:.40}")
+    if not math.isfinite(v):
+        raise _FileFieldError(key, f"must be a finite number, not {v!r}")
+    return float(v)
+
+
+class _FileFieldError(Exception):
+    def __init__(self, field: str, message: str):
+        super().__init__(message)
+        self.field = field
+
+
+def _families(table: dict) -> tuple[str, ...]:
+    v = table.get("families", [])
+    if not isinstance(v, list) or not all(isinstance(f, str) for f in v):
+        raise _FileFieldError("families", f"must be a list of family names, e.g. [\"polymer-film\"], not {v!r:.60}")
+    return tuple(v)
+
+
+def _text(table: dict, key: str) -> str:
+    from materials.textfile import text_problem
+
+    v = table.get(key, "")
+    why = text_problem(v, "name")
+    if why:
+        raise _FileFieldError(key, f"{key} {why}")
     return v
 
 
@@ -175,8 +217,14 @@ def load_target(path: Path) -> Target:
     from materials.textfile import load_text
 
     path = Path(path)
-    data = load_text(path, tomllib.loads, kind="TOML")
+    data = load_text(path, lambda text: tomllib.loads(text.removeprefix("\ufeff")), kind="TOML")
+    extra = set(data) - {"target", "weights"}
+    if extra:
+        raise InputError(f"unknown table or field '{sorted(extra)[0]}' (a target file holds [target] and "
+                         "[weights])", file=str(path), field=sorted(extra)[0])
     t = data.get("target", {})
+    if not isinstance(t, dict):
+        raise InputError("must be a table ([target]) of fields", file=str(path), field="target")
     unknown = set(t) - _FILE_KEYS
     if unknown:
         raise InputError(f"unknown field '{sorted(unknown)[0]}'", file=str(path), field=sorted(unknown)[0])
@@ -185,20 +233,30 @@ def load_target(path: Path) -> Target:
             raise InputError("missing", file=str(path), field=required)
     try:
         kw = dict(
-            **_quantities(t, options=False),
-            max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
-            failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
-            families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
-            assume_defaults=_flag(t, "assume_defaults", True), strict=_flag(t, "strict", False),
-            name=str(t.get("name", "")),
+            max_loss_tangent=_real(t, "max_loss_tangent", None),
+            failure_probability=_real(t, "failure_probability", 0.01), margin=_real(t, "margin", 1.0),
+            families=_families(t), assume_defaults=_flag(t, "assume_defaults", True),
+            strict=_flag(t, "strict", False), name=_text(t, "name"),
+            **_quantities(t, options=False), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
         )
+    except _FileFieldError as exc:
+        raise InputError(str(exc), file=str(path), field=exc.field) from None
     except UnitError as exc:
         raise InputError(str(exc), file=str(path)) from None
     except (TypeError, ValueError) as exc:
         raise InputError(f"bad value: {exc}", file=str(path)) from None
+    table = data.get("weights", {})
+    if not isinstance(table, dict):
+        raise InputError("must be a table ([weights]) of criterion = weight", file=str(path), field="weights")
     weights = {}
-    for k, v in data.get("weights", {}).items():
-        weights.update(parse_weights(f"{k}={v}"))
+    for k, v in table.items():
+        try:
+            _real(table, k, None)
+            weights.update(parse_weights(f"{k}={v}"))
+        except _FileFieldError as exc:
+            raise InputError(str(exc), file=str(path), field=f"weights.{k}") from None
+        except InputError as exc:
+            raise InputError(str(exc), file=str(path), field=f"weights.{k}") from None
     try:
         return Target(weights=weights, **kw)
     except InputError as exc:

@@ -94,6 +94,8 @@ def add_materials(session, records: list[MaterialRec], sources: dict[str, Source
             continue
         n_before = len(changes)
         for f in ("name", "family", "form", "description", "response"):
+            if rec.given is not None and f not in rec.given:
+                continue
             old, new = getattr(mat, f) or "", getattr(rec, f) or ""
             if old != new:
                 changes.append(f"{rec.key}: {f} '{old}' → '{new}'")
@@ -142,6 +144,20 @@ def _value_row(material_id: int, v: ValueRec, source_id: int):
     return PropertyValue(material_id=material_id, property=v.property, value=v.value, low=v.low, high=v.high,
                          temperature_K=v.temperature_K, frequency_Hz=v.frequency_Hz, field_V_per_m=v.field_V_per_m,
                          thickness_m=v.thickness_m, area_m2=v.area_m2, source_id=source_id, note=v.note)
+
+
+def _check_text(rec: MaterialRec, path: Path) -> None:
+    """Refuse control, bidirectional-override and zero-width characters, and overlong text, in a record's names
+    (the TOML reader checks its own fields; this covers every reader)."""
+    from materials.textfile import slug_problem, text_problem
+
+    why = slug_problem(rec.key, "material key")
+    if why:
+        raise InputError(why, file=str(path), entry=rec.key, field="key")
+    for f in ("name", "form", "description"):
+        why = text_problem(getattr(rec, f), f)
+        if why:
+            raise InputError(f"{f} {why}", file=str(path), entry=rec.key, field=f)
 
 
 def store_sources(session) -> dict[str, SourceRec]:
@@ -194,6 +210,7 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
         else:
             raise InputError("'holdoff add' reads material .toml files and value tables in .csv", file=str(p))
         for r in found:
+            _check_text(r, p)
             if r.key in where:
                 raise InputError(f"material '{r.key}' is also in {where[r.key]}", file=str(p), entry=r.key)
             where[r.key] = p
