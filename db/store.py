@@ -44,29 +44,32 @@ class Store:
                 yield conn
                 tx.rollback()
 
-    def write(self, fn, *, retries: int = 12):
+    def write(self, fn, *, retries: int = 60, patience_s: float = 180.0):
         """``fn(session)`` in its own transaction, re-run when another writer got in the way; its result.
 
         Re-runs on SQLite 'database is locked' and on PostgreSQL serialization failures and deadlocks (the
         transaction runs SERIALIZABLE there, so a read-then-insert such as get-or-create of a source is safe
-        against a concurrent writer). ``fn`` must therefore do nothing outside the session it is given.
+        against a concurrent writer), including those raised by the driver itself during a ``COPY``
+        (:func:`db.bulk.bulk_insert`), up to ``retries`` times or ``patience_s`` seconds. ``fn`` must therefore do
+        nothing outside the session it is given.
         """
         import random
         import time
 
-        from sqlalchemy.exc import DBAPIError
         from sqlalchemy.orm import Session
 
         bind = self.engine
         if self.engine.dialect.name == "postgresql":
             bind = self.engine.execution_options(isolation_level="SERIALIZABLE")
+        start = time.monotonic()
         for attempt in range(retries + 1):
             try:
                 with Session(bind, expire_on_commit=False) as s:
                     with s.begin():
                         return fn(s)
-            except DBAPIError as exc:
-                if attempt == retries or not is_transient(exc):
+            except Exception as exc:  # noqa: BLE001 - COPY raises the driver's own errors, not SQLAlchemy's;
+                # only a lock or serialization conflict is re-run, anything else goes on as it came
+                if attempt == retries or time.monotonic() - start > patience_s or not is_transient(exc):
                     raise
             # Jittered exponential back-off so that colliding writers do not collide again.
             time.sleep(min(0.02 * 2 ** attempt, 1.0) * random.uniform(0.5, 1.5))
@@ -77,7 +80,17 @@ class Store:
 
 
 def is_transient(exc) -> bool:
-    """Whether a database error is a lock or serialization conflict that a re-run of the transaction can clear."""
+    """Whether a database error (SQLAlchemy's or the driver's own) is a lock or serialization conflict that a
+    re-run of the transaction can clear."""
+    import sqlite3
+    import sys
+
+    from sqlalchemy.exc import DBAPIError
+
+    psycopg = sys.modules.get("psycopg")
+    driver = (sqlite3.Error,) + ((psycopg.Error,) if psycopg is not None else ())
+    if not isinstance(exc, (DBAPIError, *driver)):
+        return False
     orig = getattr(exc, "orig", exc)
     state = getattr(orig, "sqlstate", None)
     if state in ("40001", "40P01", "55P03"):  # serialization failure, deadlock, lock not available

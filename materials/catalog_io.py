@@ -170,6 +170,58 @@ def round_condition(value: float) -> float:
     return float(f"{value:.{CONDITION_DIGITS}g}")
 
 
+def condition_problem(tkey: str, x) -> str | None:
+    """Why ``x`` (SI) cannot be the condition ``tkey`` (temperature, frequency, field, thickness, area) of a value,
+    or None: a finite number, positive and plausible (materials.units.OPTION_RANGES); a field may be 0."""
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return f"{tkey} must be a number, not {x!r:.40}"
+    if not math.isfinite(x):
+        return f"{tkey} is not a finite number ({x!r})"
+    if tkey == "field" and x == 0:
+        return None
+    if tkey == "field" and x < 0:
+        return f"{tkey} {x!r} must not be negative (the field's magnitude)"
+    try:
+        check_range(x, _CONDITION_KIND[tkey], name=tkey, shown=x)
+    except UnitError as exc:
+        return str(exc)
+    return None
+
+
+_SI_CONDITION = {field: tkey for tkey, (field, _) in _CONDITION_UNITS.items()}
+
+
+def value_problem(prop, family: str | None, *, value, low=None, high=None, **conditions) -> tuple[str, str] | None:
+    """(field, why) for a value that ``holdoff add`` would refuse, or None: the property is in the vocabulary; value,
+    low and high are finite numbers of plausible size for the material's family, the value inside low…high; every
+    condition (keyword: ``temperature_K``, ``frequency_Hz``, ``field_V_per_m``, ``thickness_m``, ``area_m2``; SI)
+    passes :func:`condition_problem`. The one check behind catalog files, value tables, bundles and ``db check``."""
+    if not isinstance(prop, str) or prop not in PROPERTIES:
+        return "property", f"unknown property '{prop}' (see the vocabulary in DESIGN notes)"
+    for f, v in (("value", value), ("low", low), ("high", high)):
+        if v is None:
+            if f == "value":
+                return f, "missing value"
+            continue
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            return f, f"'{v!r:.40}' is not a number"
+        if not math.isfinite(v):
+            return f, "not a finite number (NaN or infinity)"
+        why = check_plausible(prop, v, family)
+        if why:
+            return f, why
+    if low is not None and high is not None and low > high:
+        return "low", "low is above high"
+    if outside_range(value, low, high):
+        return "value", "value lies outside its own low…high range"
+    for name, x in conditions.items():
+        if x is not None:
+            why = condition_problem(_SI_CONDITION[name], x)
+            if why:
+                return name, why
+    return None
+
+
 def _conditions(body: dict) -> dict:
     out = {}
     for tkey, (field, si) in _CONDITION_UNITS.items():
@@ -180,14 +232,11 @@ def _conditions(body: dict) -> dict:
                 v = f"{v} {default}"
             try:
                 x = round_condition(_number(v, si=si, unit=None, name=tkey))
-                if tkey == "field" and x == 0:
-                    pass
-                elif tkey == "field" and x < 0:
-                    raise UnitError(f"{tkey}: {v!r} must not be negative (the field's magnitude)")
-                else:
-                    check_range(x, _CONDITION_KIND[tkey], name=tkey, shown=v)
             except UnitError as exc:
                 raise _FieldError(tkey, str(exc)) from None
+            why = condition_problem(tkey, x)
+            if why:
+                raise _FieldError(tkey, why)
             out[field] = x
     return out
 
@@ -222,17 +271,10 @@ def _value_rec(body: dict, *, family: str, sources: dict[str, SourceRec], allowe
                 nums[f] = _number(body[f], si=si, unit=unit, name=f)
             except UnitError as exc:
                 raise _FieldError(f, str(exc)) from None
-    if "value" not in nums:
-        raise _FieldError("value", "missing value")
-    for f, v in nums.items():
-        why = check_plausible(prop, v, family)
-        if why:
-            raise _FieldError(f, why)
     lo, hi = nums.get("low"), nums.get("high")
-    if lo is not None and hi is not None and lo > hi:
-        raise _FieldError("low", "low is above high")
-    if outside_range(nums["value"], lo, hi):
-        raise _FieldError("value", "value lies outside its own low…high range")
+    problem = value_problem(prop, family, value=nums.get("value"), low=lo, high=hi)
+    if problem:
+        raise _FieldError(*problem)
     return ValueRec(property=prop, value=nums["value"], low=lo, high=hi, source=src,
                     note=body.get("note", "").strip(), **_conditions(body))
 
