@@ -4,7 +4,7 @@ store as it was. Building it from the catalog is :mod:`db.building`."""
 from __future__ import annotations
 
 import contextlib
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from db.building import _fill, _has_schema, _same_catalog_folder, _stale_catalog_only, build, build_lock, rebuild_if
 from db.building import write_catalog  # noqa: F401  (imported from here by other modules)
@@ -18,6 +18,8 @@ SCHEMA_REVISION = "0003"  # the newest migration in db/migrations/versions
 class Store:
     url: str
     engine: object
+    #: what opening it changed: a newer catalog merged under the user's data (:func:`db.building.merge_catalog`)
+    changes: list[str] = field(default_factory=list)
 
     @contextlib.contextmanager
     def session(self, *, read_only: bool = False):
@@ -143,10 +145,15 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
         engine = make_engine(url)
     try:
         _require_current_schema(reader(engine), url)
+        store = Store(url=url, engine=engine)
+        if create:
+            from db.building import merge_if_stale
+
+            store.changes = merge_if_stale(store)
     except BaseException:
         engine.dispose()
         raise
-    return Store(url=url, engine=engine)
+    return store
 
 
 def reader(engine):
