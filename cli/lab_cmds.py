@@ -235,19 +235,20 @@ def add(files: Annotated[list[Path], typer.Argument(help="Material records: cata
         dry_run: Annotated[bool, typer.Option("--dry-run", help="Print what would change; write nothing.")] = False,
         json_out: JsonOpt = False):
     """Add or update material records; a changed value retires the old row (see 'show KEY --history')."""
-    from db.labdata import add_materials, read_add_files
+    from db.labdata import add_materials, read_add_files, store_sources
 
     for f in files:
         _check_file(f)
     reason = "superseded by holdoff add " + ", ".join(f.name for f in files)
-
-    def write(s):
-        with _progress("reading files", len(files), show=len(files) > 1) as tick:
-            records, sources = read_add_files(s, files)
-            tick(len(files))
-        return records, add_materials(s, records, sources, dry_run=dry_run, reason=reason)
-
-    records, changes = state.store().write(write)
+    store = state.store()
+    # Read and validate every file against the store's sources before the write transaction: a large file is
+    # parsed while other commands go on writing. A source that vanished meanwhile is refused by add_materials.
+    with store.session(read_only=True) as s:
+        known = store_sources(s)
+    with _progress("reading files", len(files), show=len(files) > 1) as tick:
+        records, sources = read_add_files(known, files)
+        tick(len(files))
+    changes = store.write(lambda s: add_materials(s, records, sources, dry_run=dry_run, reason=reason))
     if json_out:
         from cli.output import print_json
 

@@ -43,7 +43,7 @@ from materials.errors import InputError, UnitError
 from materials.properties import (FAMILIES, ORIGINS, PROPERTIES, RESPONSES, SOURCE_KINDS, check_plausible,
                                   outside_range)
 from materials.records import MaterialRec, SourceRec, ValueRec
-from materials.textfile import SLUG_PATTERN, slug_problem, text_problem
+from materials.textfile import SLUG_PATTERN, error_line, slug_problem, text_problem
 from materials.units import check_range, parse_quantity
 
 CATALOG_DIR = Path(__file__).with_name("catalog")
@@ -85,8 +85,7 @@ def _load_toml(path: Path) -> tuple[dict, dict]:
     try:
         return tomllib.loads(text), _table_lines(text)
     except tomllib.TOMLDecodeError as exc:
-        line = getattr(exc, "lineno", None)
-        raise InputError(f"not valid TOML: {exc}", file=str(path), line=line) from None
+        raise InputError(f"not valid TOML: {exc}", file=str(path), line=error_line(exc)) from None
 
 
 _TABLE_HEADER = re.compile(r"\s*(\[\[?)\s*([^\]]*?)\s*\]")

@@ -28,7 +28,19 @@ def load_text(path, parse, *, kind: str):
     try:
         return parse(text)
     except ValueError as exc:
-        raise InputError(f"not a valid {kind} file: {exc}", file=str(p)) from None
+        raise InputError(f"not a valid {kind} file: {exc}", file=str(p), line=error_line(exc)) from None
+
+
+def error_line(exc: Exception) -> int | None:
+    """The line a parser's error names: its ``lineno`` (JSON; TOML from Python 3.14), else the "(at line N"
+    that Python 3.11's TOML reader writes in its message."""
+    import re
+
+    line = getattr(exc, "lineno", None)
+    if line is None:
+        m = re.search(r"\(at line (\d+)", str(exc))
+        line = int(m.group(1)) if m else None
+    return line
 
 
 # Longest text accepted in each kind of field (characters).
