@@ -50,9 +50,17 @@ def _say(text: str) -> None:
 
 
 def _quantity(text: str | None, kind: str, option: str) -> float | None:
-    from materials.units import parse_option
+    """A set condition given as an option, in SI: read and range-checked exactly as the same condition in a file's
+    header (materials.labfiles.parse_condition), so an option is never let through where a header line would not."""
+    from materials.errors import InputError
+    from materials.labfiles.header import parse_condition
 
-    return None if text is None else parse_option(text, kind, name=option)
+    if text is None:
+        return None
+    try:
+        return parse_condition(option.removeprefix("--").replace("temp", "temperature"), text)
+    except InputError as exc:
+        raise InputError(f"{option}: {exc}") from None
 
 
 def _confidence(text: str) -> float:

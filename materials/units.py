@@ -236,13 +236,14 @@ OPTION_RANGES = {
     "temperature": (0.0, 2300.0),
     "energy": (0.0, 1e12),
     "energy_density": (0.0, 1e10),
-    "thickness": (0.0, 0.1),
+    "thickness": (0.0, 1.0),  # gas and liquid gaps too
     "electrode_area": (0.0, 10.0),
     "capacitor_area": (0.0, 1e5),
     "field": (0.0, 1e10),
     "frequency": (0.0, 1e12),
     "current": (0.0, 1e6),
     "ramp": (0.0, 1e13),
+    "pressure": (0.0, 1e9),
 }
 
 
