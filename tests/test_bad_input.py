@@ -25,11 +25,13 @@ COMMANDS = {
     "breakdown-new": ["breakdown", "import", "{file}"],
     "breakdown": ["breakdown", "import", "{file}", "--material", "fixture-film"],
     "shortlist-opt": ["shortlist"],
+    "command-opt": [],
     "target": ["shortlist", "--target", "{file}"],
     "add": ["add", "{file}"],
 }
-NO_FILE = {"breakdown-opt", "breakdown-new", "shortlist-opt"}  # the options are bad, not the file
+NO_FILE = {"breakdown-opt", "breakdown-new", "shortlist-opt", "command-opt"}  # the options are bad, not the file
 ENTRY_POINTS = {"breakdown-opt": "options", "breakdown-new": "options", "shortlist-opt": "options",
+                "command-opt": "options",
                 "target": "target files", "add": "add (TOML, CSV)", "breakdown": "lab files", "load": "bundles"}
 
 
