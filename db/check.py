@@ -88,11 +88,18 @@ def _text_findings(session) -> list[Finding]:
                 why = text_problem(v or "", f)
                 if why:
                     out.append(Finding("error", f"{what} {key!r:.60}: {f} {why}"))
-    for what, model in (("breakdown set", BreakdownSet), ("loop", Loop)):
-        for (label,) in session.execute(select(model.label)):
+    from materials.catalog_io import condition_problem
+
+    for what, model, conds in (("breakdown set", BreakdownSet, ("temperature_K", "thickness_m", "area_m2")),
+                               ("loop", Loop, ("temperature_K", "thickness_m", "frequency_Hz"))):
+        for label, *at in session.execute(select(model.label, *(getattr(model, c) for c in conds))):
             why = text_problem(label, "label")
             if why:
                 out.append(Finding("error", f"{what} {label!r:.60}: label {why}"))
+            for c, x in zip(conds, at, strict=True):
+                why = condition_problem(c.split("_")[0], x) if x is not None else None
+                if why:
+                    out.append(Finding("error", f"{what} {label!r:.60}: {why}"))
     for vid, note in session.execute(select(PropertyValue.id, PropertyValue.note)
                                      .where(PropertyValue.retired_at.is_(None))):
         why = text_problem(note or "", "note")

@@ -196,3 +196,29 @@ def test_random_input_is_refused_cleanly_or_imported(cli, tmp_path_factory, entr
             assert logical_dump(url) == before
         else:
             assert not (d / "new.sqlite").exists()
+
+
+def test_db_check_finds_what_add_and_load_refuse(cli, tmp_path):
+    """Rows written around the readers (raw SQL) that 'add' or 'db load' would refuse are errors of 'db check':
+    εr = 10⁹, an infinite value, a set at −10 K, a NUL and a bidi override in names, a key with a newline."""
+    import sqlite3
+
+    url = build_store(tmp_path)
+    path = url.removeprefix("sqlite:///")
+    with sqlite3.connect(path) as c:
+        mid, sid = c.execute("SELECT m.id, v.source_id FROM material m JOIN property_value v "
+                             "ON v.material_id = m.id WHERE m.key = 'fixture-film'").fetchone()
+        for value in (1e9, float("inf")):
+            c.execute("INSERT INTO property_value (material_id, property, value, source_id, note, created_at) "
+                      "VALUES (?, 'relative_permittivity', ?, ?, '', '2026-01-01 00:00:00')", (mid, value, sid))
+        c.execute("INSERT INTO breakdown_set (material_id, label, temperature_K, waveform, source_id, file_name, "
+                  "sha256, created_at) VALUES (?, 'cold', -10.0, 'dc', ?, '', ?, '2026-01-01 00:00:00')",
+                  (mid, sid, "0" * 64))
+        c.execute("UPDATE material SET name = ? WHERE id = ?", ("Fixture\x00film", mid))
+        c.execute("INSERT INTO material (key, name, family, form, description, origin, response) "
+                  "VALUES (?, ?, 'polymer-film', '', '', 'user', 'linear')", ("odd\n", "Odd \u202efilm"))
+    code, out, err = cli(["db", "check"], db=url, catalog=LAB_CATALOG)
+    assert code == 1, out
+    for words in ("relative_permittivity = 1e+09", "value: not a finite number", "temperature: '-10.0' must be "
+                  "above absolute zero", "U+0000", "U+202E", "must be a lower-case slug"):
+        assert words in out, (words, out)
