@@ -28,7 +28,11 @@ Lines, in this order::
     {"type": "end", "records": N}                 N = number of lines between the first and this one
 
 A value's ``breakdown_set`` and ``loop`` name a set or loop of the same material by its label. A bundle without
-its end line, or with a different count, is refused as truncated. ``meta`` carries the catalog fingerprint and any
+its end line, or with a different count, is refused as truncated. Loading is as strict as ``holdoff add``: a field
+the format does not name, a newer schema revision, bytes that are not UTF-8 text (binary, compressed), nesting
+deeper than a record's, NaN or infinities, a value of the wrong JSON type, text with control, bidi-override or
+zero-width characters, a key that is not a slug, and a value or condition ``add`` would refuse are each refused with
+one line naming the file, line and field. ``meta`` carries the catalog fingerprint and any
 other facts about the store except its schema revision, which is the header's and, on load, always that of the
 program loading the bundle.
 """
