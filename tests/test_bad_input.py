@@ -174,6 +174,9 @@ ENTRY = {
 }
 
 
+_STORES: dict[str, str] = {}
+
+
 @pytest.mark.parametrize("entry", sorted(ENTRY))
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(data=st.data())
@@ -185,7 +188,9 @@ def test_random_input_is_refused_cleanly_or_imported(cli, tmp_path_factory, entr
     body = data.draw(st.one_of(st.binary(max_size=200), structured.map(lambda t: t.encode("utf-8", "replace"))))
     f = d / f"input{suffix}"
     f.write_bytes(body)
-    url = f"sqlite:///{d / 'new.sqlite'}" if entry == "load" else build_store(d)
+    if entry not in _STORES:  # one store per entry point: 'before' is taken afresh for every example
+        _STORES[entry] = build_store(tmp_path_factory.mktemp("rand-store"))
+    url = f"sqlite:///{d / 'new.sqlite'}" if entry == "load" else _STORES[entry]
     before = None if entry == "load" else logical_dump(url)
     code, out, err = cli(command(f), db=url, catalog=LAB_CATALOG)
     assert code in (0, 1, 2), (code, out, err)  # 1: a shortlist that ranks nothing
