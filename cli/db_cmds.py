@@ -21,7 +21,7 @@ def init(force: Annotated[bool, typer.Option("--force", help="Rebuild even if th
 
     state.reset()
     url = state.url()
-    build(url, force=force)
+    changes = build(url, force=force)
     st = state.store()
     from db.query import counts_by_kind
     from sqlalchemy import func, select
@@ -33,7 +33,7 @@ def init(force: Annotated[bool, typer.Option("--force", help="Rebuild even if th
         n_src = s.execute(select(func.count(Source.id))).scalar()
         kinds = counts_by_kind(s)
     info = {"url": mask_url(url), "materials": n_mat, "sources": n_src, "values": sum(kinds.values()),
-            "values_by_kind": kinds}
+            "values_by_kind": kinds, **({"merged": changes} if changes is not None else {})}
     if json_out:
         from cli.output import print_json
 
@@ -41,7 +41,10 @@ def init(force: Annotated[bool, typer.Option("--force", help="Rebuild even if th
         return
     from cli.output import say
 
-    say(f"built {info['url']}: {n_mat} materials, {info['values']} values, {n_src} sources")
+    if changes is not None:
+        state.say_changes("merged the catalog; nothing discarded:", changes)
+    say(f"{'merged into' if changes is not None else 'built'} {info['url']}: {n_mat} materials, {info['values']} "
+        f"values, {n_src} sources")
 
 
 @db_app.command("check")

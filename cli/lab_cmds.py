@@ -53,9 +53,17 @@ def _say(text: str) -> None:
 
 
 def _quantity(text: str | None, kind: str, option: str) -> float | None:
-    from materials.units import parse_option
+    """A set condition given as an option, in SI: read and range-checked exactly as the same condition in a file's
+    header (materials.labfiles.parse_condition), so an option is never let through where a header line would not."""
+    from materials.errors import InputError
+    from materials.labfiles.header import parse_condition
 
-    return None if text is None else parse_option(text, kind, name=option)
+    if text is None:
+        return None
+    try:
+        return parse_condition(option.removeprefix("--").replace("temp", "temperature"), text)
+    except InputError as exc:
+        raise InputError(f"{option}: {exc}") from None
 
 
 def _confidence(text: str) -> float:
@@ -115,6 +123,12 @@ def _target(material, new_material, family) -> dict:
         raise InputError("give either --material KEY or --new-material NAME --family F")
     if new_material and not family:
         raise InputError("--new-material needs --family", field="--family")
+    if new_material:
+        from materials.textfile import text_problem
+
+        why = text_problem(new_material, "name")
+        if why:
+            raise InputError(f"the name {why}", field="--new-material")
     if material and family:
         raise InputError("--family goes with --new-material only", field="--family")
     return {"material_key": material, "new_material": new_material, "family": family}
@@ -249,19 +263,20 @@ def add(files: Annotated[list[Path], typer.Argument(help="Material records: cata
         dry_run: Annotated[bool, typer.Option("--dry-run", help="Print what would change; write nothing.")] = False,
         json_out: JsonOpt = False):
     """Add or update material records; a changed value retires the old row (see 'show KEY --history')."""
-    from db.labdata import add_materials, read_add_files
+    from db.labdata import add_materials, read_add_files, store_sources
 
     for f in files:
         _check_file(f)
     reason = "superseded by holdoff add " + ", ".join(f.name for f in files)
-
-    def write(s):
-        with _progress("reading files", len(files), show=len(files) > 1) as tick:
-            records, sources = read_add_files(s, files)
-            tick(len(files))
-        return records, add_materials(s, records, sources, dry_run=dry_run, reason=reason)
-
-    records, changes = state.store().write(write)
+    store = state.store()
+    # Read and validate every file against the store's sources before the write transaction: a large file is
+    # parsed while other commands go on writing. A source that vanished meanwhile is refused by add_materials.
+    with store.session(read_only=True) as s:
+        known = store_sources(s)
+    with _progress("reading files", len(files), show=len(files) > 1) as tick:
+        records, sources = read_add_files(known, files)
+        tick(len(files))
+    changes = store.write(lambda s: add_materials(s, records, sources, dry_run=dry_run, reason=reason))
     if json_out:
         from cli.output import print_json
 

@@ -24,7 +24,25 @@ def store(create: bool = True):
         from db.store import open_store
 
         _store = open_store(_url, create=create)
+        if _store.changes:
+            say_changes("the catalog changed since this store was built; merged it under your data:",
+                        _store.changes)
     return _store
+
+
+#: How many change lines are printed before the rest is counted.
+SHOWN_CHANGES = 20
+
+
+def say_changes(title: str, changes: list[str]) -> None:
+    """``title`` and the changes, one a line, on stderr (stdout stays the command's output)."""
+    import typer
+
+    typer.echo(f"holdoff: {title}", err=True)
+    for line in changes[:SHOWN_CHANGES]:
+        typer.echo(f"  {line}", err=True)
+    if len(changes) > SHOWN_CHANGES:
+        typer.echo(f"  … and {len(changes) - SHOWN_CHANGES} more", err=True)
 
 
 def reset() -> None:

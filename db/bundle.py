@@ -31,10 +31,14 @@ Lines, in this order::
                                                   by material, then in the order stored (retired rows included)
     {"type": "end", "records": N}                 N = number of lines between the first and this one
 
-A value's ``breakdown_set``, ``loop`` and ``endurance_set`` name a set or loop of the same material by its label.
-A bundle without its end line, or with a different count, is refused as truncated. ``meta`` carries the catalog
-fingerprint and any other facts about the store except its schema revision, which is the header's and, on load,
-always that of the program loading the bundle.
+A value's ``breakdown_set``, ``loop`` and ``endurance_set`` name a set or loop of the same material by its label. A
+bundle without its end line, or with a different count, is refused as truncated. Loading is as strict as ``holdoff
+add``: a field the format does not name, a newer schema revision, bytes that are not UTF-8 text (binary,
+compressed), nesting deeper than a record's, NaN or infinities, a value of the wrong JSON type, text with control,
+bidi-override or zero-width characters, a key that is not a slug, and a value or condition ``add`` would refuse are
+each refused with one line naming the file, line and field. ``meta`` carries the catalog fingerprint and any other
+facts about the store except its schema revision, which is the header's and, on load, always that of the program
+loading the bundle.
 """
 
 from __future__ import annotations
@@ -42,7 +46,9 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import json
+import math
 import os
+import re
 import tempfile
 from pathlib import Path
 
@@ -116,7 +122,9 @@ def _require_head(conn, url: str) -> None:
 
 def _snapshot(engine):
     """A connection that sees one consistent state of the store for the whole dump."""
-    conn = engine.connect()
+    from db.store import reader
+
+    conn = reader(engine).connect()
     if engine.dialect.name == "postgresql":
         conn = conn.execution_options(isolation_level="REPEATABLE READ")
     return conn
@@ -213,26 +221,105 @@ class _Loader:
         self.size = 0
         self.last = -1
         self.line = 0
+        self.family: dict[str, str] = {}
 
     def error(self, message: str, field: str | None = None) -> InputError:
         return InputError(message, file=self.file, line=self.line, field=field)
 
     def _columns(self, table: str, rec: dict, fields) -> dict:
-        from sqlalchemy import DateTime
-
+        """The columns of one record, each of its column's type and checked like the same field of ``add``."""
+        allowed = {"type", *fields, *_EXTRA.get(rec["type"], ())}
+        unknown = sorted(set(rec) - allowed)
+        if unknown:
+            raise self.error(f"unknown field '{unknown[0]}' in a '{rec['type']}' record", unknown[0])
         cols = self.tables[table].c
         row = {}
         for f in fields:
             if f not in rec:
                 raise self.error(f"missing field '{f}'", f)
-            v = rec[f]
-            if v is not None and isinstance(cols[f].type, DateTime):
-                try:
-                    v = dt.datetime.fromisoformat(v)
-                except (TypeError, ValueError):
-                    raise self.error(f"'{v}' is not an ISO 8601 time", f) from None
-            row[f] = v
+            row[f] = self._typed(cols[f], f, rec[f])
         return row
+
+    def _typed(self, col, f: str, v):
+        """``v`` as column ``col`` stores it, or one refusal: strict JSON types, finite numbers, clean text."""
+        from sqlalchemy import Boolean, DateTime, Float, Integer, String, Text
+
+        from materials.textfile import text_problem
+
+        if v is None:
+            if col.nullable and not col.primary_key and f not in _REQUIRED:
+                return None
+            raise self.error(f"'{f}' must not be null", f)
+        kind = col.type
+        if isinstance(kind, DateTime):
+            try:
+                return dt.datetime.fromisoformat(v) if isinstance(v, str) else _bad()
+            except (TypeError, ValueError):
+                raise self.error(f"'{v!r:.40}' is not an ISO 8601 time", f) from None
+        if isinstance(kind, Boolean):
+            if isinstance(v, bool) or v in (0, 1) and isinstance(v, int):
+                return bool(v)
+            raise self.error(f"'{f}' must be true or false, not {v!r:.40}", f)
+        if isinstance(kind, Float):
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                raise self.error(f"'{f}' must be a finite number, not {v!r:.40}", f)
+            return float(v)
+        if isinstance(kind, Integer):
+            if isinstance(v, bool) or not isinstance(v, int) or not 0 <= v < 2 ** 31:
+                raise self.error(f"'{f}' must be a whole number from 0 to 2^31, not {v!r:.40}", f)
+            return v
+        if isinstance(kind, (String, Text)):
+            if f == "value" and col.table.name == "meta":
+                why = None if isinstance(v, str) and "\x00" not in v else "must be text without NUL characters"
+            else:
+                why = text_problem(v, _TEXT_KIND.get(f, "note"))
+            if why:
+                raise self.error(f"'{f}' {why}", f)
+            if isinstance(kind, String) and kind.length and len(v) > kind.length:
+                raise self.error(f"'{f}' is longer than {kind.length} characters", f)
+            return v
+        raise AssertionError(f"column type {kind!r} not handled")  # pragma: no cover - every column type is above
+
+    def _check(self, kind: str, row: dict, rec: dict) -> None:
+        """What ``holdoff add`` and the lab imports would refuse: keys and vocabularies, implausible values."""
+        from materials.catalog_io import condition_problem, value_problem
+        from materials.properties import FAMILIES, ORIGINS, RESPONSES, SOURCE_KINDS
+        from materials.textfile import slug_problem
+
+        if kind in ("source", "material"):
+            why = slug_problem(row["key"], f"{kind} key")
+            if why:
+                raise self.error(why, "key")
+        allowed = {("source", "kind"): SOURCE_KINDS, ("material", "family"): FAMILIES,
+                   ("material", "origin"): ORIGINS, ("material", "response"): RESPONSES,
+                   ("breakdown_set", "waveform"): ("dc", "ac")}
+        for (k, f), words in allowed.items():
+            if k == kind and row[f] not in words:
+                raise self.error(f"{f} '{row[f]:.40}' is not one of {', '.join(words)}", f)
+        for k, f in (("material", "name"), ("source", "citation")):
+            if k == kind and not row[f].strip():
+                raise self.error(f"a {kind} needs a {f}", f)
+        if kind == "material":
+            self.family[row["key"]] = row["family"]
+        elif kind in ("breakdown_set", "loop"):
+            if not re.fullmatch(r"[0-9a-f]{64}", row["sha256"]):
+                raise self.error("sha256 must be 64 lower-case hexadecimal digits", "sha256")
+            for f, tkey in (("temperature_K", "temperature"), ("thickness_m", "thickness"),
+                            ("frequency_Hz", "frequency"), ("area_m2", "area")):
+                why = condition_problem(tkey, row[f]) if row.get(f) is not None else None
+                if why:
+                    raise self.error(why, f)
+            if row.get("ramp_V_per_s") is not None and not row["ramp_V_per_s"] > 0:
+                raise self.error("ramp_V_per_s must be positive", "ramp_V_per_s")
+        elif kind == "value":
+            problem = value_problem(row["property"], self.family.get(rec["material"]), value=row["value"],
+                                    low=row["low"], high=row["high"],
+                                    **{c: row[c] for c in ("temperature_K", "frequency_Hz", "field_V_per_m",
+                                                           "thickness_m", "area_m2")})
+            if problem:
+                raise self.error(problem[1], problem[0])
+            if (row["retired_at"] is None) != (row["retired_reason"] is None):
+                raise self.error("retired_at and retired_reason go together", "retired_reason")
 
     def _ref(self, kind: str, key, field: str):
         try:
@@ -252,6 +339,10 @@ class _Loader:
         self.last = order
         table = TABLES[kind]
         row = self._columns(table, rec, FIELDS[kind])
+        for ref in ("material", "source") if kind in ("breakdown_set", "loop", "value") else ():
+            if not isinstance(rec.get(ref), str):
+                raise self.error(f"'{ref}' must name a {ref} by its key", ref)
+        self._check(kind, row, rec)
         if kind == "meta":
             if row["key"] == "schema_revision":
                 return
@@ -288,10 +379,16 @@ class _Loader:
         points = rec.get("points")
         if not isinstance(points, list):
             raise self.error("points must be a list", "points")
+        pcols = self.tables[ptable].c
+        seen = set()
         for i, p in enumerate(points):
             if not isinstance(p, list) or len(p) != len(cols):
                 raise self.error(f"point {i + 1} does not have {len(cols)} entries", "points")
-            self._queue(ptable, {fk: owner, **dict(zip(cols, p, strict=True))})
+            row = {c: self._typed(pcols[c], f"points[{i + 1}].{c}", x) for c, x in zip(cols, p, strict=True)}
+            if row["seq"] in seen:
+                raise self.error(f"point {i + 1} repeats seq {row['seq']}", "points")
+            seen.add(row["seq"])
+            self._queue(ptable, {fk: owner, **row})
 
     def _queue(self, table: str, row: dict) -> None:
         self.pending[table].append(row)
@@ -342,13 +439,14 @@ def load_bundle(url: str, path) -> int:
 
     path = Path(path)
     if not path.is_file():
-        raise InputError("no such bundle file", file=str(path))
+        raise InputError("no such bundle file" if not path.exists() else "not a file (a folder?)", file=str(path))
+    _refuse_binary(path)
     db_file = sqlite_file(url)
     created = db_file is not None and not db_file.exists()
     engine = make_engine(url)
     n = 0
     try:
-        with connect_errors(url), engine.begin() as conn, path.open(encoding="utf-8", newline="\n") as f:
+        with connect_errors(url), engine.begin() as conn, path.open("rb") as f:
             if not inspect(conn).has_table("material"):
                 Base.metadata.create_all(conn)
                 stamp_head(conn)
@@ -361,12 +459,7 @@ def load_bundle(url: str, path) -> int:
                 conn.execute(Meta.__table__.delete())  # facts about a store that holds nothing
             loader = _Loader(conn, str(path))
             loader.line = 1
-            header = _parse(f.readline(), loader)
-            if header.get("format") != FORMAT:
-                raise loader.error(f"not a {FORMAT} file", "format")
-            if header.get("version") != VERSION:
-                raise loader.error(f"bundle version {header.get('version')} (this holdoff reads {VERSION})",
-                                   "version")
+            _check_header(_parse(f.readline(), loader), loader)
             end = None
             for loader.line, text in enumerate(f, 2):
                 if end is not None:
@@ -397,14 +490,88 @@ def load_bundle(url: str, path) -> int:
     return n
 
 
-def _parse(text: str, loader: _Loader) -> dict:
+def _parse(raw: bytes, loader: _Loader) -> dict:
+    """One line of the bundle as a JSON object; UTF-8, no NaN or Infinity, nesting no deeper than a bundle's."""
     try:
-        rec = json.loads(text)
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise loader.error(f"not UTF-8 text (byte 0x{raw[exc.start]:02x} at column {exc.start + 1})") from None
+    depth = max((len(m) for m in re.findall(r"\[+", text[:_DEPTH_SCAN])), default=0)
+    if depth > _MAX_DEPTH or text.count("{") > 1 + text.count("}") + _MAX_DEPTH:
+        raise loader.error("nested deeper than a bundle record")
+    try:
+        rec = json.loads(text, parse_constant=_no_constant)
     except json.JSONDecodeError as exc:
         raise loader.error(f"not JSON: {exc.msg} (column {exc.colno})") from None
+    except ValueError as exc:
+        raise loader.error(str(exc)) from None
+    except RecursionError:
+        raise loader.error("nested deeper than a bundle record") from None
     if not isinstance(rec, dict):
         raise loader.error("a line must hold one JSON object")
     return rec
+
+
+def _no_constant(name: str):
+    raise ValueError(f"{name} is not a number a bundle holds (values are finite)")
+
+
+def _bad():
+    raise ValueError
+
+
+# A bundle record nests at most three deep (a record, its points, one point); deeper text is refused before the
+# JSON reader recurses into it.
+_MAX_DEPTH = 3
+_DEPTH_SCAN = 1 << 20
+# Fields that are never null, whatever the column allows; text fields checked as which kind of text.
+_REQUIRED = {"created_at"}
+_TEXT_KIND = {"key": "key", "name": "name", "form": "form", "description": "description", "citation": "citation",
+              "note": "note", "label": "label", "file_name": "label", "retired_reason": "note", "kind": "text",
+              "family": "text", "origin": "text", "response": "text", "waveform": "text", "property": "text",
+              "sha256": "text"}
+# Fields of a record beside its columns: what it refers to, and its points.
+_EXTRA = {"breakdown_set": ("material", "source", "point_columns", "points"),
+          "loop": ("material", "source", "point_columns", "points"),
+          "value": ("material", "source", "breakdown_set", "loop")}
+
+
+def _refuse_binary(path: Path) -> None:
+    """Refuse a compressed or binary file before reading it as lines of text."""
+    with path.open("rb") as f:
+        head = f.read(4096)
+    if head.startswith(b"\x1f\x8b"):
+        raise InputError("a gzip-compressed file: decompress it first (gunzip)", file=str(path), line=1)
+    for magic, what in ((b"PK\x03\x04", "a zip archive"), (b"SQLite format 3\x00", "a SQLite database file"),
+                        (b"BZh", "a bzip2-compressed file"), (b"\xfd7zXZ", "an xz-compressed file")):
+        if head.startswith(magic):
+            raise InputError(f"{what}, not a {FORMAT} text file", file=str(path), line=1)
+    nul = head.find(b"\x00")
+    if nul >= 0:
+        raise InputError(f"binary data (a NUL byte at offset {nul}), not a {FORMAT} text file", file=str(path),
+                         line=1)
+
+
+_HEADER_KEYS = ("format", "version", "schema_revision")
+
+
+def _check_header(header: dict, loader: _Loader) -> None:
+    """The first line: this format, this version, a schema revision this holdoff knows; nothing else."""
+    from db.store import SCHEMA_REVISION
+
+    if header.get("format") != FORMAT:
+        raise loader.error(f"not a {FORMAT} file", "format")
+    if header.get("version") != VERSION:
+        raise loader.error(f"bundle version {header.get('version')!r:.20} (this holdoff reads {VERSION})", "version")
+    unknown = sorted(set(header) - set(_HEADER_KEYS))
+    if unknown:
+        raise loader.error(f"unknown field '{unknown[0]}' in the header", unknown[0])
+    rev = header.get("schema_revision")
+    if not isinstance(rev, str) or not rev.isascii() or not rev.isdigit():
+        raise loader.error(f"schema_revision {rev!r:.20} is not a revision number", "schema_revision")
+    if int(rev) > int(SCHEMA_REVISION):
+        raise loader.error(f"the bundle was written at schema revision {rev}, newer than this holdoff knows "
+                           f"({SCHEMA_REVISION}): load it with a newer holdoff", "schema_revision")
 
 
 def _discard(engine, created_file: Path | None) -> None:

@@ -32,25 +32,74 @@ def resolve_url(url: str | None = None) -> str:
     return url
 
 
+_SECRET_WORDS = ("password", "passwd", "pwd", "secret", "token")
+_SECRET_QUERY = re.compile(r"(?i)([?&][^=&]*(?:" + "|".join(_SECRET_WORDS) + r")[^=&]*=)[^&]*")
+
+
+def _userinfo(url: str) -> tuple[str, str, str] | None:
+    """(scheme, user:password, rest) of ``url``, splitting at the last '@' before the query: a password typed with
+    '@', ':' or '/' in it, unencoded, stays whole. None when the URL names no user."""
+    scheme, sep, rest = url.partition("://")
+    if not sep or rest.startswith("/"):
+        return None
+    head = rest.partition("?")[0]
+    at = head.rfind("@")
+    if at < 0:
+        return None
+    return scheme, rest[:at], rest[at + 1:]
+
+
 def mask_url(url: str) -> str:
-    """The URL with any password replaced, for messages."""
-    return re.sub(r"(://[^:/@]*:)[^@]*@", r"\1***@", url)
+    """The URL for messages: its password (however spelt: with '@' or ':' in it, URL-encoded) and any
+    ``password=`` (or other secret) query parameter replaced by ``***``.
+
+    SQLAlchemy renders the URL with ``hide_password``; where it would read the user part differently (an unencoded
+    '@' in the password) or cannot read the URL, the part before the last '@' is masked here.
+    """
+    from sqlalchemy.engine import make_url
+    from sqlalchemy.exc import ArgumentError
+
+    parts = _userinfo(url)
+    text = None
+    if parts is not None and "@" not in parts[1]:
+        try:
+            text = make_url(url).render_as_string(hide_password=True)
+        except (ArgumentError, ValueError, TypeError):
+            text = None
+    if text is None:
+        if parts is None:
+            text = url
+        else:
+            scheme, info, rest = parts
+            user, colon, _ = info.partition(":")
+            text = f"{scheme}://{user}{':***' if colon else ''}@{rest}"
+    return _SECRET_QUERY.sub(r"\1***", text)
 
 
-def _password(url: str) -> str | None:
-    m = re.search(r"://[^:/@]*:([^@]*)@", url)
-    return m.group(1) if m and m.group(1) else None
+def _secrets(url: str) -> list[str]:
+    """Every spelling of the URL's password and secret query values (plain and URL-encoded), longest first."""
+    from urllib.parse import parse_qsl, quote, unquote
+
+    values = []
+    parts = _userinfo(url)
+    if parts is not None and ":" in parts[1]:
+        values.append(parts[1].partition(":")[2])
+    query = url.partition("?")[2]
+    values += [v for k, v in parse_qsl(query, keep_blank_values=True) if any(w in k.lower() for w in _SECRET_WORDS)]
+    values += [m.group(0).partition("=")[2] for m in _SECRET_QUERY.finditer(url)]
+    out = set()
+    for v in values:
+        if v:
+            out |= {v, unquote(v), quote(v, safe=""), quote(unquote(v), safe="")}
+    return sorted((x for x in out if x), key=len, reverse=True)
 
 
 def error_text(exc: BaseException, url: str) -> str:
     """One line describing a driver error, with the URL's password (plain or URL-encoded) masked out."""
-    from urllib.parse import unquote
-
     orig = getattr(exc, "orig", None) or exc
     lines = [line for line in str(orig).splitlines() if line.strip()]
-    text = mask_url(lines[0] if lines else "")
-    pw = _password(url)
-    for secret in {pw, unquote(pw)} if pw else ():
+    text = lines[0] if lines else ""
+    for secret in _secrets(url):
         text = text.replace(secret, "***")
     return f"{type(orig).__name__}: {text}"
 

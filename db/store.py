@@ -4,7 +4,7 @@ store as it was. Building it from the catalog is :mod:`db.building`."""
 from __future__ import annotations
 
 import contextlib
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from db.building import _fill, _has_schema, _same_catalog_folder, _stale_catalog_only, build, build_lock, rebuild_if
 from db.building import write_catalog  # noqa: F401  (imported from here by other modules)
@@ -18,6 +18,8 @@ SCHEMA_REVISION = "0004"  # the newest migration in db/migrations/versions
 class Store:
     url: str
     engine: object
+    #: what opening it changed: a newer catalog merged under the user's data (:func:`db.building.merge_catalog`)
+    changes: list[str] = field(default_factory=list)
 
     @contextlib.contextmanager
     def session(self, *, read_only: bool = False):
@@ -28,7 +30,7 @@ class Store:
         """
         from sqlalchemy.orm import Session
 
-        bind = self.engine.execution_options(holdoff_read=True) if read_only else self.engine
+        bind = reader(self.engine) if read_only else self.engine
         with Session(bind, expire_on_commit=False) as s:
             with s.begin():
                 yield s
@@ -39,35 +41,37 @@ class Store:
     def reading(self):
         """A plain (Core) connection in one read-only transaction (rolled back at the end), for reads that need no
         ORM. On SQLite it takes no write lock: it reads one consistent snapshot while writers go on."""
-        with self.engine.connect() as conn:
-            conn = conn.execution_options(holdoff_read=True)
+        with reader(self.engine).connect() as conn:
             with conn.begin() as tx:
                 yield conn
                 tx.rollback()
 
-    def write(self, fn, *, retries: int = 12):
+    def write(self, fn, *, retries: int = 60, patience_s: float = 180.0):
         """``fn(session)`` in its own transaction, re-run when another writer got in the way; its result.
 
         Re-runs on SQLite 'database is locked' and on PostgreSQL serialization failures and deadlocks (the
         transaction runs SERIALIZABLE there, so a read-then-insert such as get-or-create of a source is safe
-        against a concurrent writer). ``fn`` must therefore do nothing outside the session it is given.
+        against a concurrent writer), including those raised by the driver itself during a ``COPY``
+        (:func:`db.bulk.bulk_insert`), up to ``retries`` times or ``patience_s`` seconds. ``fn`` must therefore do
+        nothing outside the session it is given.
         """
         import random
         import time
 
-        from sqlalchemy.exc import DBAPIError
         from sqlalchemy.orm import Session
 
         bind = self.engine
         if self.engine.dialect.name == "postgresql":
             bind = self.engine.execution_options(isolation_level="SERIALIZABLE")
+        start = time.monotonic()
         for attempt in range(retries + 1):
             try:
                 with Session(bind, expire_on_commit=False) as s:
                     with s.begin():
                         return fn(s)
-            except DBAPIError as exc:
-                if attempt == retries or not is_transient(exc):
+            except Exception as exc:  # noqa: BLE001 - COPY raises the driver's own errors, not SQLAlchemy's;
+                # only a lock or serialization conflict is re-run, anything else goes on as it came
+                if attempt == retries or time.monotonic() - start > patience_s or not is_transient(exc):
                     raise
             # Jittered exponential back-off so that colliding writers do not collide again.
             time.sleep(min(0.02 * 2 ** attempt, 1.0) * random.uniform(0.5, 1.5))
@@ -78,7 +82,17 @@ class Store:
 
 
 def is_transient(exc) -> bool:
-    """Whether a database error is a lock or serialization conflict that a re-run of the transaction can clear."""
+    """Whether a database error (SQLAlchemy's or the driver's own) is a lock or serialization conflict that a
+    re-run of the transaction can clear."""
+    import sqlite3
+    import sys
+
+    from sqlalchemy.exc import DBAPIError
+
+    psycopg = sys.modules.get("psycopg")
+    driver = (sqlite3.Error,) + ((psycopg.Error,) if psycopg is not None else ())
+    if not isinstance(exc, (DBAPIError, *driver)):
+        return False
     orig = getattr(exc, "orig", exc)
     state = getattr(orig, "sqlstate", None)
     if state in ("40001", "40P01", "55P03"):  # serialization failure, deadlock, lock not available
@@ -102,8 +116,10 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
     engine = make_engine(url)
     from sqlalchemy.exc import SQLAlchemyError
 
+    # Opening only reads: on SQLite these checks take no write lock, so a command opens the store at once while
+    # another holds a long write transaction (tests/test_store_locks.py).
     try:
-        fresh = not _has_schema(engine)
+        fresh = not _has_schema(reader(engine))
     except (SQLAlchemyError, OSError) as exc:
         engine.dispose()
         raise StoreError(f"cannot open store {mask_url(url)}: {error_text(exc, url)}") from None
@@ -121,18 +137,29 @@ def open_store(url: str | None = None, *, create: bool = True) -> Store:
             engine.dispose()
             rebuild_if(url, path, lambda e: not _has_schema(e), force=True)
             engine = make_engine(url)
-    elif path is not None and create and _stale_catalog_only(engine):
+    elif path is not None and create and _stale_catalog_only(reader(engine)):
         # A store that holds nothing but an older catalog is rebuilt from the current one (nothing is lost);
         # under the lock it is checked again, as another command may have rebuilt it or written to it meanwhile.
         engine.dispose()
         rebuild_if(url, path, _stale_catalog_only)
         engine = make_engine(url)
     try:
-        _require_current_schema(engine, url)
+        _require_current_schema(reader(engine), url)
+        store = Store(url=url, engine=engine)
+        if create:
+            from db.building import merge_if_stale
+
+            store.changes = merge_if_stale(store)
     except BaseException:
         engine.dispose()
         raise
-    return Store(url=url, engine=engine)
+    return store
+
+
+def reader(engine):
+    """``engine`` for reads only: on SQLite its transactions begin with a plain ``BEGIN`` (a WAL snapshot that
+    neither waits for a writer nor holds one up) instead of ``BEGIN IMMEDIATE``."""
+    return engine.execution_options(holdoff_read=True)
 
 
 def _require_current_schema(engine, url: str) -> None:

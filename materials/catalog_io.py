@@ -43,7 +43,8 @@ from materials.errors import InputError, UnitError
 from materials.properties import (FAMILIES, ORIGINS, PROPERTIES, RESPONSES, SOURCE_KINDS, check_plausible,
                                   outside_range)
 from materials.records import MaterialRec, SourceRec, ValueRec
-from materials.units import parse_quantity
+from materials.textfile import SLUG_PATTERN, error_line, slug_problem, text_problem
+from materials.units import check_range, parse_quantity
 
 CATALOG_DIR = Path(__file__).with_name("catalog")
 CATALOG_ENV = "HOLDOFF_CATALOG"
@@ -54,7 +55,10 @@ def catalog_dir() -> Path:
     import os
 
     return Path(os.environ.get(CATALOG_ENV) or CATALOG_DIR)
-SLUG = re.compile(r"^[a-z0-9][a-z0-9._-]*$")
+
+
+#: A key: ``SLUG.match`` matches the whole text or nothing (no trailing newline slips through ``$``).
+SLUG = re.compile(SLUG_PATTERN + r"\Z")
 
 _CONDITION_UNITS = {  # TOML condition key -> (record field, SI key)
     "temperature": ("temperature_K", "K"),
@@ -68,29 +72,41 @@ _VALUE_KEYS = {"property", "value", "low", "high", "unit", "source", "note", *_C
 _CURVE_KEYS = {"property", "over", "at_unit", "unit", "points", "source", "note", *_CONDITION_UNITS}
 
 
-def _load_toml(path: Path) -> tuple[dict, list[str]]:
+def _load_toml(path: Path) -> tuple[dict, dict]:
+    """The TOML document of ``path`` and where its tables start (see :func:`_table_lines`); a UTF-8 byte-order mark
+    is accepted."""
     try:
         text = path.read_bytes().decode("utf-8")
+        text = text.removeprefix("\ufeff")
     except UnicodeDecodeError as exc:
         raise InputError(f"not UTF-8 text (byte {exc.start})", file=str(path)) from None
     except OSError as exc:  # a missing sources.toml or a wrong HOLDOFF_CATALOG is the user's input, not a bug
         raise InputError(f"cannot read: {exc.strerror or exc}", file=str(path)) from None
     try:
-        return tomllib.loads(text), text.splitlines()
+        return tomllib.loads(text), _table_lines(text)
     except tomllib.TOMLDecodeError as exc:
-        line = getattr(exc, "lineno", None)
-        raise InputError(f"not valid TOML: {exc}", file=str(path), line=line) from None
+        raise InputError(f"not valid TOML: {exc}", file=str(path), line=error_line(exc)) from None
 
 
-def _nth_table_line(lines: list[str], header: str, n: int) -> int | None:
+_TABLE_HEADER = re.compile(r"\s*(\[\[?)\s*([^\]]*?)\s*\]")
+
+
+def _table_lines(text: str) -> dict:
+    """Where tables start, in one pass over the text (for error messages): ``{("[[", name): [line, …],
+    ("[", name): [line, …]}``, lines 1-based, in file order."""
+    out: dict[tuple[str, str], list[int]] = {}
+    for i, line in enumerate(text.splitlines(), 1):
+        if line.lstrip().startswith("["):
+            m = _TABLE_HEADER.match(line)
+            if m:
+                out.setdefault((m.group(1), m.group(2).strip('"')), []).append(i)
+    return out
+
+
+def _nth_table_line(lines: dict, header: str, n: int) -> int | None:
     """1-based line of the n-th (0-based) ``[[header]]`` in the file, for error messages."""
-    count = -1
-    for i, line in enumerate(lines, 1):
-        if line.strip().startswith(f"[[{header}]]"):
-            count += 1
-            if count == n:
-                return i
-    return None
+    found = lines.get(("[[", header), ())
+    return found[n] if n < len(found) else None
 
 
 def load_sources(path: Path) -> dict[str, SourceRec]:
@@ -98,22 +114,27 @@ def load_sources(path: Path) -> dict[str, SourceRec]:
     data, lines = _load_toml(path)
     out: dict[str, SourceRec] = {}
     for key, body in data.items():
-        line = next((i for i, text in enumerate(lines, 1) if text.strip() == f"[{key}]"), None)
+        line = (lines.get(("[", key)) or [None])[0]
         err = dict(file=str(path), line=line, entry=key)
         if not isinstance(body, dict):
             raise InputError("each source must be a table", **err)
-        if not SLUG.match(key):
-            raise InputError("source key must be a lower-case slug", field="key", **err)
+        why = slug_problem(key, "source key")
+        if why:
+            raise InputError(why, field="key", **err)
         unknown = set(body) - {"kind", "citation", "note"}
         if unknown:
             raise InputError(f"unknown field(s) {sorted(unknown)}", field=sorted(unknown)[0], **err)
         kind = body.get("kind")
-        if kind not in SOURCE_KINDS:
+        if not isinstance(kind, str) or kind not in SOURCE_KINDS:
             raise InputError(f"kind '{kind}' is not one of {', '.join(SOURCE_KINDS)}", field="kind", **err)
-        citation = str(body.get("citation", "")).strip()
+        for f in ("citation", "note"):
+            why = text_problem(body.get(f, ""), f)
+            if why:
+                raise InputError(f"{f} {why}", field=f, **err)
+        citation = body.get("citation", "").strip()
         if not citation:
             raise InputError("a source needs a full citation", field="citation", **err)
-        out[key] = SourceRec(key=key, kind=kind, citation=citation, note=str(body.get("note", "")).strip())
+        out[key] = SourceRec(key=key, kind=kind, citation=citation, note=body.get("note", "").strip())
     return out
 
 
@@ -134,6 +155,72 @@ def _number(v, *, si: str, unit: str | None, name: str) -> float:
     raise UnitError(f"'{v}' is not a number")
 
 
+# The option kind whose plausible range (materials.units.OPTION_RANGES) bounds each condition; a field of 0 (the
+# start of a DC-bias curve) is allowed, its upper bound is the field option's.
+_CONDITION_KIND = {"temperature": "temperature", "frequency": "frequency", "thickness": "thickness",
+                   "area": "capacitor_area", "field": "field"}
+#: Significant digits a converted condition keeps: 77 °F is 298.15 K, not 298.1499999999988 K, so that the same
+#: condition typed in two units is one condition.
+CONDITION_DIGITS = 12
+
+
+def round_condition(value: float) -> float:
+    """A condition converted to SI, rounded to :data:`CONDITION_DIGITS` significant digits."""
+    return float(f"{value:.{CONDITION_DIGITS}g}")
+
+
+def condition_problem(tkey: str, x) -> str | None:
+    """Why ``x`` (SI) cannot be the condition ``tkey`` (temperature, frequency, field, thickness, area) of a value,
+    or None: a finite number, positive and plausible (materials.units.OPTION_RANGES); a field may be 0."""
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return f"{tkey} must be a number, not {x!r:.40}"
+    if not math.isfinite(x):
+        return f"{tkey} is not a finite number ({x!r})"
+    if tkey == "field" and x == 0:
+        return None
+    if tkey == "field" and x < 0:
+        return f"{tkey} {x!r} must not be negative (the field's magnitude)"
+    try:
+        check_range(x, _CONDITION_KIND[tkey], name=tkey, shown=x)
+    except UnitError as exc:
+        return str(exc)
+    return None
+
+
+_SI_CONDITION = {field: tkey for tkey, (field, _) in _CONDITION_UNITS.items()}
+
+
+def value_problem(prop, family: str | None, *, value, low=None, high=None, **conditions) -> tuple[str, str] | None:
+    """(field, why) for a value that ``holdoff add`` would refuse, or None: the property is in the vocabulary; value,
+    low and high are finite numbers of plausible size for the material's family, the value inside low…high; every
+    condition (keyword: ``temperature_K``, ``frequency_Hz``, ``field_V_per_m``, ``thickness_m``, ``area_m2``; SI)
+    passes :func:`condition_problem`. The one check behind catalog files, value tables, bundles and ``db check``."""
+    if not isinstance(prop, str) or prop not in PROPERTIES:
+        return "property", f"unknown property '{prop}' (see the vocabulary in DESIGN notes)"
+    for f, v in (("value", value), ("low", low), ("high", high)):
+        if v is None:
+            if f == "value":
+                return f, "missing value"
+            continue
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            return f, f"'{v!r:.40}' is not a number"
+        if not math.isfinite(v):
+            return f, "not a finite number (NaN or infinity)"
+        why = check_plausible(prop, v, family)
+        if why:
+            return f, why
+    if low is not None and high is not None and low > high:
+        return "low", "low is above high"
+    if outside_range(value, low, high):
+        return "value", "value lies outside its own low…high range"
+    for name, x in conditions.items():
+        if x is not None:
+            why = condition_problem(_SI_CONDITION[name], x)
+            if why:
+                return name, why
+    return None
+
+
 def _conditions(body: dict) -> dict:
     out = {}
     for tkey, (field, si) in _CONDITION_UNITS.items():
@@ -143,11 +230,13 @@ def _conditions(body: dict) -> dict:
             if isinstance(v, (int, float)) and not isinstance(v, bool) and default:
                 v = f"{v} {default}"
             try:
-                out[field] = _number(v, si=si, unit=None, name=tkey)
+                x = round_condition(_number(v, si=si, unit=None, name=tkey))
             except UnitError as exc:
                 raise _FieldError(tkey, str(exc)) from None
-            if tkey in ("frequency", "thickness", "area") and out[field] <= 0:
-                raise _FieldError(tkey, f"{tkey} must be positive")
+            why = condition_problem(tkey, x)
+            if why:
+                raise _FieldError(tkey, why)
+            out[field] = x
     return out
 
 
@@ -166,6 +255,10 @@ def _value_rec(body: dict, *, family: str, sources: dict[str, SourceRec], allowe
     src = body.get("source")
     if not src:
         raise _FieldError("source", "every value needs a source")
+    for f in ("note", "unit"):
+        why = text_problem(body[f], "note" if f == "note" else "text") if f in body else None
+        if why:
+            raise _FieldError(f, f"{f} {why}")
     if not isinstance(src, str) or src not in sources:
         raise _FieldError("source", f"source '{src}' is not in sources.toml")
     si = PROPERTIES[prop].si
@@ -177,19 +270,12 @@ def _value_rec(body: dict, *, family: str, sources: dict[str, SourceRec], allowe
                 nums[f] = _number(body[f], si=si, unit=unit, name=f)
             except UnitError as exc:
                 raise _FieldError(f, str(exc)) from None
-    if "value" not in nums:
-        raise _FieldError("value", "missing value")
-    for f, v in nums.items():
-        why = check_plausible(prop, v, family)
-        if why:
-            raise _FieldError(f, why)
     lo, hi = nums.get("low"), nums.get("high")
-    if lo is not None and hi is not None and lo > hi:
-        raise _FieldError("low", "low is above high")
-    if outside_range(nums["value"], lo, hi):
-        raise _FieldError("value", "value lies outside its own low…high range")
+    problem = value_problem(prop, family, value=nums.get("value"), low=lo, high=hi)
+    if problem:
+        raise _FieldError(*problem)
     return ValueRec(property=prop, value=nums["value"], low=lo, high=hi, source=src,
-                    note=str(body.get("note", "")).strip(), **_conditions(body))
+                    note=body.get("note", "").strip(), **_conditions(body))
 
 
 def _curve_recs(body: dict, *, family: str, sources: dict[str, SourceRec]) -> list[ValueRec]:
@@ -232,10 +318,16 @@ def load_material(path: Path, sources: dict[str, SourceRec], *, origin: str = "c
     unknown = set(data) - _MATERIAL_KEYS
     if unknown:
         raise InputError(f"unknown field '{sorted(unknown)[0]}'", field=sorted(unknown)[0], **err)
-    if not isinstance(key, str) or not SLUG.match(key):
-        raise InputError("material key must be a lower-case slug", field="key", **err)
+    why = slug_problem(key, "material key")
+    if why:
+        raise InputError(why, field="key", **err)
+    for f in ("name", "family", "form", "description", "response", "origin"):
+        problem = text_problem(data[f], "text" if f in ("family", "response", "origin") else f) \
+            if f in data else None
+        if problem:
+            raise InputError(f"{f} {problem}", entry=key, field=f, **err)
     for f in ("name", "family"):
-        if not str(data.get(f, "")).strip():
+        if not data.get(f, "").strip():
             raise InputError(f"missing {f}", entry=key, field=f, **err)
     family = data["family"]
     if family not in FAMILIES:
@@ -246,8 +338,9 @@ def load_material(path: Path, sources: dict[str, SourceRec], *, origin: str = "c
     origin = data.get("origin", origin)
     if origin not in ORIGINS:
         raise InputError(f"origin '{origin}' is not one of {', '.join(ORIGINS)}", entry=key, field="origin", **err)
-    rec = MaterialRec(key=key, name=str(data["name"]).strip(), family=family, form=str(data.get("form", "")),
-                      description=str(data.get("description", "")).strip(), origin=origin, response=response)
+    rec = MaterialRec(key=key, name=data["name"].strip(), family=family, form=data.get("form", ""),
+                      description=data.get("description", "").strip(), origin=origin, response=response,
+                      given=frozenset(f for f in ("name", "family", "form", "description", "response") if f in data))
     seen = {}
     for table, items in (("value", data.get("value", [])), ("curve", data.get("curve", []))):
         if not isinstance(items, list):

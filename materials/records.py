@@ -44,6 +44,9 @@ class MaterialRec:
     origin: str = "catalog"
     response: str = "linear"
     values: list[ValueRec] = field(default_factory=list)
+    #: the descriptive fields the record states (None: all of them); an update of a material in the store
+    #: changes only these, so a file that gives only values keeps the stored form and description.
+    given: frozenset | None = None
 
 
 @dataclass(frozen=True)

@@ -70,7 +70,9 @@ _TEMPERATURE_LETTERS = {"C": "degC", "F": "degF"}
 #: Longest unit text read; a longer one is refused before any pattern or pint sees it.
 MAX_UNIT_CHARS = 100
 
-_NUMBER = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)")
+# ASCII digits only: Python's \\d and float() also read full-width and other scripts' digits ("１２"), which a
+# user never means as a number in a data file.
+_NUMBER = re.compile(r"\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)")
 
 
 @functools.lru_cache(maxsize=1)
@@ -233,10 +235,46 @@ CLI_DEFAULTS = {
 }
 
 
+# Plausible SI range of each option kind: (lowest, highest), the lowest excluded (every one of these quantities is
+# positive, a temperature above 0 K). Wide on purpose: they catch sign and unit slips (--area "1e6 m^2" for an
+# electrode, --temp 5000), not unusual designs.
+OPTION_RANGES = {
+    "voltage": (0.0, 1e8),
+    "temperature": (0.0, 2300.0),
+    "energy": (0.0, 1e12),
+    "energy_density": (0.0, 1e10),
+    "thickness": (0.0, 1.0),  # gas and liquid gaps too
+    "electrode_area": (0.0, 10.0),
+    "capacitor_area": (0.0, 1e5),
+    "field": (0.0, 1e10),
+    "frequency": (0.0, 1e12),
+    "current": (0.0, 1e6),
+    "ramp": (0.0, 1e13),
+    "pressure": (0.0, 1e9),
+}
+
+
+def check_range(value: float, kind: str, *, name: str, shown) -> float:
+    """``value`` (SI, of CLI option ``kind``) if it lies in :data:`OPTION_RANGES`; else one refusal saying why."""
+    from materials.numfmt import fmt_number
+
+    lo, hi = OPTION_RANGES[kind]
+    si = CLI_DEFAULTS[kind][1]
+    if not value > lo:
+        what = "above absolute zero" if kind == "temperature" else "positive"
+        raise UnitError(f"{name}: {_shown(str(shown))} must be {what}")
+    if value > hi:
+        raise UnitError(f"{name}: {_shown(str(shown))} = {fmt_number(value, 6)} {si} is above the plausible "
+                        f"{fmt_number(hi, 6)} {si} (a unit slip?)")
+    return value
+
+
 def parse_option(text, kind: str, *, name: str | None = None) -> float:
-    """Parse a CLI option of ``kind`` (a key of :data:`CLI_DEFAULTS`) into SI."""
+    """Parse a CLI option of ``kind`` (a key of :data:`CLI_DEFAULTS`) into SI, range-checked
+    (:data:`OPTION_RANGES`)."""
     default, si = CLI_DEFAULTS[kind]
-    return parse_quantity(text, si=si, default_unit=default, name=name or kind)
+    name = name or kind
+    return check_range(parse_quantity(text, si=si, default_unit=default, name=name), kind, name=name, shown=text)
 
 
 def kelvin_to_celsius(t_K: float) -> float:

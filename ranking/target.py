@@ -45,6 +45,7 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
 
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -114,6 +115,10 @@ class Target:
             raise InputError("energy must be positive")
         if self.energy_density_J_per_m3 is not None and not self.energy_density_J_per_m3 > 0:
             raise InputError("energy density must be positive")
+        if self.area_m2 is not None and not self.area_m2 > 0:
+            raise InputError("area must be positive")
+        if self.max_loss_tangent is not None and not 0 < self.max_loss_tangent <= 1:
+            raise InputError("max loss tangent must lie above 0 and at most 1")
         self._check_service()
 
     def _check_service(self) -> None:
@@ -196,9 +201,11 @@ def parse_weights(text: str | None) -> dict:
         if name not in CRITERIA:
             raise InputError(f"--weights: unknown criterion '{name}' (one of {', '.join(CRITERIA)})")
         try:
-            out[name] = float(w)
+            out[name] = float(w) if w.strip().isascii() else math.nan
         except ValueError:
             raise InputError(f"--weights: '{w.strip()}' is not a number") from None
+        if not math.isfinite(out[name]):
+            raise InputError(f"--weights: weight of '{name}' is not a finite number ('{w.strip()}')")
         if out[name] < 0:
             raise InputError(f"--weights: weight of '{name}' is negative")
     return out
@@ -247,7 +254,7 @@ def _option(key: str) -> str:
 
 def _quantities(given: dict, *, options: bool) -> dict:
     """The quantities among ``given`` (by file key) as SI Target fields; errors name the option if ``options``."""
-    return {attr: parse_option(given[key], kind, name=_option(key) if options else None)
+    return {attr: parse_option(given[key], kind, name=_option(key) if options else key)
             for key, attr, kind in _QUANTITIES if key in given}
 
 
@@ -291,7 +298,42 @@ def _flag(table: dict, key: str, default: bool) -> bool:
     """A yes/no field of a target file: a TOML boolean, never a string or a number read as one."""
     v = table.get(key, default)
     if not isinstance(v, bool):
-        raise TypeError(f"'{key}' must be true or false, not {v!r}")
+        raise _FileFieldError(key, f"'{key}' must be true or false, not {v!r:.40}")
+    return v
+
+
+def _real(table: dict, key: str, default):
+    """A plain number field of a target file: a finite TOML integer or float (not a string, boolean or NaN)."""
+    v = table.get(key, default)
+    if v is None:
+        return None
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        raise _FileFieldError(key, f"must be a number, not {v!r:.40}")
+    if not math.isfinite(v):
+        raise _FileFieldError(key, f"must be a finite number, not {v!r}")
+    return float(v)
+
+
+class _FileFieldError(Exception):
+    def __init__(self, field: str, message: str):
+        super().__init__(message)
+        self.field = field
+
+
+def _families(table: dict) -> tuple[str, ...]:
+    v = table.get("families", [])
+    if not isinstance(v, list) or not all(isinstance(f, str) for f in v):
+        raise _FileFieldError("families", f"must be a list of family names, e.g. [\"polymer-film\"], not {v!r:.60}")
+    return tuple(v)
+
+
+def _text(table: dict, key: str) -> str:
+    from materials.textfile import text_problem
+
+    v = table.get(key, "")
+    why = text_problem(v, "name")
+    if why:
+        raise _FileFieldError(key, f"{key} {why}")
     return v
 
 
@@ -299,7 +341,7 @@ def _whole(table: dict, key: str, default: int) -> int:
     """A whole-number field of a target file: a TOML integer, never a string, a float or a boolean."""
     v = table.get(key, default)
     if isinstance(v, bool) or not isinstance(v, int):
-        raise TypeError(f"'{key}' must be a whole number, not {v!r}")
+        raise _FileFieldError(key, f"'{key}' must be a whole number, not {v!r:.40}")
     return v
 
 
@@ -308,8 +350,14 @@ def load_target(path: Path) -> Target:
     from materials.textfile import load_text
 
     path = Path(path)
-    data = load_text(path, tomllib.loads, kind="TOML")
+    data = load_text(path, lambda text: tomllib.loads(text.removeprefix("\ufeff")), kind="TOML")
+    extra = set(data) - {"target", "weights", "stack"}
+    if extra:
+        raise InputError(f"unknown table or field '{sorted(extra)[0]}' (a target file holds [target], [weights] "
+                         "and [[stack]] tables)", file=str(path), field=sorted(extra)[0])
     t = data.get("target", {})
+    if not isinstance(t, dict):
+        raise InputError("must be a table ([target]) of fields", file=str(path), field="target")
     unknown = set(t) - _FILE_KEYS
     if unknown:
         raise InputError(f"unknown field '{sorted(unknown)[0]}'", file=str(path), field=sorted(unknown)[0])
@@ -318,25 +366,34 @@ def load_target(path: Path) -> Target:
             raise InputError("missing", file=str(path), field=required)
     try:
         kw = dict(
-            **_quantities(t, options=False),
-            max_loss_tangent=float(t["max_loss_tangent"]) if "max_loss_tangent" in t else None,
-            failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
-            families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
-            assume_defaults=_flag(t, "assume_defaults", True), strict=_flag(t, "strict", False),
-            extrapolate=_flag(t, "extrapolate", False), max_sections=_whole(t, "max_sections", 1),
-            name=str(t.get("name", "")),
-            ripple=parse_ripple(t.get("ripple"), current=t.get("ripple_current"), frequency=t.get("ripple_frequency"),
-                                options=False),
-            life_fraction=float(t.get("life_fraction", 0.01)),
-            packing_factor=float(t["packing_factor"]) if "packing_factor" in t else None,
+            max_loss_tangent=_real(t, "max_loss_tangent", None),
+            failure_probability=_real(t, "failure_probability", 0.01), margin=_real(t, "margin", 1.0),
+            families=_families(t), assume_defaults=_flag(t, "assume_defaults", True),
+            strict=_flag(t, "strict", False), extrapolate=_flag(t, "extrapolate", False),
+            max_sections=_whole(t, "max_sections", 1), name=_text(t, "name"),
+            **_quantities(t, options=False), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
+            ripple=parse_ripple(t.get("ripple"), current=t.get("ripple_current"),
+                                frequency=t.get("ripple_frequency"), options=False),
+            life_fraction=_real(t, "life_fraction", 0.01), packing_factor=_real(t, "packing_factor", None),
         )
+    except _FileFieldError as exc:
+        raise InputError(str(exc), file=str(path), field=exc.field) from None
     except UnitError as exc:
         raise InputError(str(exc), file=str(path)) from None
     except (TypeError, ValueError) as exc:
         raise InputError(f"bad value: {exc}", file=str(path)) from None
+    table = data.get("weights", {})
+    if not isinstance(table, dict):
+        raise InputError("must be a table ([weights]) of criterion = weight", file=str(path), field="weights")
     weights = {}
-    for k, v in data.get("weights", {}).items():
-        weights.update(parse_weights(f"{k}={v}"))
+    for k, v in table.items():
+        try:
+            _real(table, k, None)
+            weights.update(parse_weights(f"{k}={v}"))
+        except _FileFieldError as exc:
+            raise InputError(str(exc), file=str(path), field=f"weights.{k}") from None
+        except InputError as exc:
+            raise InputError(str(exc), file=str(path), field=f"weights.{k}") from None
     try:
         return Target(weights=weights, stacks=_stacks(data.get("stack", [])), **kw)
     except InputError as exc:

@@ -82,11 +82,12 @@ def fill_lab_data(store) -> None:
     with store.session() as s:
         src = Source(key="lab-bench-7", kind="lab", citation="Bench 7 breakdown rig, run book p. 12 — µm films, "
                      "ε′ at 1 kHz; \"quoted\" and\ttabbed\nand a second line", note="")
-        odd = Source(key=HOSTILE, kind="invented", citation=HOSTILE, note="ünïcödé ✓ 🧪")
+        # Keys are slugs (a bundle or 'add' refuses any other); the hostile text sits in every free-text field.
+        odd = Source(key="hostile-text", kind="invented", citation=HOSTILE, note="ünïcödé ✓ 🧪")
         mat = Material(key="lab-film-a", name="Laboratory film A", family="polymer-film", form="cast film",
                        description="", origin="lab", response="linear")
-        mat2 = Material(key=HOSTILE, name=HOSTILE, family="ceramic-class-2", form="", description="Robert'); --",
-                        origin="user", response="nonlinear")
+        mat2 = Material(key="hostile-ceramic", name=HOSTILE, family="ceramic-class-2", form="",
+                        description="Robert'); --", origin="user", response="nonlinear")
         s.add_all([src, odd, mat, mat2])
         s.flush()
         bset = BreakdownSet(material_id=mat.id, label="25 °C, 3 µm", thickness_m=3e-6, area_m2=1.0e-4,

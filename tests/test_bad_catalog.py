@@ -251,3 +251,71 @@ def test_any_material_file_loads_or_raises_input_error(mini_catalog):
             assert rec.key == doc["key"] and rec.family == doc["family"]
 
     check()
+
+
+# --- what the readers accept: a byte-order mark, °F conditions, a file that gives only values ---------------------
+
+FILM = """key = "bom-film"
+name = "A film saved with a byte-order mark"
+family = "polymer-film"
+
+[[value]]
+property = "relative_permittivity"
+value = 2.2
+temperature = "77 degF"
+source = "lab-fixture-handbook"
+
+[[curve]]
+property = "loss_tangent"
+over = "temperature"
+at_unit = "degF"
+points = [[-40, 0.0003], [77, 0.0002], [185, 0.0004]]
+source = "lab-fixture-handbook"
+"""
+
+
+def test_a_byte_order_mark_is_accepted_and_fahrenheit_conditions_land_on_round_kelvin(tmp_path):
+    """77 °F is 298.15 K exactly (NIST SP 811 §B.9: T/K = (t/°F + 459.67)/1.8), not 298.1499999999988 K, so it is
+    the same condition as 25 °C; −40 °F = −40 °C = 233.15 K, 185 °F = 85 °C = 358.15 K."""
+    from materials.catalog_io import load_material, load_sources
+
+    sources = load_sources(Path(__file__).parent / "data" / "mini_catalog" / "sources.toml")
+    f = tmp_path / "bom-film.toml"
+    f.write_bytes(b"\xef\xbb\xbf" + FILM.encode("utf-8"))
+    rec = load_material(f, sources, origin="user")
+    assert rec.key == "bom-film"
+    assert [v.temperature_K for v in rec.values] == [298.15, 233.15, 298.15, 358.15]
+    same = FILM.replace('"77 degF"', '"25 degC"').replace("loss_tangent", "relative_permittivity", 1)
+    (tmp_path / "dup.toml").write_text(same.replace("[[curve]]", "[[value]]\nproperty = \"relative_permittivity\""
+                                                    "\nvalue = 2.3\ntemperature = \"77 degF\"\nsource = "
+                                                    "\"lab-fixture-handbook\"\n\n[[curve]]"), encoding="utf-8")
+    with pytest.raises(InputError, match="duplicates"):
+        load_material(tmp_path / "dup.toml", sources)
+
+
+def test_a_byte_order_mark_in_a_target_file_is_accepted(tmp_path):
+    from ranking.target import load_target
+
+    f = tmp_path / "t.toml"
+    f.write_bytes(b"\xef\xbb\xbf[target]\nvoltage = \"800 V\"\ntmin = \"-40 degC\"\ntmax = \"185 degF\"\n")
+    assert load_target(f).tmax_K == pytest.approx(358.15, abs=1e-9)
+
+
+def test_a_file_that_gives_only_values_keeps_the_stored_form_and_description(cli, tmp_path):
+    """Updating an existing material from a file without form or description changes its values, not its text."""
+    from lab_support import LAB_CATALOG, build_store
+
+    url = build_store(tmp_path)
+    code, out, err = cli(["show", "fixture-film", "--json"], db=url, catalog=LAB_CATALOG)
+    import json
+
+    before = json.loads(out)
+    assert before["form"] or before["description"]
+    f = tmp_path / "partial.toml"
+    f.write_text(f'key = "fixture-film"\nname = "{before["name"]}"\nfamily = "polymer-film"\n\n[[value]]\n'
+                 'property = "density"\nvalue = "1.1 g/cm^3"\nsource = "lab-fixture-handbook"\n', encoding="utf-8")
+    code, out, err = cli(["add", f], db=url, catalog=LAB_CATALOG)
+    assert code == 0, err
+    after = json.loads(cli(["show", "fixture-film", "--json"], db=url, catalog=LAB_CATALOG)[1])
+    assert (after["form"], after["description"]) == (before["form"], before["description"])
+    assert 1100.0 in [v["value"] for v in after["values"] if v["property"] == "density"]

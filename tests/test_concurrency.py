@@ -148,3 +148,44 @@ def test_two_first_opens_of_an_empty_server_build_it_once(pg_url):
     outs = [p.communicate(timeout=60) for p in procs]
     assert [p.returncode for p in procs] == [0, 0], [err for _, err in outs]
     assert [out.strip() for out, _ in outs] == ["4", "4"]
+
+
+IMPORTERS = 8
+
+
+@pytest.mark.postgres
+def test_eight_breakdown_imports_at_once_all_land(pg_url, tmp_path):
+    """Eight ``holdoff breakdown import`` processes started together against one PostgreSQL store: their points go
+    in by COPY inside SERIALIZABLE transactions that collide; every transaction that loses is re-run, so all eight
+    sets land whole, and the eight first uses of the new lab material make it once."""
+    import os
+
+    import numpy as np
+
+    from db.labdata import describe_sets, read_points
+    from db.store import build, open_store
+    from lab_support import write_set
+    from materials.labfiles import read_breakdown
+
+    build(pg_url, catalog_dir=pg.MINI_CATALOG)
+    files = [write_set(tmp_path / f"run{i}.csv", 600 * np.random.default_rng(i).weibull(10.0, 3_000),
+                       header={"temperature": f"{25 + 5 * i}", "area": "1 cm^2", "thickness": "3 um"})
+             for i in range(IMPORTERS)]
+    env = dict(os.environ, HOLDOFF_CATALOG=str(pg.MINI_CATALOG), COLUMNS="120")
+    code = ("import sys; from cli.app import main; print('ready', flush=True); sys.stdin.readline(); "
+            "sys.argv = ['holdoff', *sys.argv[1:]]; main()")
+    results = run_together(code, [["--db", pg_url, "breakdown", "import", str(f), "--new-material",
+                                   "Concurrency test film", "--family", "polymer-film"] for f in files],
+                           env=env, timeout=300)
+    for rc, _out, err in results:
+        assert rc == 0 and "Traceback" not in err, err
+    store = open_store(pg_url, create=False)
+    try:
+        with store.session() as s:
+            sets = describe_sets(s, "concurrency-test-film")["breakdown_sets"]
+            assert sorted(x["label"] for x in sets) == sorted(f"run{i}" for i in range(IMPORTERS))
+            for i, f in enumerate(files):
+                assert np.array_equal(read_points(s, "concurrency-test-film", f"run{i}")[0],
+                                      read_breakdown(f).fields_V_per_m)
+    finally:
+        store.dispose()

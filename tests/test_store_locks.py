@@ -83,3 +83,34 @@ def test_a_read_neither_waits_for_a_writer_nor_sees_its_uncommitted_rows(tmp_pat
         writer.execute("ROLLBACK")
         writer.close()
         store.dispose()
+
+
+def test_commands_answer_while_another_process_holds_a_long_write(tmp_path):
+    """Opening the store, ``catalog``, ``shortlist``, ``show``, ``sources`` and ``db check`` take no write lock: each
+    finishes while another process still holds its write transaction (held far longer than the 30 s busy timeout a
+    write-locking open would wait out, then fail with exit code 3)."""
+    import sqlite3
+    import subprocess
+    import sys
+
+    from db.store import build
+    from procs import REPO
+
+    path = tmp_path / "s.sqlite"
+    build(f"sqlite:///{path}", catalog_dir=pg.MINI_CATALOG)
+    writer = sqlite3.connect(path, isolation_level=None)
+    env = dict(os.environ, HOLDOFF_CATALOG=str(pg.MINI_CATALOG), COLUMNS="120")
+    try:
+        writer.execute("BEGIN IMMEDIATE")
+        writer.execute("INSERT INTO meta (key, value) VALUES ('long-writer', 'holding')")
+        for args in (["catalog"], ["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "85",
+                                   "--energy-density", "0.5"],
+                     ["show", "mini-film"], ["sources"], ["db", "check"]):
+            r = subprocess.run([sys.executable, "-m", "cli.app", "--db", str(path), *args], cwd=REPO, env=env,
+                               capture_output=True, text=True, timeout=25)
+            assert r.returncode in (0, 1), (args, r.stderr)
+            assert "locked" not in r.stderr
+        assert writer.in_transaction  # the writer held its lock the whole time
+    finally:
+        writer.execute("ROLLBACK")
+        writer.close()

@@ -79,6 +79,7 @@ def add_materials(session, records: list[MaterialRec], sources: dict[str, Source
     if not dry_run:
         session.flush()
     now = _now()
+    new_rows: list[tuple] = []  # inserted at the end in one executemany (20,000 ORM objects take seconds)
     for rec in records:
         mat = _material(session, rec.key)
         if mat is None:
@@ -90,10 +91,12 @@ def add_materials(session, records: list[MaterialRec], sources: dict[str, Source
             session.add(mat)
             session.flush()
             for v in rec.values:
-                session.add(_value_row(mat.id, v, rows[v.source].id))
+                new_rows.append(_value_row(mat.id, v, rows[v.source].id, now))
             continue
         n_before = len(changes)
         for f in ("name", "family", "form", "description", "response"):
+            if rec.given is not None and f not in rec.given:
+                continue
             old, new = getattr(mat, f) or "", getattr(rec, f) or ""
             if old != new:
                 changes.append(f"{rec.key}: {f} '{old}' → '{new}'")
@@ -123,11 +126,16 @@ def add_materials(session, records: list[MaterialRec], sources: dict[str, Source
                     for o in olds:
                         o.retired_at, o.retired_reason = now, reason
             if not dry_run:
-                session.add(_value_row(mat.id, v, rows[v.source].id))
+                new_rows.append(_value_row(mat.id, v, rows[v.source].id, now))
         if len(changes) == n_before:
             changes.append(f"{rec.key}: unchanged ({unchanged} value(s))")
     if not dry_run:
+        from db.bulk import insert_rows
+        from db.models import PropertyValue
+
         session.flush()
+        if new_rows:
+            insert_rows(session, PropertyValue.__table__, _VALUE_COLUMNS, new_rows)
     return changes
 
 
@@ -136,12 +144,27 @@ def _same_value(pv, v: ValueRec) -> bool:
             and (pv.note or "") == (v.note or ""))
 
 
-def _value_row(material_id: int, v: ValueRec, source_id: int):
-    from db.models import PropertyValue
+_VALUE_COLUMNS = ("material_id", "property", "value", "low", "high", *CONDITIONS, "source_id", "note", "created_at")
 
-    return PropertyValue(material_id=material_id, property=v.property, value=v.value, low=v.low, high=v.high,
-                         temperature_K=v.temperature_K, frequency_Hz=v.frequency_Hz, field_V_per_m=v.field_V_per_m,
-                         thickness_m=v.thickness_m, area_m2=v.area_m2, source_id=source_id, note=v.note)
+
+def _value_row(material_id: int, v: ValueRec, source_id: int, now) -> tuple:
+    """A new value row in :data:`_VALUE_COLUMNS` order."""
+    return (material_id, v.property, v.value, v.low, v.high, *(getattr(v, c) for c in CONDITIONS), source_id,
+            v.note, now)
+
+
+def _check_text(rec: MaterialRec, path: Path) -> None:
+    """Refuse control, bidirectional-override and zero-width characters, and overlong text, in a record's names
+    (the TOML reader checks its own fields; this covers every reader)."""
+    from materials.textfile import slug_problem, text_problem
+
+    why = slug_problem(rec.key, "material key")
+    if why:
+        raise InputError(why, file=str(path), entry=rec.key, field="key")
+    for f in ("name", "form", "description"):
+        why = text_problem(getattr(rec, f), f)
+        if why:
+            raise InputError(f"{f} {why}", file=str(path), entry=rec.key, field=f)
 
 
 def store_sources(session) -> dict[str, SourceRec]:
@@ -159,6 +182,8 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
 
     Sources: a file named ``sources.toml`` among ``paths``, or beside a material file, is read as a bibliography
     (the catalog's ``sources.toml`` form); values may cite those and any source already in the store.
+    ``session`` is an open session, or the store's sources as :func:`store_sources` returns them (so that the
+    files are read before any write transaction begins).
 
     Returns:
         (records in file order, the new sources read).
@@ -179,7 +204,7 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
             if k in new_sources and new_sources[k] != rec:
                 raise InputError(f"source '{k}' is defined twice, differently", file=str(p), entry=k)
             new_sources[k] = rec
-    known = {**store_sources(session), **new_sources}
+    known = {**(session if isinstance(session, dict) else store_sources(session)), **new_sources}
     records: list[MaterialRec] = []
     where: dict[str, Path] = {}
     for p in paths:
@@ -194,6 +219,7 @@ def read_add_files(session, paths) -> tuple[list[MaterialRec], dict[str, SourceR
         else:
             raise InputError("'holdoff add' reads material .toml files and value tables in .csv", file=str(p))
         for r in found:
+            _check_text(r, p)
             if r.key in where:
                 raise InputError(f"material '{r.key}' is also in {where[r.key]}", file=str(p), entry=r.key)
             where[r.key] = p

@@ -109,7 +109,7 @@ def read_breakdown(path, overrides: dict | None = None, *,
             d = set_d
         if per_volt:
             x = x / d
-        if not lo <= x <= hi or "_" in cell:
+        if not lo <= x <= hi or "_" in cell or not cell.isascii():
             _refuse_field(cell, x, main, lines)
         values.append(x)
         if ci is not None:

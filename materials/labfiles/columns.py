@@ -143,7 +143,7 @@ def _number(cell: str, col: _Column, lines: _Lines) -> float:
         v = float(cell)
     except ValueError:
         raise _cell_error(cell, col, lines) from None
-    if not math.isfinite(v) or "_" in cell:
+    if not math.isfinite(v) or "_" in cell or not cell.isascii():  # float() also reads "1_0" and "１２"
         raise lines.error(f"not a finite number: '{cell.strip()}' (column {col.index + 1})", field=col.heading)
     return v
 

@@ -112,7 +112,12 @@ def parse_condition(key: str, text) -> float:
 
 
 def _text_condition(key: str, value: str) -> str:
-    value = str(value).strip()
+    from materials.textfile import text_problem
+
+    why = text_problem(value, key if key in ("label", "citation", "note") else "text")
+    if why:
+        raise InputError(f"{key} {why}")
+    value = value.strip()
     if key == "kind":
         if value not in IMPORT_KINDS:
             raise InputError(f"kind '{value}' is not one of {', '.join(IMPORT_KINDS)} (invented = demo data only)")
