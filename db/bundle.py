@@ -301,7 +301,7 @@ class _Loader:
                 raise self.error(f"a {kind} needs a {f}", f)
         if kind == "material":
             self.family[row["key"]] = row["family"]
-        elif kind in ("breakdown_set", "loop"):
+        elif kind in ("breakdown_set", "loop", "endurance_set"):
             if not re.fullmatch(r"[0-9a-f]{64}", row["sha256"]):
                 raise self.error("sha256 must be 64 lower-case hexadecimal digits", "sha256")
             for f, tkey in (("temperature_K", "temperature"), ("thickness_m", "thickness"),
@@ -339,7 +339,7 @@ class _Loader:
         self.last = order
         table = TABLES[kind]
         row = self._columns(table, rec, FIELDS[kind])
-        for ref in ("material", "source") if kind in ("breakdown_set", "loop", "value") else ():
+        for ref in ("material", "source") if kind in ("breakdown_set", "loop", "endurance_set", "value") else ():
             if not isinstance(rec.get(ref), str):
                 raise self.error(f"'{ref}' must name a {ref} by its key", ref)
         self._check(kind, row, rec)
@@ -533,7 +533,8 @@ _TEXT_KIND = {"key": "key", "name": "name", "form": "form", "description": "desc
 # Fields of a record beside its columns: what it refers to, and its points.
 _EXTRA = {"breakdown_set": ("material", "source", "point_columns", "points"),
           "loop": ("material", "source", "point_columns", "points"),
-          "value": ("material", "source", "breakdown_set", "loop")}
+          "endurance_set": ("material", "source", "point_columns", "points"),
+          "value": ("material", "source", "breakdown_set", "loop", "endurance_set")}
 
 
 def _refuse_binary(path: Path) -> None:

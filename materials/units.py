@@ -251,7 +251,13 @@ OPTION_RANGES = {
     "current": (0.0, 1e6),
     "ramp": (0.0, 1e13),
     "pressure": (0.0, 1e9),
+    "capacitance": (0.0, 1e4),
+    "time": (0.0, 1e13),             # about 300,000 years
+    "resistance": (0.0, 1e6),        # a series resistance may be zero
+    "thermal_resistance": (0.0, 1e5),
 }
+#: Option kinds whose lower bound is allowed itself.
+_ZERO_ALLOWED = {"resistance"}
 
 
 def check_range(value: float, kind: str, *, name: str, shown) -> float:
@@ -260,8 +266,9 @@ def check_range(value: float, kind: str, *, name: str, shown) -> float:
 
     lo, hi = OPTION_RANGES[kind]
     si = CLI_DEFAULTS[kind][1]
-    if not value > lo:
-        what = "above absolute zero" if kind == "temperature" else "positive"
+    if not (value > lo or (kind in _ZERO_ALLOWED and value == lo)):
+        what = ("above absolute zero" if kind == "temperature" else
+                "zero or more" if kind in _ZERO_ALLOWED else "positive")
         raise UnitError(f"{name}: {_shown(str(shown))} must be {what}")
     if value > hi:
         raise UnitError(f"{name}: {_shown(str(shown))} = {fmt_number(value, 6)} {si} is above the plausible "
