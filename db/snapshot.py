@@ -1,0 +1,106 @@
+"""A snapshot of the columns :func:`db.query.load_table` reads, kept in the user's cache folder and used again
+while the store has not changed.
+
+Reading every value of a large store costs seconds (the driver builds a Python row per value); loading the same
+columns from a ``.npz`` file costs a small fraction of that. A snapshot is keyed on a signature the store answers
+in one cheap query inside the reading transaction: for each table the reader uses, the number of rows and the
+largest id, the number of retired values, and the meta rows (catalog fingerprint, schema revision), plus the
+property vocabulary of this program. Every write the program makes adds rows (a correction adds a row and retires
+the old one, which also changes the retired count), deletes rows or rewrites the meta rows, so any write changes
+the signature; a snapshot is used only when the signature is the same, in the same transaction as the read it
+replaces. SQLite's ``PRAGMA data_version`` cannot serve: it only tells one connection about the others' commits.
+
+``HOLDOFF_SNAPSHOTS`` names the folder (default: the user's cache folder), or ``off`` to read the store every
+time. Stores of fewer than :data:`MIN_VALUES` values are always read (the read is cheap), and so are in-memory
+stores. A snapshot that cannot be read or written is ignored: the store is read as if there were none.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+from pathlib import Path
+
+FORMAT = 1
+MIN_VALUES = 50_000
+_TABLES = ("material", "source", "property_value", "breakdown_set", "loop")
+
+
+def folder() -> Path | None:
+    """Where snapshots live, None when they are turned off."""
+    env = os.environ.get("HOLDOFF_SNAPSHOTS", "")
+    if env.lower() == "off":
+        return None
+    if env:
+        return Path(env)
+    import platformdirs
+
+    return Path(platformdirs.user_cache_dir("holdoff", appauthor=False)) / "snapshots"
+
+
+def signature(conn, fetch, vocabulary) -> tuple[str, int]:
+    """The store's change signature (a hex digest) and its number of values, read through ``conn``."""
+    parts = [f"(SELECT count(*) FROM {t})" for t in _TABLES]
+    parts += [f"(SELECT max(id) FROM {t})" for t in _TABLES]
+    parts.append("(SELECT count(retired_at) FROM property_value)")
+    from sqlalchemy import text
+
+    row = fetch(conn, text("SELECT " + ", ".join(parts)))[0]
+    meta = sorted(fetch(conn, text("SELECT key, value FROM meta")))
+    url = conn.engine.url.render_as_string(hide_password=True)
+    blob = json.dumps([FORMAT, url, [str(x) for x in row], [list(map(str, r)) for r in meta], list(vocabulary)])
+    return hashlib.sha256(blob.encode()).hexdigest(), int(row[2])
+
+
+def usable(conn) -> bool:
+    """Whether the store can have a snapshot: snapshots are on and the store outlives the process."""
+    url = conn.engine.url
+    if folder() is None:
+        return False
+    return not (url.get_backend_name() == "sqlite" and url.database in (None, "", ":memory:"))
+
+
+def _path(conn) -> Path:
+    name = hashlib.sha256(conn.engine.url.render_as_string(hide_password=True).encode()).hexdigest()[:24]
+    return folder() / f"{name}.npz"
+
+
+_ARRAYS = ("material", "id", "property", "value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m",
+           "thickness_m", "area_m2", "source")
+
+
+def load(conn, sig: str):
+    """The parts saved under ``sig`` (``materials, values, sources, words`` as :func:`save` took them), or None."""
+    import numpy as np
+
+    path = _path(conn)
+    try:
+        with np.load(path, allow_pickle=False) as z:
+            head = json.loads(bytes(z["head"]).decode())
+            if head.get("signature") != sig:
+                return None
+            values = {k: z[k] for k in _ARRAYS}
+    except (OSError, ValueError, KeyError):
+        return None
+    values["property_names"] = head["property_names"]
+    words = {int(w[0]): tuple(w[1:]) for w in head["words"]}
+    return head["materials"], values, head["sources"], words
+
+
+def save(conn, sig: str, materials: dict, values: dict, sources: dict, words: dict) -> None:
+    """Keep the parts of one read under ``sig`` (written to a temporary file, then renamed into place)."""
+    import numpy as np
+
+    path = _path(conn)
+    head = {"signature": sig, "materials": materials, "sources": sources,
+            "property_names": list(values["property_names"]),
+            "words": [[vid, *w] for vid, w in words.items()]}
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = path.with_name(f"{path.stem}.{os.getpid()}.tmp.npz")
+        np.savez(tmp, head=np.frombuffer(json.dumps(head).encode(), dtype=np.uint8),
+                 **{k: values[k] for k in _ARRAYS})
+        os.replace(tmp, path)
+    except OSError:
+        return
