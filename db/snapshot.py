@@ -27,11 +27,15 @@ MIN_VALUES = 50_000
 _TABLES = ("material", "source", "property_value", "breakdown_set", "loop")
 
 
+def _off() -> bool:
+    return os.environ.get("HOLDOFF_SNAPSHOTS", "").lower() == "off"
+
+
 def folder() -> Path | None:
     """Where snapshots live, None when they are turned off."""
-    env = os.environ.get("HOLDOFF_SNAPSHOTS", "")
-    if env.lower() == "off":
+    if _off():
         return None
+    env = os.environ.get("HOLDOFF_SNAPSHOTS", "")
     if env:
         return Path(env)
     import platformdirs
@@ -56,9 +60,7 @@ def signature(conn, fetch, vocabulary) -> tuple[str, int]:
 def usable(conn) -> bool:
     """Whether the store can have a snapshot: snapshots are on and the store outlives the process."""
     url = conn.engine.url
-    if folder() is None:
-        return False
-    return not (url.get_backend_name() == "sqlite" and url.database in (None, "", ":memory:"))
+    return not _off() and not (url.get_backend_name() == "sqlite" and url.database in (None, "", ":memory:"))
 
 
 def _path(conn) -> Path:
