@@ -6,7 +6,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, StrictOpt
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
 
 TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
                                                       "repeat for several. Default 25 °C.")]
@@ -15,12 +15,10 @@ AreaOpt = Annotated[Optional[str], typer.Option("--area", help="Capacitor active
 ProbOpt = Annotated[Optional[float], typer.Option("--failure-prob", help="Accepted short-term failure "
                                                   "probability (e.g. 0.01); default: the Weibull scale (63.2 %).")]
 MarginOpt = Annotated[float, typer.Option("--margin", help="Divides the design field (≥ 1).")]
-ExtrapOpt = Annotated[bool, typer.Option("--extrapolate", help="Hold end values outside the data's temperature "
-                                         "range (flagged) instead of refusing.")]
 
 def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
             temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
-            extrapolate: ExtrapOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
+            extrapolate: ExtrapolateOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
             json_out: JsonOpt = False):
     """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
     from db.query import load_materials
@@ -82,7 +80,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
                                                              "segmented electrodes: scale breakdown to one segment "
                                                              "(cm² unless a unit); p is then per segment.")] = None,
-         strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+         strict: StrictOpt = False, extrapolate: ExtrapolateOpt = False, sections: SectionsOpt = None,
+         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
     from db.query import get_material
     from materials.units import parse_option
@@ -98,7 +97,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         failure_probability=failure_prob, margin=margin,
         ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
-        assume_defaults=not strict,
+        assume_defaults=not strict, strict=strict, extrapolate=extrapolate, max_sections=sections or 1,
         segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None)
     if json_out:
         from cli.output import print_json
@@ -108,7 +107,9 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
     from cli.output import caution, say, table
     from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
-    rows = [["thickness", fmt_quantity(res["thickness_m"], "um", "m")],
+    rows = [["thickness", fmt_quantity(res["thickness_m"], "um", "m")
+             + (f" ({res['sections']} series sections of {fmt_quantity(res['layer_thickness_m'], 'um', 'm')})"
+                if res["sections"] > 1 else "")],
             ["active area", fmt_quantity(res["area_m2"], "m**2", "m2")],
             ["dielectric volume", fmt_quantity(res["volume_m3"], "cm**3", "m3")],
             ["dielectric mass",

@@ -7,7 +7,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, StrictOpt
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
 
 # Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
 EXCLUDED_SHOWN = 40
@@ -47,6 +47,8 @@ def shortlist(
     thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
                                                      "e.g. 2.5,3,4,6um.")] = None,
     strict: StrictOpt = False,
+    extrapolate: ExtrapolateOpt = False,
+    sections: SectionsOpt = None,
     assume_defaults: DefaultsOpt = False,
     draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws for p_top.")] = 1000,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 0,
@@ -69,7 +71,8 @@ def shortlist(
     t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
-                            families=family, thicknesses=thickness, weights=weights, strict=strict)
+                            families=family, thicknesses=thickness, weights=weights, strict=strict,
+                            extrapolate=extrapolate, max_sections=sections)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.

@@ -56,6 +56,22 @@ def shape_priors(families) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
             np.array([p.high for p in ps], dtype=float))
 
 
+# --- breakdown below the coldest temperature measured ------------------------------------------------------------
+
+#: The electric strength of solid dielectrics is nearly independent of temperature below a critical temperature and
+#: falls above it (electronic breakdown at low temperature, thermal and electromechanical above): a breakdown value
+#: held at the coldest temperature measured is a lower bound colder still. Used for solids only; a gas's strength
+#: follows its density and a liquid's its state, neither covered by this.
+COLD_HOLD = ("paper-breakdown-critical-temperature",
+             "M. Ieda, 'Dielectric Breakdown Process of Polymers', IEEE Transactions on Electrical Insulation EI-15(3) "
+             "(1980), review of breakdown against temperature (abstract at "
+             "https://scilit.net/publications/bcc9eaed5c5c2ba3f3906a57cc2484b3); the 'characteristic sharp reduction "
+             "in electric strength exhibited by most polymeric materials at a critical temperature Tc', electronic "
+             "breakdown below it, as stated at https://scilit.com/publications/ea41f30dd1f4a3c31f6b812f1fdcdb74 "
+             "(volume and pages from memory, not checked)")
+COLD_HOLD_EXCLUDED = ("gas", "liquid")
+
+
 def sources() -> dict[str, dict]:
     """The priors' and laws' sources, as the shortlist's ``sources`` map shows them."""
     out = {}
@@ -63,6 +79,7 @@ def sources() -> dict[str, dict]:
         out[p.source] = {"kind": "common-practice", "citation": p.citation}
     out[MLCC_THICKNESS_EXPONENT.source] = {"kind": "paper", "citation": MLCC_THICKNESS_EXPONENT.citation}
     out[ZHAO_LIU[0]] = {"kind": "paper", "citation": ZHAO_LIU[1]}
+    out[COLD_HOLD[0]] = {"kind": "paper", "citation": COLD_HOLD[1]}
     return out
 
 

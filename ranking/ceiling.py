@@ -74,8 +74,11 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
                              ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
         if not has[0]:
             raise DataError(f"{material.key} has no {prop}")
-        if lk.extrapolated[c[0]] and not extrapolate:
+        carried = prop == "breakdown_field" and inp.cold[c[0]]   # held below the coldest point: a lower bound
+        if lk.extrapolated[c[0]] and not extrapolate and not carried:
             raise DataError(outside_data_message(prop, lk.lo_x[c[0]], lk.hi_x[c[0]], temperature_K))
+    if inp.loop_out[0] and not extrapolate:
+        raise DataError(outside_data_message("loop energy", inp.loop_lo[0], inp.loop_hi[0], temperature_K))
     eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
     kind = int(inp.kind[0])
@@ -119,6 +122,11 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     if inp.shape_found[0]:
         rows += [inp.sh.used0[0], inp.sh.used1[0]]
     srcs = list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0))
+    if inp.held_cold[0]:
+        from materials.priors import COLD_HOLD
+
+        notes.append(words("held-cold", coldest_K=float(inp.ebd_g.lo_x[inp.c_ebd[0]]), source=COLD_HOLD[0]))
+        srcs.append(COLD_HOLD[0])
     if method == "linear-upper-bound":
         notes.append(words("linear-upper-bound"))
     if method == "loop":
@@ -126,4 +134,4 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     return Ceiling(key=material.key, temperature_K=temperature_K, relative_permittivity=eps,
                    breakdown_field_V_per_m=ebd, ceiling_J_per_m3=ceiling, design_field_V_per_m=e_design,
                    design_J_per_m3=u_design, weibull_shape=shape, test_area_m2=test_area,
-                   extrapolated=bool(inp.extrapolated[0]), sources=srcs, notes=notes, method=method)
+                   extrapolated=bool(inp.extrapolated[0] or inp.held_cold[0]), sources=srcs, notes=notes, method=method)
