@@ -44,11 +44,12 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
             else:
                 kept = snapshot.load(conn, sig)
                 if kept is not None:
-                    return ValueTable.from_columns(*kept)
-    parts = _read(conn, vocab, keys, family=family, include_retired=include_retired, origin=origin)
+                    return kept
+    table = ValueTable.from_columns(*_read(conn, vocab, keys, family=family, include_retired=include_retired,
+                                           origin=origin))
     if sig is not None:
-        snapshot.save(conn, sig, *parts)
-    return ValueTable.from_columns(*parts)
+        snapshot.save(conn, sig, table)
+    return table
 
 
 def _read(conn, vocab, keys, *, family, include_retired, origin):

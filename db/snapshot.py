@@ -1,14 +1,16 @@
-"""A snapshot of the columns :func:`db.query.load_table` reads, kept in the user's cache folder and used again
+"""A snapshot of the table :func:`db.query.load_table` reads, kept in the user's cache folder and used again
 while the store has not changed.
 
 Reading every value of a large store costs seconds (the driver builds a Python row per value); loading the same
-columns from a ``.npz`` file costs a small fraction of that. A snapshot is keyed on a signature the store answers
-in one cheap query inside the reading transaction: for each table the reader uses, the number of rows and the
-largest id, the number of retired values, and the meta rows (catalog fingerprint, schema revision), plus the
-property vocabulary of this program. Every write the program makes adds rows (a correction adds a row and retires
-the old one, which also changes the retired count), deletes rows or rewrites the meta rows, so any write changes
-the signature; a snapshot is used only when the signature is the same, in the same transaction as the read it
-replaces. SQLite's ``PRAGMA data_version`` cannot serve: it only tells one connection about the others' commits.
+table, its columns already sorted, from a ``.npz`` file costs a small fraction of that. A snapshot is keyed on a
+signature the store answers in one cheap query inside the reading transaction: for each table the reader uses,
+the number of rows and the largest id, the number of retired values, and the meta rows (catalog fingerprint,
+schema revision), plus the property vocabulary of this program. Every write the program makes adds rows (a
+correction adds a row and retires the old one, which also changes the retired count), deletes rows or rewrites
+the meta rows, so any write changes the signature; a snapshot is used only when the signature is the same, in the
+same transaction as the read it replaces. A value edited in place by another program, keeping every count, would
+not be seen: the program never does that. SQLite's ``PRAGMA data_version`` cannot serve: it only tells one
+connection about the others' commits.
 
 ``HOLDOFF_SNAPSHOTS`` names the folder (default: the user's cache folder), or ``off`` to read the store every
 time. Stores of fewer than :data:`MIN_VALUES` values are always read (the read is cheap), and so are in-memory
@@ -68,41 +70,47 @@ def _path(conn) -> Path:
     return folder() / f"{name}.npz"
 
 
-_ARRAYS = ("material", "id", "property", "value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m",
-           "thickness_m", "area_m2", "source")
+_LISTS = ("keys", "names", "families", "forms", "descriptions", "origins", "responses", "prop_names", "source_keys",
+          "source_kinds", "source_citations")
 
 
 def load(conn, sig: str):
-    """The parts saved under ``sig`` (``materials, values, sources, words`` as :func:`save` took them), or None."""
+    """The :class:`materials.table.ValueTable` saved under ``sig``, or None."""
+    import dataclasses
+
     import numpy as np
 
-    path = _path(conn)
+    from materials.table import ValueTable
+
+    arrays = [f.name for f in dataclasses.fields(ValueTable) if f.name not in (*_LISTS, "words", "_py")]
     try:
-        with np.load(path, allow_pickle=False) as z:
+        with np.load(_path(conn), allow_pickle=False) as z:
             head = json.loads(bytes(z["head"]).decode())
             if head.get("signature") != sig:
                 return None
-            values = {k: z[k] for k in _ARRAYS}
+            cols = {k: z[k] for k in arrays}
     except (OSError, ValueError, KeyError):
         return None
-    values["property_names"] = head["property_names"]
-    words = {int(w[0]): tuple(w[1:]) for w in head["words"]}
-    return head["materials"], values, head["sources"], words
+    return ValueTable(**cols, **{k: head[k] for k in _LISTS},
+                      words={int(r): tuple(w) for r, w in head["words"]})
 
 
-def save(conn, sig: str, materials: dict, values: dict, sources: dict, words: dict) -> None:
-    """Keep the parts of one read under ``sig`` (written to a temporary file, then renamed into place)."""
+def save(conn, sig: str, table) -> None:
+    """Keep ``table`` (a :class:`materials.table.ValueTable`) under ``sig`` (written to a temporary file, then
+    renamed into place)."""
+    import dataclasses
+
     import numpy as np
 
     path = _path(conn)
-    head = {"signature": sig, "materials": materials, "sources": sources,
-            "property_names": list(values["property_names"]),
-            "words": [[vid, *w] for vid, w in words.items()]}
+    head = {"signature": sig, **{k: list(getattr(table, k)) for k in _LISTS},
+            "words": [[r, list(w)] for r, w in table.words.items()]}
+    arrays = {f.name: getattr(table, f.name) for f in dataclasses.fields(table)
+              if f.name not in (*_LISTS, "words", "_py")}
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         tmp = path.with_name(f"{path.stem}.{os.getpid()}.tmp.npz")
-        np.savez(tmp, head=np.frombuffer(json.dumps(head).encode(), dtype=np.uint8),
-                 **{k: values[k] for k in _ARRAYS})
+        np.savez(tmp, head=np.frombuffer(json.dumps(head).encode(), dtype=np.uint8), **arrays)
         os.replace(tmp, path)
     except OSError:
         return
