@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from ranking.methods import dominator_of, dominators, pareto, pareto_front
+from ranking.methods import dominator_of, dominators, front_and_dominators, pareto_front
 
 paretoset = pytest.importorskip("paretoset").paretoset
 
@@ -53,7 +53,7 @@ def test_front_and_dominators_match_brute_force_and_paretoset(kind, n, m):
     if kind == "all-non-dominated":
         x = np.where(benefit, -x, x)
     front, dom = _brute(x, benefit)
-    got_front, got_dom = pareto(x, benefit)
+    got_front, got_dom = front_and_dominators(x, benefit)
     np.testing.assert_array_equal(got_front, front)
     np.testing.assert_array_equal(got_dom, dom)
     np.testing.assert_array_equal(pareto_front(x, benefit), front)
@@ -101,6 +101,6 @@ def test_dominator_of_answers_only_the_rows_asked():
 
 def test_signed_zero_and_identical_rows():
     x = np.array([[0.0, 1.0], [-0.0, 1.0], [0.0, 2.0], [1.0, 0.0], [1.0, 0.0]])
-    front, dom = pareto(x, [False, False])
+    front, dom = front_and_dominators(x, [False, False])
     np.testing.assert_array_equal(front, [True, True, False, True, True])
     np.testing.assert_array_equal(dom, [-1, -1, 0, -1, -1])

@@ -196,10 +196,10 @@ def pareto_front(matrix: ArrayLike, benefit: ArrayLike) -> np.ndarray:
     Returns:
         ``(m,)`` bool, True for non-dominated rows.
     """
-    return pareto(matrix, benefit, dominated_by=False)[0]
+    return front_and_dominators(matrix, benefit, dominated_by=False)[0]
 
 
-def pareto(matrix: ArrayLike, benefit: ArrayLike, *, dominated_by: bool = True):
+def front_and_dominators(matrix: ArrayLike, benefit: ArrayLike, *, dominated_by: bool = True):
     """The front mask and, with ``dominated_by``, :func:`dominators` of the same rows from the one pass.
 
     Returns:
@@ -235,7 +235,7 @@ def dominators(matrix: ArrayLike, benefit: ArrayLike, *, front: np.ndarray | Non
         ``(m,)`` int64 row indices, -1 for non-dominated rows.
     """
     if front is None:
-        return pareto(matrix, benefit)[1]
+        return front_and_dominators(matrix, benefit)[1]
     x, b = _pareto_problem(matrix, benefit)
     return dominator_of(x, b, front, np.flatnonzero(~np.asarray(front, bool)), size=x.shape[0])
 
