@@ -33,15 +33,19 @@ _NONE = np.iinfo(np.int64).max
 
 
 def _oriented(x: np.ndarray, benefit: np.ndarray) -> np.ndarray:
-    """``(m, n)`` with every criterion smaller-is-better; ``+ 0.0`` makes -0.0 and 0.0 the same value."""
-    return np.where(benefit, -x, x) + 0.0
+    """``(m, n)`` with every criterion smaller-is-better, each column contiguous (Fortran order); ``+ 0.0`` makes
+    -0.0 and 0.0 the same value."""
+    y = np.empty((x.shape[1], x.shape[0]))
+    for j in range(x.shape[1]):
+        np.add(-x[:, j] if benefit[j] else x[:, j], 0.0, out=y[j])
+    return y.T
 
 
 def _distinct(y: np.ndarray):
     """The distinct rows of ``y`` in lexicographic order, and each row's index among them."""
     m = y.shape[0]
     order = np.lexsort(y.T[::-1])
-    s = y[order]
+    s = np.ascontiguousarray(y[order])
     new = np.ones(m, bool)
     new[1:] = (s[1:] != s[:-1]).any(axis=1)
     group = np.cumsum(new) - 1
@@ -53,8 +57,8 @@ def _distinct(y: np.ndarray):
 def _pivot_cut(y: np.ndarray) -> np.ndarray:
     """Rows dominated by one of a few strong rows (the best normalised sum, the best on each criterion with the
     best sum among its ties): one vectorised pass that removes most rows of a large, scattered set."""
-    lo, hi = y.min(axis=0), y.max(axis=0)
-    cols = [np.ascontiguousarray(y[:, j]) for j in range(y.shape[1])]
+    cols = [y[:, j] for j in range(y.shape[1])]
+    lo, hi = [c.min() for c in cols], [c.max() for c in cols]
     key = np.zeros(y.shape[0])
     for j, c in enumerate(cols):
         key += (c - lo[j]) / (hi[j] - lo[j] if hi[j] > lo[j] else 1.0)
@@ -63,19 +67,13 @@ def _pivot_cut(y: np.ndarray) -> np.ndarray:
         at = np.flatnonzero(c == lo[j])
         picks.add(int(at[np.argmin(key[at])]))
     cut = np.zeros(y.shape[0], bool)
-    le = np.empty(y.shape[0], bool)
+    le, lt = np.empty(y.shape[0], bool), np.empty(y.shape[0], bool)
     for p in picks:
-        le[:] = True
+        le[:], lt[:] = True, False
         for j, c in enumerate(cols):
             le &= y[p, j] <= c
-        le[p] = False
-        cut |= le
-    # a pivot's identical copies were cut with it: they are no worse and not dominated
-    twins = np.flatnonzero(cut)
-    same = np.zeros(twins.size, bool)
-    for p in picks:
-        same |= (y[twins] == y[p]).all(axis=1)
-    cut[twins[same]] = False
+            lt |= y[p, j] < c
+        cut |= le & lt
     return cut
 
 
@@ -251,7 +249,7 @@ def dominator_of(matrix: ArrayLike, benefit: ArrayLike, front: np.ndarray, rows,
     ask = rows[~front[rows]]
     res = np.full(rows.size, -1, dtype=np.int64)
     if ask.size and on.size:
-        got = _least(y[on], on, y[ask], 0)
+        got = _least(np.ascontiguousarray(y[on]), on, np.ascontiguousarray(y[ask]), 0)
         res[~front[rows]] = np.where(got == _NONE, -1, got)
     if size is None:
         return res
