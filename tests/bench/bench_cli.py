@@ -163,7 +163,7 @@ def _medians(cmds, repeats=3):
 def bench_shortlist_10k(tmp: Path, n: int = 10_000):
     url = f"sqlite:///{tmp / 'bench10k.sqlite'}"
     _synthetic_store(url, n)
-    cmd = HOLDOFF + ["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "105", "--energy", "80", "--top", "10"]
+    cmd = HOLDOFF + ["shortlist", "--voltage", "800", "--tmin", "25", "--tmax", "105", "--energy", "80", "--top", "10"]
     snaps = str(tmp / "snapshots")
     env = _env(url, HOLDOFF_SNAPSHOTS=snaps)
     got = _medians({"text": (cmd, env), "json": (cmd + ["--json"], env),
@@ -251,7 +251,7 @@ def bench_shortlist_10k_pg(n: int = 10_000):
 
     with tempfile.TemporaryDirectory() as d, fresh_schema(base) as url:
         _synthetic_store(url, n)
-        cmd = HOLDOFF + ["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "105", "--energy", "80",
+        cmd = HOLDOFF + ["shortlist", "--voltage", "800", "--tmin", "25", "--tmax", "105", "--energy", "80",
                          "--top", "10"]
         got = _medians({"snapshot": (cmd, _env(url, HOLDOFF_SNAPSHOTS=d)),
                         "read": (cmd, _env(url, HOLDOFF_SNAPSHOTS="off"))})
