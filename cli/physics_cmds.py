@@ -15,11 +15,31 @@ AreaOpt = Annotated[Optional[str], typer.Option("--area", help="Capacitor active
 ProbOpt = Annotated[Optional[float], typer.Option("--failure-prob", help="Accepted short-term failure "
                                                   "probability (e.g. 0.01); default: the Weibull scale (63.2 %).")]
 MarginOpt = Annotated[float, typer.Option("--margin", help="Divides the design field (≥ 1).")]
+GapOpt = Annotated[Optional[str], typer.Option("--gap", help="Gap or layer width (µm unless a unit is given): a "
+                                              "gas by its gap law (Paschen / published formula), a liquid by the "
+                                              "stressed-volume law, a solid by the thickness law.")]
+PressureOpt = Annotated[Optional[str], typer.Option("--pressure", help="Gas pressure (kPa unless a unit is given); "
+                                                    "default 101.3 kPa.")]
+
+
+def parse_gap_options(gap, pressure):
+    """(gap m or None, pressure Pa or None) from the --gap and --pressure options."""
+    from materials.errors import InputError
+    from materials.units import parse_option
+
+    g = parse_option(gap, "thickness", name="--gap") if gap else None
+    p = parse_option(pressure, "pressure", name="--pressure") if pressure else None
+    if g is not None and not g > 0:
+        raise InputError("--gap must be positive")
+    if p is not None and not p > 0:
+        raise InputError("--pressure must be positive")
+    return g, p
+
 
 def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
             temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
-            extrapolate: ExtrapolateOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
-            json_out: JsonOpt = False):
+            extrapolate: ExtrapolateOpt = False, gap: GapOpt = None, pressure: PressureOpt = None,
+            strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
     """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
     from db.query import load_materials
     from materials.errors import InputError
@@ -33,10 +53,12 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
         raise InputError("--failure-prob must lie between 0 and 1")
     if margin < 1:
         raise InputError("--margin must be 1 or more")
+    gap_m, pressure_Pa = parse_gap_options(gap, pressure)
     with state.store().session(read_only=True) as s:
         mats = {m.key: m for m in load_materials(s, keys)}
     rows = [ceiling_at(mats[k], temperature_K=t, area_m2=a, failure_probability=failure_prob, margin=margin,
-                       extrapolate=extrapolate, assume_defaults=not strict) for k in keys for t in temps]
+                       extrapolate=extrapolate, assume_defaults=not strict, gap_m=gap_m, pressure_Pa=pressure_Pa)
+            for k in keys for t in temps]
     if json_out:
         from cli.output import print_json
 
@@ -57,6 +79,8 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
     cond.append(f"failure probability {fmt_number(failure_prob, 6)}" if failure_prob is not None
                 else "Weibull scale (63.2 %)")
     cond.append(f"margin {fmt_number(margin, 6)}")
+    if gap_m is not None:
+        cond.append(f"gap {fmt_number(gap_m * 1e6)} µm at {fmt_number((pressure_Pa or 101.3e3) / 1e3)} kPa")
     table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
           right={2, 3, 4, 5, 6}, caption="design: " + ", ".join(cond))
     for r in rows:
@@ -132,5 +156,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
 
 
 def register(app) -> None:
+    from cli import stack_cmds
+
     app.command("ceiling")(ceiling)
     app.command("size")(size)
+    stack_cmds.register(app)

@@ -154,7 +154,7 @@ def _design_once(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live
             return np.exp((log_v - log_k + np.log(link) / beta - nn * log_d0) / (1.0 - nn))
 
         if thickness_m is not None:
-            d = np.full(m, float(thickness_m))
+            d = np.broadcast_to(np.asarray(thickness_m, dtype=float), (m,)).copy()
             out["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
             e_op = V / d
             u_op = energy_density(inp, everyone, e_op)

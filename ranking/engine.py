@@ -29,7 +29,8 @@ import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
 from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
-from materials.priors import COLD_HOLD_EXCLUDED, LAW_FACTOR, TEST_AREA, shape_priors, thickness_exponents
+from materials.priors import (COLD_HOLD_EXCLUDED, LAW_FACTOR, LIQUID_TEST_GAP, NO_AREA_LAW, TEST_AREA, shape_priors,
+                              thickness_exponents)
 from materials.sizing import failure_probability
 from materials.table import ValueTable
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
@@ -110,6 +111,10 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
     d0 = np.fmax(np.where(u0 >= 0, t.thickness_m[np.maximum(u0, 0)], np.nan),
                  np.where(u1 >= 0, t.thickness_m[np.maximum(u1, 0)], np.nan))
+    # A liquid's figure without its gap is taken at the quality-test gap (assumed), so the stressed-volume law and
+    # its flags apply at any other gap.
+    gap_assumed = np.array([f == "liquid" for f in t.families], dtype=bool) & ~np.isfinite(d0)
+    d0 = np.where(gap_assumed, LIQUID_TEST_GAP.typical, d0)
     a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
     a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
@@ -147,7 +152,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         extrapolated=(np.bincount(gm[eps_g.extrapolated | (ebd_g.extrapolated & ~cold)], minlength=m) > 0)
         | loop_out, loop_out=loop_out, t_loop=t_loop, loop_lo=loop_lo, loop_hi=loop_hi,
         held_cold=np.bincount(gm[cold], minlength=m) > 0, cold=cold, test_thickness=d0,
-        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0),
+        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0), gap_assumed=gap_assumed,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
@@ -164,7 +169,8 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         loop_field=np.where(loops.has, loops.fields[everyone, np.maximum(loops.n - 1, 0)], np.nan),
         loop_value=np.where(loops.has, loops.eps[everyone, np.maximum(loops.n - 1, 0)], np.nan), kind=kind,
         n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
-        assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
+        assume_defaults=assume_defaults, frequency_Hz=frequency_Hz,
+        no_area_law=np.array([f in NO_AREA_LAW for f in t.families], dtype=bool))
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
 
 
@@ -264,8 +270,9 @@ class Columns:
         return self.ok.size
 
 
-def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = None) -> Columns:
-    """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`)."""
+def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns:
+    """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`); ``thickness_m``
+    fixes the layer: one thickness for all, or one per material (a stack's layers)."""
     inp = table if isinstance(table, Inputs) else worst_inputs(
         table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
         assume_defaults=target.assume_defaults)
@@ -291,13 +298,19 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
                                & ~(density <= 0) & np.isfinite(eps_v) & np.isfinite(ebd_v))
     seg = np.where(inp.heals, float(target.segment_area_m2), np.nan) if target.segment_area_m2 else np.full(m, np.nan)
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
+    # The weakest-link area of each design: a segment, the test area itself for a gas (never area-scaled), else the
+    # part's area (NaN here).
+    def links(a_test):
+        return np.where(has_seg, seg, np.where(inp.no_area_law, a_test, np.nan))
+
+    link_fixed = links(test_area)
     energy_J = target.energy_J
     sizing = thickness_m is None and energy_J is not None
     has_law = inp.has_law
     beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
-    fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~has_seg
+    fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~np.isfinite(link_fixed)
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
-    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
+    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=link_fixed, live=live)
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
     scale_d = des["scale_d"]
     for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical", "thicker-than-made"):
@@ -319,7 +332,8 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     if assumed.any():
         for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
             end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
-                          test_area=np.where(assumed, a, test_area), seg=seg, live=live & assumed & (b > 1))
+                          test_area=np.where(assumed, a, test_area), seg=links(np.where(assumed, a, test_area)),
+                          live=live & assumed & (b > 1))
             u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
     with np.errstate(all="ignore"):
         fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
@@ -363,7 +377,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         out.values["confidence"] = _confidence(inp)
         for name in ("drift", "healing", "confidence"):
             out.low[name] = out.high[name] = out.values[name]
-        link = np.where(has_seg, seg, area) * sections
+        link = np.where(inp.no_area_law & ~has_seg, link_fixed, np.where(has_seg, seg, area) * sections)
         fail = failure_probability(e_op, scale_V_per_m=scale_d, shape=beta, test_area_m2=test_area, area_m2=link)
         at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
     bad = np.zeros(m, dtype=bool)

@@ -108,7 +108,7 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
 def outside_notes(cols: Columns, i: int) -> list[str]:
     """Where candidate ``i`` uses a value outside its data: temperatures beyond the measured ones, or a layer
     thickness beyond what a thickness law may carry."""
-    inp, P = cols.parts["inputs"], cols.parts
+    inp = cols.parts["inputs"]
     out = []
     if inp.extrapolated[i]:
         cells = np.arange(int(inp.g_start[i]), int(inp.g_start[i + 1]))
@@ -124,10 +124,7 @@ def outside_notes(cols: Columns, i: int) -> list[str]:
         at = inp.tmin_K if inp.tmin_K < inp.loop_lo[i] else inp.tmax_K
         out.append(words("extrapolated", prop="loop energy", lo_K=float(inp.loop_lo[i]), hi_K=float(inp.loop_hi[i]),
                          at_K=float(at)))
-    if P["thick_out"][i]:
-        out.append(words("thickness-outside", thickness_m=float(P["layer"][i]),
-                         test_thickness_m=float(inp.test_thickness[i]),
-                         factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR))
+    out.extend(_thickness_outside(cols, i))
     return out
 
 
@@ -141,10 +138,7 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
         out.append(words("sections", sections=float(P["sections"][i]), layer_m=float(P["layer"][i]),
                          max_thickness_m=float(inp.d_max[i]),
                          source=_source_key(inp.reader.t, inp.thickmax.used0[i])))
-    if P["scaled"][i] and not P["thick_out"][i]:
-        out.append(words("thickness-scaled", thickness_m=float(P["layer"][i]),
-                         test_thickness_m=float(inp.test_thickness[i]), n=float(inp.law_n[i]),
-                         source=inp.law_source[i]))
+    out.extend(_gap_assumed(cols, i) + _thickness_scaled(cols, i))
     out.extend(outside_notes(cols, i))
     if inp.held_cold[i]:
         from materials.priors import COLD_HOLD
@@ -157,6 +151,35 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     if not inp.area_found[i]:
         out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
     return out
+
+
+def law_notes(cols: Columns, i: int) -> list[str]:
+    """How candidate ``i``'s breakdown was carried to its layer: an assumed liquid test gap, the thickness (or
+    stressed-volume) law, or a layer beyond what the law may carry."""
+    return _gap_assumed(cols, i) + _thickness_scaled(cols, i) + _thickness_outside(cols, i)
+
+
+def _gap_assumed(cols: Columns, i: int) -> list[str]:
+    from materials.priors import LIQUID_TEST_GAP
+
+    return [words("liquid-gap-assumed", thickness_m=LIQUID_TEST_GAP.typical)] if cols.parts["inputs"].gap_assumed[i] \
+        else []
+
+
+def _thickness_scaled(cols: Columns, i: int) -> list[str]:
+    inp, P = cols.parts["inputs"], cols.parts
+    if not (P["scaled"][i] and not P["thick_out"][i]):
+        return []
+    return [words("thickness-scaled", thickness_m=float(P["layer"][i]), test_thickness_m=float(inp.test_thickness[i]),
+                  n=float(inp.law_n[i]), source=inp.law_source[i])]
+
+
+def _thickness_outside(cols: Columns, i: int) -> list[str]:
+    inp, P = cols.parts["inputs"], cols.parts
+    if not P["thick_out"][i]:
+        return []
+    return [words("thickness-outside", thickness_m=float(P["layer"][i]), test_thickness_m=float(inp.test_thickness[i]),
+                  factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR)]
 
 
 def evaluate_material(material, target, *, thickness_m: float | None = None) -> Evaluation:
@@ -198,6 +221,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("assumed-shape")
     if not inp.area_found[i]:
         ev.flags.append("assumed-test-area")
+    if inp.gap_assumed[i]:
+        ev.flags.append("assumed-gap")
     if inp.lent[i]:
         ev.flags.append("shape-lent")
     if P["thick_out"][i]:
@@ -210,12 +235,13 @@ def explain(cols: Columns, i: int) -> Evaluation:
     beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
     add("energy", *eps_rows, *ebd_rows, *beta_rows)
     # the stated priors and laws the numbers rest on, by their source keys (materials.priors)
-    from materials.priors import COLD_HOLD, TEST_AREA, shape_prior
+    from materials.priors import COLD_HOLD, LIQUID_TEST_GAP, TEST_AREA, shape_prior
 
     laws = ([shape_prior(t.families[i]).source] if not inp.shape_found[i] else []) + \
         ([TEST_AREA.source] if not inp.area_found[i] else []) + \
         ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else []) + \
-        ([COLD_HOLD[0]] if inp.held_cold[i] else [])
+        ([COLD_HOLD[0]] if inp.held_cold[i] else []) + \
+        ([LIQUID_TEST_GAP.source] if inp.gap_assumed[i] else [])
     for name in ("energy", "volume", "mass"):
         lst = ev.sources.setdefault(name, [])
         lst.extend(k for k in laws if k not in lst)
@@ -232,6 +258,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("no-area-scaling")
     code, q = binding(cols, i)
     ev.binding = words(code, **q)
+    if P["sections"][i] > 1:
+        ev.binding += ", " + words("binding-sections", sections=float(P["sections"][i]), layer_m=float(P["layer"][i]))
     for name in CRITERIA_NAMES:
         v = float(cols.values[name][i])
         if v == v:

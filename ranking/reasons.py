@@ -72,6 +72,7 @@ TEXT = {
                                         f"{_vum(q['design_V_per_m'])}"),
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
+    "binding-sections": lambda q: f"as {q['sections']:g} series sections of {_um(q['layer_m'])}",
     # notes on assumptions
     "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
     "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
@@ -97,6 +98,20 @@ TEXT = {
                            f"single layer made is {_um(q['max_thickness_m'])}, {q['source']}): weakest link over "
                            f"{q['sections']:g}× the area, breakdown at the section thickness"),
     "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",
+    "gas-no-area": lambda q: ("a gas gap is not scaled by electrode area: its strength is set by gap and "
+                              "pressure (Paschen's law)"),
+    "gas-stored-gap": lambda q: (f"gas breakdown as stored for a {q['thickness_m'] * 1e3:g} mm gap; give --gap (and "
+                                 "--pressure) for another gap" if q["thickness_m"] == q["thickness_m"] else
+                                 "gas breakdown as stored, gap not stated; give --gap (and --pressure)"),
+    "gas-gap-law": lambda q: (f"gas gap {_um(q['gap_m'])}: "
+                              + (f"{_vum(q['field_V_per_m'])} by {q['law']}" if q["law"] != "left-of-Paschen-asymptote"
+                                 else "left of the Paschen asymptote, no Townsend breakdown; gaps of a few µm and "
+                                      "less break down by field emission, which this law does not bound")
+                              + (" (Townsend constants used beyond their fitted E/p range)"
+                                 if q["law"] == "Paschen-beyond-fit" else "")),
+    "gas-no-law": lambda q: "no Townsend constants or published formula stored for this gas: breakdown as stored",
+    "liquid-gap-assumed": lambda q: (f"liquid breakdown figure states no gap: {q['thickness_m'] * 1e3:g} mm (the "
+                                     "quality-test gap) assumed"),
     "segment-ignored": lambda q: ("segment area ignored: the material is not self-healing, so the whole area "
                                   "counts"),
     "linear-upper-bound": lambda q: ("nonlinear material without a DC-bias curve or loop: ½·ε0·εr·E² with the "

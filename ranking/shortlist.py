@@ -222,7 +222,8 @@ def evidence_share(rows: list[dict]) -> dict:
 def _design(e: Evaluation) -> dict:
     d = e.details
     out = {k: d.get(k) for k in ("thickness_m", "area_m2", "design_field_V_per_m", "operating_field_V_per_m",
-                                 "failure_probability", "weibull_shape", "test_area_m2")}
+                                 "failure_probability", "weibull_shape", "test_area_m2", "sections",
+                                 "layer_thickness_m")}
     out["worst_temperature_K"] = d.get("worst_breakdown_K")
     out["energy_method"] = d.get("method")
     out["assumptions"] = d.get("assumptions", [])

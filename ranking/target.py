@@ -26,6 +26,10 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
     [weights]                       # criterion = weight (see ranking.criteria.CRITERIA)
     energy = 3
     loss = 1
+
+    [[stack]]                       # optional layered candidates (layers in series, µm unless a unit is given)
+    name = "film + impregnant"
+    layers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5um"]
 """
 
 from __future__ import annotations
@@ -60,6 +64,7 @@ class Target:
     extrapolate: bool = False       # use values outside their data (held at the end, flagged) instead of refusing
     max_sections: int = 1           # series sections allowed where one layer cannot be made thick enough
     name: str = ""
+    stacks: tuple = ()              # layered candidates: (name, ((material key, thickness m), ...)), ...
 
     def __post_init__(self):
         if self.strict:
@@ -221,9 +226,28 @@ def load_target(path: Path) -> Target:
     for k, v in data.get("weights", {}).items():
         weights.update(parse_weights(f"{k}={v}"))
     try:
-        return Target(weights=weights, **kw)
+        return Target(weights=weights, stacks=_stacks(data.get("stack", [])), **kw)
     except InputError as exc:
         raise InputError(str(exc), file=str(path)) from None
+
+
+def _stacks(tables) -> tuple:
+    """The ``[[stack]]`` tables of a target file as ``(name, ((key, thickness m), ...))``."""
+    from ranking.stack import parse_layer
+
+    if not isinstance(tables, list):
+        raise InputError("'stack' must be a list of tables ([[stack]])", field="stack")
+    out = []
+    for i, tb in enumerate(tables, 1):
+        layers = tb.get("layers") if isinstance(tb, dict) else None
+        if not isinstance(layers, list) or not layers or not all(isinstance(x, str) for x in layers):
+            raise InputError(f"stack {i}: 'layers' must be a list of \"KEY:THICKNESS\" strings", field="stack.layers")
+        unknown = set(tb) - {"name", "layers"}
+        if unknown:
+            raise InputError(f"stack {i}: unknown field '{sorted(unknown)[0]}'", field="stack")
+        parsed = tuple(parse_layer(x) for x in layers)
+        out.append((str(tb.get("name", " + ".join(k for k, _ in parsed))), parsed))
+    return tuple(out)
 
 
 def with_overrides(target: Target, **changes) -> Target:
