@@ -4,8 +4,8 @@ while the store has not changed.
 Reading every value of a large store costs seconds (the driver builds a Python row per value); loading the same
 table, its columns already sorted, from a ``.npz`` file costs a small fraction of that. A snapshot is keyed on a
 signature the store answers in one cheap query inside the reading transaction: for each table the reader uses,
-the number of rows and the largest id, the number of retired values, and the meta rows (catalog fingerprint,
-schema revision), plus the property vocabulary of this program. Every write the program makes adds rows (a
+the number of rows and the largest id, the number of retired values, and the meta rows (catalog fingerprint),
+with this program's schema revision and property vocabulary. Every write the program makes adds rows (a
 correction adds a row and retires the old one, which also changes the retired count), deletes rows or rewrites
 the meta rows, so any write changes the signature; a snapshot is used only when the signature is the same, in the
 same transaction as the read it replaces. A value edited in place by another program, keeping every count, would
@@ -55,7 +55,11 @@ def signature(conn, fetch, vocabulary) -> tuple[str, int]:
     row = fetch(conn, text("SELECT " + ", ".join(parts)))[0]
     meta = sorted(fetch(conn, text("SELECT key, value FROM meta")))
     url = conn.engine.url.render_as_string(hide_password=True)
-    blob = json.dumps([FORMAT, url, [str(x) for x in row], [list(map(str, r)) for r in meta], list(vocabulary)])
+    from db.store import SCHEMA_REVISION
+
+    # The program's schema revision: a store upgraded in place (values rewritten, counts kept) is read anew.
+    blob = json.dumps([FORMAT, SCHEMA_REVISION, url, [str(x) for x in row], [list(map(str, r)) for r in meta],
+                       list(vocabulary)])
     return hashlib.sha256(blob.encode()).hexdigest(), int(row[2])
 
 
