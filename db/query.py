@@ -25,13 +25,41 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
     ``session`` is an ORM session or a Core connection (:meth:`db.store.Store.reading`, which spares a command
     the ORM's import). The values are read through the driver's own cursor (a compiled statement, parameters
     bound by the driver): building a result row per value costs more than the query on a store of 10⁵ values.
+    A read of the whole store is kept as a snapshot and used again while the store has not changed
+    (:mod:`db.snapshot`).
     """
+    from materials.properties import PROPERTIES
+
+    conn = session if hasattr(session, "exec_driver_sql") else session.connection()
+    vocab = sorted(PROPERTIES)
+    whole = keys is None and not family and not origin and not include_retired
+    sig = None
+    if whole:
+        from db import snapshot
+
+        if snapshot.usable(conn):
+            sig, n_values = snapshot.signature(conn, _fetch, vocab)
+            if n_values < snapshot.MIN_VALUES:
+                sig = None
+            else:
+                kept = snapshot.load(conn, sig)
+                if kept is not None:
+                    return kept
+    table = ValueTable.from_columns(*_read(conn, vocab, keys, family=family, include_retired=include_retired,
+                                           origin=origin))
+    if sig is not None:
+        snapshot.save(conn, sig, table)
+    return table
+
+
+def _read(conn, vocab, keys, *, family, include_retired, origin):
+    """The columns of :func:`load_table` from the store: ``materials, values, sources, words`` as
+    :meth:`ValueTable.from_columns` takes them."""
     import datetime as dt
 
     import numpy as np
-    from sqlalchemy import column, select, table
+    from sqlalchemy import bindparam, case, column, func, select, table
 
-    conn = session if hasattr(session, "exec_driver_sql") else session.connection()
     # Lightweight table clauses (the names of db.models) keep this free of the ORM.
     material = table("material", *(column(c) for c in ("id", "key", "name", "family", "form", "description",
                                                        "origin", "response")))
@@ -43,14 +71,15 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
     bset = table("breakdown_set", column("id"), column("label"))
     loop = table("loop", column("id"), column("label"))
     m = material.c
-    q = select(m.id, m.key, m.name, m.family, m.form, m.description, m.origin, m.response).order_by(m.key)
+    chosen = []
     if keys is not None:
-        q = q.where(m.key.in_(list(keys)))
+        chosen.append(m.key.in_(list(keys)))
     if family:
-        q = q.where(m.family == family)
+        chosen.append(m.family == family)
     if origin:
-        q = q.where(m.origin == origin)
-    mats = _fetch(conn, q)
+        chosen.append(m.origin == origin)
+    q = select(m.id, m.key, m.name, m.family, m.form, m.description, m.origin, m.response).where(*chosen)
+    mats = _fetch(conn, q.order_by(m.key))
     if keys is not None:
         missing = sorted(set(keys) - {r[1] for r in mats})
         if missing:
@@ -64,37 +93,31 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
     scope = []
     if len(mats) < 500:
         scope.append(pv.material_id.in_([r[0] for r in mats] or [-1]))
+    elif chosen:
+        # the filter runs in the store: only the chosen materials' values are read
+        scope.append(pv.material_id.in_(select(m.id).where(*chosen)))
     if not include_retired:
         scope.append(pv.retired_at.is_(None))
     # Numbers in one query, all numeric so that the driver's rows become one float array at once: the property as
     # its code in the (validated, sorted) vocabulary and an unstated condition as +inf (no stored value is
     # infinite); the few rows with words (a note, a breakdown set or loop, a retirement) in another query.
-    from sqlalchemy import bindparam, case, func
-
-    from materials.properties import PROPERTIES
-
-    vocab = sorted(PROPERTIES)
     inf = bindparam("unstated", float("inf"), literal_execute=False)
     nullable = (pv.low, pv.high, pv.temperature_K, pv.frequency_Hz, pv.field_V_per_m, pv.thickness_m, pv.area_m2)
-    rows = _fetch(conn, select(pv.material_id, pv.id, case({k: i for i, k in enumerate(vocab)}, value=pv.property,
-                                                           else_=-1), pv.value,
-                               *(func.coalesce(c, inf) for c in nullable), pv.source_id).where(*scope))
+    a = _fetch_floats(conn, select(pv.material_id, pv.id, case({k: i for i, k in enumerate(vocab)},
+                                                                value=pv.property, else_=-1), pv.value,
+                                   *(func.coalesce(c, inf) for c in nullable), pv.source_id).where(*scope), 12)
     words = {r[0]: r[1:] for r in _fetch(
         conn, select(pv.id, pv.note, bset.c.label, loop.c.label, pv.retired_at, pv.retired_reason)
         .select_from(pv.id.table.outerjoin(bset, pv.breakdown_set_id == bset.c.id)
                      .outerjoin(loop, pv.loop_id == loop.c.id))
         .where(*scope, (pv.note != "") | pv.breakdown_set_id.is_not(None) | pv.loop_id.is_not(None)
                | pv.retired_at.is_not(None)))}
-    if len(mats) >= 500 and (keys is not None or family or origin):
-        wanted = {r[0] for r in mats}
-        rows = [r for r in rows if r[0] in wanted]
-    n = len(rows)
-    a = np.array(rows, dtype=float).reshape(n, 12)
+    n = a.shape[0]
     if n and (a[:, 2] < 0).any():
         raise DataError("the store holds a property outside the vocabulary (run 'holdoff db check')")
     nulls = a[:, 4:11]
     nulls[np.isinf(nulls) & (nulls > 0)] = np.nan
-    cols = [a[:, j] for j in range(12)]
+    cols = [np.ascontiguousarray(a[:, j]) for j in range(12)]
     # Store ids to table positions through lookup arrays (ids are positive integers).
     mat_ids = np.fromiter((r[0] for r in mats), dtype=np.int64, count=len(mats))
     src_ids = np.fromiter((r[0] for r in srcs), dtype=np.int64, count=len(srcs))
@@ -114,16 +137,47 @@ def load_table(session, keys=None, *, family: str | None = None, include_retired
             "value": cols[3], "low": cols[4], "high": cols[5], "temperature_K": cols[6], "frequency_Hz": cols[7],
             "field_V_per_m": cols[8], "thickness_m": cols[9], "area_m2": cols[10],
             "source": src_pos[cols[11].astype(np.int64)]}
-    return ValueTable.from_columns(mcols, vals, scols, words)
+    return mcols, vals, scols, words
 
 
-def _fetch(conn, stmt) -> list[tuple]:
-    """All rows of a Core statement as plain tuples, straight from the driver's cursor (parameters bound by it)."""
+def _fetch_floats(conn, stmt, width: int):
+    """The rows of an all-numeric statement as one ``(rows, width)`` float array, read from the driver's cursor in
+    batches (never a list of every row at once)."""
+    import itertools
+
+    import numpy as np
+
+    cur = _cursor(conn, stmt)
+    try:
+        chunks = []
+        while True:
+            batch = cur.fetchmany(65536)
+            if not batch:
+                break
+            chunks.append(np.fromiter(itertools.chain.from_iterable(batch), dtype=float,
+                                      count=len(batch) * width))
+    finally:
+        cur.close()
+    return (np.concatenate(chunks) if chunks else np.zeros(0)).reshape(-1, width)
+
+
+def _cursor(conn, stmt):
+    """The driver's own cursor, the Core statement executed on it (parameters bound by the driver)."""
     compiled = stmt.compile(dialect=conn.dialect, compile_kwargs={"render_postcompile": True})
     params = [compiled.params[k] for k in compiled.positiontup] if compiled.positional else compiled.params
     cur = conn.connection.cursor()
     try:
         cur.execute(str(compiled), params)
+    except BaseException:
+        cur.close()
+        raise
+    return cur
+
+
+def _fetch(conn, stmt) -> list[tuple]:
+    """All rows of a Core statement as plain tuples, straight from the driver's cursor (parameters bound by it)."""
+    cur = _cursor(conn, stmt)
+    try:
         return cur.fetchall()
     finally:
         cur.close()

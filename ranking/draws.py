@@ -58,10 +58,19 @@ def _draw_values(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:
     uniform = np.isnan(ty)
     mode = np.where(uniform, lo, ty)
     split = np.divide(mode - lo, width, out=np.zeros(width.shape), where=width > 0)
-    left = lo + np.sqrt(u * (width * (mode - lo)))
-    right = hi - np.sqrt((1.0 - u) * (width * (hi - mode)))
-    out = np.where(u < split, left, right)
-    return np.where(uniform, lo + u * width, out)
+    # The inverse CDF on each side of the mode, worked in place: lo + sqrt(u·w·(mode − lo)) left of the split,
+    # hi − sqrt((1 − u)·w·(hi − mode)) right of it.
+    out = np.subtract(1.0, u)
+    out *= width * (hi - mode)
+    np.sqrt(out, out=out)
+    np.subtract(hi, out, out=out)
+    left = u * (width * (mode - lo))
+    np.sqrt(left, out=left)
+    left += lo
+    np.copyto(out, left, where=u < split)
+    if uniform.any():
+        np.copyto(out, lo + u * width, where=uniform)
+    return out
 
 
 def _draw_columns(rng: np.random.Generator, k: int, lo, ty, hi) -> np.ndarray:

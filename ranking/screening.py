@@ -24,8 +24,9 @@ from __future__ import annotations
 import numpy as np
 
 from ranking.methods.held import METHODS
-from ranking.methods.pareto import _BLOCK_CELLS
 
+# Largest boolean work array (pivots × candidates) the dominator search builds at once.
+_BLOCK_CELLS = 1 << 21
 # Candidates taken per block by the dominator search (their pairs among themselves fit in one work array).
 _SCREEN_BLOCK = 1024
 

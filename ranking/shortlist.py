@@ -113,8 +113,8 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         hi = np.maximum(np.column_stack([hi_d[n] for n in names]), typ)
         w = np.array([weights[n] for n in names], dtype=float)
         benefit = np.array([CRITERIA[n].benefit for n in names])
+        # One Pareto pass; a dominator is looked up only for the rows built below.
         front = M.pareto_front(typ, benefit)
-        dom = M.dominators(typ, benefit, front=front)
         if method == "topsis":
             score = M.topsis(typ, w, benefit)
             contrib = M.topsis_contributions(typ, w, benefit)
@@ -134,8 +134,10 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
         else:
             p_first = p_top_k = np.full(n_ok, np.nan)
         win = order[0]
+        shown = order[:rows] if rows is not None else order
+        dom = M.dominator_of(typ, benefit, front, shown, size=n_ok)
         win_values = {n: float(typ[win, j]) for j, n in enumerate(names)}
-        for rank, c in enumerate(order[:rows] if rows is not None else order, 1):
+        for rank, c in enumerate(shown, 1):
             i, ti = cand_ok[c]
             e = full(i, ti)
             values = {n: float(typ[c, j]) for j, n in enumerate(names)}

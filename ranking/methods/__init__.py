@@ -23,10 +23,11 @@ matrices, or (:func:`survivor_scorer`) the few rows that may reach the top among
 
 from ranking.methods.held import METHODS, survivor_scorer
 from ranking.methods.matrix import ArrayLike, held_columns
-from ranking.methods.pareto import dominators, pareto_front
+from ranking.methods.pareto import dominator_of, dominators, front_and_dominators, pareto_front
 from ranking.methods.ranks import rank_order
 from ranking.methods.topsis import topsis, topsis_contributions
 from ranking.methods.weighted import weighted_sum, weighted_sum_contributions
 
-__all__ = ["METHODS", "ArrayLike", "dominators", "held_columns", "pareto_front", "rank_order", "survivor_scorer",
-           "topsis", "topsis_contributions", "weighted_sum", "weighted_sum_contributions"]
+__all__ = ["METHODS", "ArrayLike", "dominator_of", "dominators", "front_and_dominators", "held_columns",
+           "pareto_front", "rank_order", "survivor_scorer", "topsis", "topsis_contributions", "weighted_sum",
+           "weighted_sum_contributions"]

@@ -133,5 +133,9 @@ def main(n: int = 100_000, repeats: int = 5) -> None:
         shutil.rmtree(work, ignore_errors=True)
 
 
+def test_bench_import():
+    main()
+
+
 if __name__ == "__main__":
     main(*(int(a) for a in sys.argv[1:3]))
