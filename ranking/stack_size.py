@@ -118,13 +118,20 @@ class _Ends:
             b = a + step
             fb = f(b)
             if (fa < 0) != (fb < 0):
-                lo, hi = (a, b) if a < b else (b, a)
-                flo = f(lo)
+                (lo, flo), (hi, fhi) = sorted(((a, fa), (b, fb)))
                 if not math.isfinite(flo):
                     # a margin that is not a number at the thin end (a gas left of its Paschen asymptote): step in
                     return math.exp(hi)
+                # ln(margin) is close to linear in ln D (a power law where the thickness and area laws apply): one
+                # secant step and two probes beside it usually leave a bracket a billionth wide
+                x1 = hi - fhi * (hi - lo) / (fhi - flo)
+                p_lo, p_hi = x1 - 1e-9, x1 + 1e-9
+                if lo < p_lo and p_hi < hi:
+                    f_plo, f_phi = f(p_lo), f(p_hi)
+                    if f_plo < 0 <= f_phi:
+                        lo, flo, hi, fhi = p_lo, f_plo, p_hi, f_phi
                 x, _, ok = root_in_bracket(lambda x, idx: np.array([f(float(x[0]))]), lo, hi, f_lo=flo,
-                                           f_hi=f(hi), xtol=1e-14)
+                                           f_hi=fhi, xtol=1e-14)
                 if not ok[0]:
                     raise _NoSize()
                 return math.exp(float(x[0]))
