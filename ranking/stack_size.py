@@ -165,6 +165,7 @@ def size_stack(materials, spec, target) -> Evaluation:
 
         for code, q in reasons(rng, i, ignore=NOT_FOR_LAYERS):
             ev.reasons.append(words("stack-layer", key=k, reason=words(code, **q)))
+    ev.reasons = list(dict.fromkeys(ev.reasons))   # a material used in two layers says it once
     if ev.reasons:
         return ev
     d_min = np.where(np.isfinite(ends.inp[ends.temps[0]].d_min), ends.inp[ends.temps[0]].d_min, 0.0)
