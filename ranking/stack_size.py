@@ -17,9 +17,11 @@ the part's probability is up to their number times it (``failure_probability`` i
 
 Criteria (the stack's own, in the materials' units):
 
-* ``energy`` — the stored energy over the total dielectric volume, ``½·ε0·V²/(D²·s)``; its range is the binding
-  layer's permittivity and breakdown ranges (``u ∝ εr·E²``) and, where that layer's Weibull shape or test area is
-  an assumed range, the design field at the range's ends squared (``E_d ∝ (−ln(1−p)·A_test/A)^(1/β)``);
+* ``energy`` — the stored energy over the total dielectric volume, ``½·ε0·V²/(D²·s)``; its low…high range is that
+  of the binding layer's material sized alone for the target by the engine (the same power laws size the stack),
+  or where that material cannot be sized alone, its permittivity and breakdown ranges (``u ∝ εr·E²``) and, where
+  its Weibull shape or test area is an assumed range, the design field at the range's ends squared
+  (``E_d ∝ (−ln(1−p)·A_test/A)^(1/β)``);
 * ``volume`` and ``mass`` — ``W/u`` and ``volume·Σ r_i·ρ_i``;
 * ``loss`` — the series-circuit loss tangent ``Σ w_i·tan δ_i`` with ``w_i = (r_i/ε_i)/Σ r_j/ε_j``, each layer's
   share of the voltage (and of the stored energy): exact for layers of small loss in series (the dissipation factor
@@ -217,7 +219,7 @@ def size_stack(materials, spec, target) -> Evaluation:
     # the criteria
     inp_w = ends.inp[worst["temperature_K"]]
     w_share = (ratios / inp_w.eps_v) / np.sum(ratios / inp_w.eps_v)
-    f_lo, f_hi = _energy_range(inp_w, first, target, area)
+    f_lo, f_hi = _energy_range(inp_w, first, target, area, rng)
     W = target.energy_J if target.energy_J is not None else 1.0
     layer_ev = [_layer_words(rng, i) for i in range(len(keys))]
     vals = {"energy": (u, u * f_lo, u * f_hi), "volume": (W / u, W / (u * f_hi), W / (u * f_lo))}
@@ -322,8 +324,19 @@ def _layer_words(cols, i: int) -> Evaluation:
     return ev
 
 
-def _energy_range(inp, i: int, target, area) -> tuple[float, float]:
-    """Low and high factors on the stack's energy density from its binding layer ``i`` (module docstring)."""
+def _energy_range(inp, i: int, target, area, rng) -> tuple[float, float]:
+    """Low and high factors on the stack's energy density from its binding layer ``i``: those of that layer's
+    material sized alone for the target by the engine (its permittivity and breakdown ranges, and the sizing repeated
+    at the ends of an assumed Weibull shape or test area; a stack bound by one layer sizes by the same power laws),
+    else the module docstring's estimate at the stack's area."""
+    from ranking.engine import evaluate
+
+    alone = evaluate(rng.parts["inputs"], target)
+    with np.errstate(all="ignore"):
+        u = float(alone.values["energy"][i])
+        lo, hi = float(alone.low["energy"][i]) / u, float(alone.high["energy"][i]) / u
+    if all(math.isfinite(x) and x > 0 for x in (u, lo, hi)):
+        return min(lo, 1.0), max(hi, 1.0)
     with np.errstate(all="ignore"):
         eps, ebd = float(inp.eps_v[i]), float(inp.ebd_v[i])
         f_eps = (float(inp.eps_lo[i]) / eps, float(inp.eps_hi[i]) / eps)
