@@ -300,9 +300,15 @@ def test_shortlist_reports_a_target_files_fixed_layered_candidate_and_why_it_is_
     s = 10e-6 / 3.2 + 20e-6 / 2.1
     np.testing.assert_allclose([ly["field_ac_V_per_m"] for ly in row["layers"]], [1000 / (3.2 * s), 1000 / (2.1 * s)],
                                rtol=1e-3)
-    # the PET's design field at 10 µm is below its 24.7 V/µm: excluded, naming the layer that fails first
+    # a layer's design field at its fixed thickness is below its field: excluded, naming the layer that fails first
+    # (the smallest margin) with its field and the stack voltage it fails at
     (ex,) = [e for e in res["excluded"] if e["key"] == "stack:pet-film + ptfe-film"]
-    assert ex["reasons"][0].startswith("pet-film (layer 1 of 2) runs at 24.71 V/µm")
+    k = [ly["key"] for ly in row["layers"]].index(row["first_to_fail"])
+    first = row["layers"][k]
+    assert first["margin"] == min(ly["margin"] for ly in row["layers"]) < 1
+    assert ex["reasons"][0].startswith(f"{first['key']} (layer {k + 1} of 2) runs at "
+                                       f"{first['field_V_per_m'] / 1e6:.4g} V/µm")
+    assert f"at {1000 * first['margin']:.4g} V" in ex["reasons"][0]
     assert res["target"]["stacks"] == [{"name": "pet-film + ptfe-film", "fixed": True,
                                         "layers": [{"key": "pet-film", "thickness_m": 10e-6},
                                                    {"key": "ptfe-film", "thickness_m": 20e-6}]}]
