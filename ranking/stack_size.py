@@ -2,18 +2,19 @@
 material has, so it is ranked, scored and drawn in the Monte Carlo beside the materials.
 
 Sizing keeps the layer thickness ratios ``r_i`` (or, for a stack marked ``fixed``, the thicknesses as given) and
-finds the smallest total thickness ``D`` at which every layer holds its design field at both ends of the target's
-temperature range. The field in each layer is the capacitive (AC) division of :func:`materials.stack.layer_fields`
-and each layer's design field is the evaluation engine's (:func:`ranking.engine.evaluate` with one thickness per
-layer, as :func:`ranking.stack.evaluate_stack` does: Weibull quantile at the accepted failure probability,
-weakest-link area scaling, thickness law, gas and liquid gap laws). With a target energy ``W`` the active area
-follows the thickness, ``A = 2·W·D·s/(ε0·V²)`` with ``s = max_T Σ r_i/ε_i(T)`` (the area that stores ``W`` where the
-capacitance is lowest; ``½·C·V²`` with ``C = ε0·A/Σ d_i/ε_i``, the layer capacitances in series); with a target
-area it is that area; with neither, each layer keeps its test area (no area scaling), as for a material. Each
-end's thickness solves ``min_i E_design,i / E_i = 1`` (:func:`materials.sizing.root_in_bracket` on ln D); the stack
-takes the larger, and never less than makes every layer at least its thinnest made. The layer with the smallest
-margin there binds. Each layer is held at the target's failure probability, so where several layers bind together
-the part's probability is up to their number times it (``failure_probability`` in the design says the sum).
+finds the smallest total thickness ``D`` at which every layer holds its design field at every temperature of the
+target's range that can be the worst (both ends and each layer's data points in between: the engine's grid). The
+field in each layer is the capacitive (AC) division of :func:`materials.stack.layer_fields` and each layer's design
+field is the evaluation engine's (:func:`ranking.engine.evaluate` with one thickness per layer, as
+:func:`ranking.stack.evaluate_stack` does: Weibull quantile at the accepted failure probability, weakest-link area
+scaling, thickness law, gas and liquid gap laws). With a target energy ``W`` the active area follows the thickness,
+``A = 2·W·D·s/(ε0·V²)`` with ``s = max_T Σ r_i/ε_i(T)`` (the area that stores ``W`` where the capacitance is
+lowest; ``½·C·V²`` with ``C = ε0·A/Σ d_i/ε_i``, the layer capacitances in series); with a target area it is that
+area; with neither, each layer keeps its test area (no area scaling), as for a material. At each temperature the
+thickness solves ``min_i E_design,i / E_i = 1`` (:func:`materials.sizing.root_in_bracket` on ln D); the stack takes
+the largest, and never less than makes every layer at least its thinnest made. The layer with the smallest margin
+there binds. Each layer is held at the target's failure probability, so where several layers bind together the
+part's probability is up to their number times it (``failure_probability`` in the design says the sum).
 
 Criteria (the stack's own, in the materials' units):
 
@@ -63,7 +64,9 @@ def stack_evaluations(target, table) -> list[Evaluation]:
 
 
 class _Ends:
-    """The engine's inputs of one stack's layers at each end of the target's range, and its margins at a size."""
+    """The engine's inputs of one stack's layers at each temperature of the target's range that can be the worst
+    (both ends and every permittivity, breakdown or loss data point of a layer in between: the engine's grid), and
+    its margins at a size."""
 
     def __init__(self, materials, ratios, target):
         from materials.table import ValueTable
@@ -71,7 +74,9 @@ class _Ends:
 
         self.table = ValueTable.from_materials(list(materials))
         self.r, self.target = np.asarray(ratios, dtype=float), target
-        self.temps = tuple(dict.fromkeys((float(target.tmin_K), float(target.tmax_K))))
+        self.whole = worst_inputs(self.table, tmin_K=target.tmin_K, tmax_K=target.tmax_K,
+                                  frequency_Hz=target.frequency_Hz, assume_defaults=target.assume_defaults)
+        self.temps = tuple(float(t) for t in np.unique(self.whole.gt))
         self.inp = {t: worst_inputs(self.table, tmin_K=t, tmax_K=t, frequency_Hz=target.frequency_Hz,
                                     assume_defaults=target.assume_defaults) for t in self.temps}
         with np.errstate(all="ignore"):
@@ -302,11 +307,9 @@ def _add(sources: dict, name: str, keys) -> None:
 def _range_columns(ends: _Ends, target, given):
     """The engine's columns of the stack's layers over the whole temperature range (ratings, data, loss, drift,
     healing and confidence: the rules that do not depend on the stack's size)."""
-    from ranking.engine import evaluate, worst_inputs
+    from ranking.engine import evaluate
 
-    inp = worst_inputs(ends.table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
-                       assume_defaults=target.assume_defaults)
-    return evaluate(inp, target, thickness_m=np.asarray(given, dtype=float))
+    return evaluate(ends.whole, target, thickness_m=np.asarray(given, dtype=float))
 
 
 def _layer_words(cols, i: int) -> Evaluation:
