@@ -129,9 +129,18 @@ class _Ends:
                 if not math.isfinite(flo):
                     # a margin that is not a number at the thin end (a gas left of its Paschen asymptote): step in
                     return math.exp(hi)
-                # ln(margin) is close to linear in ln D (a power law where the thickness and area laws apply): one
-                # secant step and two probes beside it usually leave a bracket a billionth wide
-                x1 = hi - fhi * (hi - lo) / (fhi - flo)
+                # ln(margin) is close to linear in ln D (a power law where the thickness and area laws apply): a few
+                # secant steps usually find it; else two probes beside the last narrow the bracket of the root finder
+                (x0, f0), (x1, f1) = (lo, flo), (hi, fhi)
+                for _ in range(4):
+                    if f1 == f0 or not math.isfinite(f1 - f0):
+                        break
+                    x0, f0, x1 = x1, f1, x1 - f1 * (x1 - x0) / (f1 - f0)
+                    if not lo < x1 < hi:
+                        break
+                    f1 = f(x1)
+                    if abs(f1) < 1e-12:   # the margin is 1 to 12 digits: the size is found
+                        return math.exp(x1)
                 p_lo, p_hi = x1 - 1e-9, x1 + 1e-9
                 if lo < p_lo and p_hi < hi:
                     f_plo, f_phi = f(p_lo), f(p_hi)
