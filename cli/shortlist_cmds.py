@@ -98,10 +98,6 @@ def shortlist(
         # Only the HTML report draws charts, which need the materials' records.
         charted = export.suffix.lower() in (".html", ".htm")
         export_result(result, export, force=force, materials=table.materials() if charted else None)
-    if t.stacks:
-        from cli.stack_cmds import shortlist_candidates
-
-        result["stacks"] = shortlist_candidates(t, table)
     if json_out:
         from cli.output import print_json
 
@@ -109,9 +105,9 @@ def shortlist(
     else:
         render(result, top=top)
         if t.stacks:
-            from cli.stack_cmds import render_candidates
+            from cli.stack_cmds import render_sized
 
-            render_candidates(result["stacks"], voltage_V=t.voltage_V, title="layered candidates (fixed layers)")
+            render_sized(result["stacks"])
         if export:
             from cli.output import say
 

@@ -96,7 +96,7 @@ def _candidates(path: str, *, extrapolate: bool, strict: bool, json_out: bool):
         tg = replace(tg, strict=True)
     if not tg.stacks:
         raise InputError("no [[stack]] tables", file=path, field="stack")
-    keys = list(dict.fromkeys(k for _, layers in tg.stacks for k, _ in layers))
+    keys = list(dict.fromkeys(k for sp in tg.stacks for k, _ in sp.layers))
     with state.store().session(read_only=True) as s:
         mats = {m.key: m for m in load_materials(s, keys)}
     rows = evaluate_candidates(tg, mats, extrapolate=extrapolate)
@@ -123,18 +123,23 @@ def render_candidates(rows: list[dict], *, voltage_V: float, title: str) -> None
           right={3, 6}, title=title)
 
 
-def shortlist_candidates(target, table) -> list[dict]:
-    """The target's layered candidates, from the materials of the shortlist's value table."""
-    from materials.errors import DataError
-    from ranking.stack import evaluate_candidates
+def render_sized(rows: list[dict]) -> None:
+    """The layered candidates of a shortlist as sized for its target (``ranking.stack_size``): each layer's
+    thickness, the active area, the first layer to fail and its worst temperature; the excluded with their reasons."""
+    from cli.output import table
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
-    index = {k: i for i, k in enumerate(table.keys)}
-    keys = list(dict.fromkeys(k for _, layers in target.stacks for k, _ in layers))
-    missing = [k for k in keys if k not in index]
-    if missing:
-        raise DataError(f"stack candidate: no material '{missing[0]}' in the store")
-    mats = dict(zip(keys, table.materials([index[k] for k in keys]), strict=True))
-    return evaluate_candidates(target, mats)
+    body = []
+    for r in rows:
+        if not r["ranked"]:
+            body.append([r["key"], "; ".join(r["reasons"]), "", "", "", ""])
+            continue
+        body.append([r["key"], " / ".join(f"{ly['key']} {fmt_quantity(ly['thickness_m'], 'um', 'm')}"
+                                          for ly in r["layers"]),
+                     "—" if r["area_m2"] is None else f"{fmt_number(r['area_m2'])} m²", r["first_to_fail"],
+                     fmt_celsius(r["worst_temperature_K"]), fmt_number(r["energy_density_J_per_m3"] / 1e6)])
+    table(["stack", "layers (sized)", "area", "fails first", "worst T", "J/cm³"], body, right={2, 5},
+          title="layered candidates, sized for the target (fixed = true keeps the thicknesses as given)")
 
 
 def _gap_options(gap, pressure):

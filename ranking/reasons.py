@@ -94,6 +94,23 @@ TEXT = {
                                f"n {q['n']:.3g})"),
     "binding-heat": lambda q: (f"heat: breakdown at the hot spot {_c(q['breakdown_K'])} "
                                f"({_vum(q['breakdown_V_per_m'])} → design {_vum(q['design_V_per_m'])})"),
+    # layered candidates (ranking.stack_size)
+    "stack-layer": lambda q: f"layer {q['key']}: {q['reason']}",
+    "stack-no-size": lambda q: (f"no total thickness with these layer ratios holds {q['voltage_V']:g} V at every "
+                                "layer's design field"),
+    "stack-over-design": lambda q: (f"{q['key']} (layer {q['layer']} of {q['layers']}) runs at "
+                                    f"{_vum(q['field_V_per_m'])} at {_c(q['temperature_K'])}, above its design field "
+                                    f"{_vum(q['design_V_per_m'])}: the stack fails first there, at "
+                                    f"{q['fails_at_V']:.4g} V"),
+    "stack-energy-short": lambda q: (f"stores {q['energy_J_per_m3'] / 1e6:.3g} J/cm³ of dielectric at "
+                                     f"{q['voltage_V']:g} V, below the target {q['target_J_per_m3'] / 1e6:.3g} J/cm³ "
+                                     f"(set by {q['key']})"),
+    "binding-stack": lambda q: (f"breakdown of {q['key']} (layer {q['layer']} of {q['layers']}) at "
+                                f"{_c(q['temperature_K'])}: {_vum(q['field_V_per_m'])} = its design field"),
+    "binding-stack-made": lambda q: (f"thinnest {q['key']} made ({_um(q['min_thickness_m'])}) sets the stack at "
+                                     f"{_um(q['total_m'])}"),
+    "binding-stack-fixed": lambda q: (f"fixed layers: {q['key']} (layer {q['layer']} of {q['layers']}) at "
+                                      f"{q['ratio']:.0%} of its design field"),
     # notes on assumptions
     "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
     "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),

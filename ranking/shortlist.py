@@ -100,11 +100,12 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
     cand_ok = [(f // n_t, f % n_t) for f in good.tolist()]
     cand_bad = [(f // n_t, f % n_t) for f in np.flatnonzero(~ok).tolist()]
     typ_d, lo_d, hi_d = ({n: d[n][good] for n in names} for d in (typ_all, lo_all, hi_all))
+    stacks = _add_stacks(target, table, evals, cand_ok, cand_bad, names, (typ_d, lo_d, hi_d))
     extra_flags: list[list[str]] = [[] for _ in cand_ok]
     _impute(typ_d, lo_d, hi_d, names, extra_flags)
     # A criterion no candidate has cannot separate them: it is left out (and so shown in no table).
     names = [n for n in names if not cand_ok or np.isfinite(typ_d[n]).all()]
-    labels = [_label(table.keys[i], thicknesses[ti]) for i, ti in cand_ok]
+    labels = [_label(table.keys[i], thicknesses[ti]) if i != STACK else evals[i, ti].label for i, ti in cand_ok]
     ranked = []
     n_ok = len(cand_ok)
     if n_ok:
@@ -159,6 +160,8 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
                 "source_kinds": _source_kinds(e, names, kind_of),
                 "versus_winner": "" if c == win else _versus(win_values, values, names, contrib[win], contrib[c]),
             }
+            if i == STACK:
+                row["stack"] = e.details["stack"]
             ranked.append(row)
     excluded = []
     for i, ti in (cand_bad[:excluded_rows] if excluded_rows is not None else cand_bad):
@@ -185,7 +188,32 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
                        "values": "triangular within each value's low…high range"},
         "sources": {k: srcs[k] for k in sorted(used) if k in srcs},
         "cautions": [CAUTION],
+        **({"stacks": stacks} if target.stacks else {}),
     }
+
+
+#: The candidate index of a layered candidate (its pair is (STACK, the stack's position in the target)).
+STACK = "stack"
+
+
+def _add_stacks(target, table, evals, cand_ok, cand_bad, names, parts) -> list[dict]:
+    """Put the target's layered candidates (:mod:`ranking.stack_size`) among the candidates: their evaluations into
+    ``evals``, their pairs into ``cand_ok`` / ``cand_bad`` and their criteria after the materials' in ``parts``
+    (typical, low, high). Returns each stack's design and verdict for the result's ``stacks``."""
+    if not target.stacks:
+        return []
+    from ranking.stack_size import stack_evaluations
+
+    evs = stack_evaluations(target, table)
+    ok = [j for j, e in enumerate(evs) if e.ok]
+    for j, e in enumerate(evs):
+        evals[STACK, j] = e
+        (cand_ok if e.ok else cand_bad).append((STACK, j))
+    for d, attr in zip(parts, ("values", "low", "high"), strict=True):
+        for n in names:
+            d[n] = np.concatenate([d[n], [getattr(evs[j], attr).get(n, np.nan) for j in ok]])
+    return [{"key": e.key, "name": e.name, "ranked": e.ok, "reasons": e.reasons, **(e.details.get("stack") or {})}
+            for e in evs]
 
 
 #: Evidence classes of the used-evidence line, by source kind ("assumed" marks a stated prior or an imputed value).

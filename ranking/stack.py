@@ -42,11 +42,13 @@ def parse_layer(text: str) -> tuple[str, float]:
 def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = False, reversal: bool = False,
                    temperature_K: float, area_m2: float | None = None, failure_probability: float | None = None,
                    margin: float = 1.0, pressure_Pa: float | None = None, void_m: float | None = None,
-                   void_gas=None, assume_defaults: bool = True, extrapolate: bool = False) -> dict:
+                   void_gas=None, assume_defaults: bool = True, extrapolate: bool = False,
+                   segment_area_m2: float | None = None) -> dict:
     """The stack's fields, margins, first failure, capacitance, energy and PD inception (SI, a JSON-ready dict).
 
     ``materials``: one :class:`materials.records.MaterialData` per layer (a material may repeat);
-    ``void_gas``: the material filling a void (air), needed with ``void_m``.
+    ``void_gas``: the material filling a void (air), needed with ``void_m``; ``segment_area_m2``: a self-healing
+    layer's weakest-link area is one segment (as in a shortlist target).
     """
     from materials.lookup import reader_of
     from materials.stack import (layer_fields, maxwell_wagner_time_constants, pd_inception_voltage,
@@ -74,7 +76,8 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
     gaps = apply_gap_laws(inp, d, pressure_Pa=pressure_Pa, temperature_K=temperature_K)
     p = failure_probability if failure_probability is not None else -math.expm1(-1.0)
     target = Target(voltage_V=voltage_V, tmin_K=temperature_K, tmax_K=temperature_K, margin=margin,
-                    area_m2=area_m2, failure_probability=p, assume_defaults=assume_defaults, extrapolate=extrapolate)
+                    area_m2=area_m2, failure_probability=p, assume_defaults=assume_defaults, extrapolate=extrapolate,
+                    segment_area_m2=segment_area_m2)
     cols = evaluate(inp, target, thickness_m=d)
     refuse_outside(cols, keys)
     P = cols.parts
@@ -195,7 +198,7 @@ def evaluate_candidates(target, materials: dict, *, extrapolate: bool = False) -
     ``name``, ``holds`` (the first failure lies at or above the target voltage), ``energy_density_J_per_m3`` (the
     stack's stored energy over its dielectric volume) and ``worst_temperature_K``."""
     out = []
-    for name, layers in target.stacks:
+    for name, layers, *_ in target.stacks:
         missing = [k for k, _ in layers if k not in materials]
         if missing:
             raise DataError(f"stack '{name}': no material '{missing[0]}'")

@@ -41,6 +41,7 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
     [[stack]]                       # optional layered candidates (layers in series, µm unless a unit is given)
     name = "film + impregnant"
     layers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5um"]
+    fixed = false                   # false: sized for the target keeping the thickness ratios; true: as given
 """
 
 from __future__ import annotations
@@ -49,10 +50,21 @@ import math
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
+from typing import NamedTuple
 
 from materials.errors import InputError, UnitError
 from materials.properties import FAMILIES
 from materials.units import parse_option
+
+
+class StackSpec(NamedTuple):
+    """A layered candidate of a target file: its name, its layers ``((material key, thickness m), ...)`` from one
+    electrode to the other, and whether the thicknesses are fixed as given (else only their ratios are kept and the
+    stack is sized for the target)."""
+
+    name: str
+    layers: tuple
+    fixed: bool = False
 
 
 @dataclass(frozen=True)
@@ -76,7 +88,7 @@ class Target:
     extrapolate: bool = False       # use values outside their data (held at the end, flagged) instead of refusing
     max_sections: int = 1           # series sections allowed where one layer cannot be made thick enough
     name: str = ""
-    stacks: tuple = ()              # layered candidates: (name, ((material key, thickness m), ...)), ...
+    stacks: tuple = ()              # layered candidates: StackSpec(name, ((material key, thickness m), ...), fixed)
     capacitance_F: float | None = None
     ripple: tuple[tuple[float, float], ...] = ()   # (A rms, Hz) per harmonic
     series_resistance_ohm: float = 0.0
@@ -181,7 +193,14 @@ class Target:
                 "ripple": [{"current_A": i, "frequency_Hz": f} for i, f in self.ripple],
                 "series_resistance_ohm": self.series_resistance_ohm,
                 "thermal_resistance_K_per_W": self.thermal_resistance_K_per_W, "ambient_K": self.ambient_K,
-                "life_s": self.life_s, "life_fraction": self.life_fraction, "packing_factor": self.packing_factor}
+                "life_s": self.life_s, "life_fraction": self.life_fraction, "packing_factor": self.packing_factor,
+                "stacks": [{"name": sp.name, "layers": [{"key": k, "thickness_m": d} for k, d in sp.layers],
+                            "fixed": sp.fixed} for sp in map(_spec, self.stacks)]}
+
+
+def _spec(item) -> StackSpec:
+    """A layered candidate as a :class:`StackSpec` (a plain ``(name, layers)`` pair is not fixed)."""
+    return item if isinstance(item, StackSpec) else StackSpec(*item)
 
 
 def parse_weights(text: str | None) -> dict:
@@ -411,11 +430,18 @@ def _stacks(tables) -> tuple:
         layers = tb.get("layers") if isinstance(tb, dict) else None
         if not isinstance(layers, list) or not layers or not all(isinstance(x, str) for x in layers):
             raise InputError(f"stack {i}: 'layers' must be a list of \"KEY:THICKNESS\" strings", field="stack.layers")
-        unknown = set(tb) - {"name", "layers"}
+        unknown = set(tb) - {"name", "layers", "fixed"}
         if unknown:
             raise InputError(f"stack {i}: unknown field '{sorted(unknown)[0]}'", field="stack")
         parsed = tuple(parse_layer(x) for x in layers)
-        out.append((str(tb.get("name", " + ".join(k for k, _ in parsed))), parsed))
+        try:
+            fixed = _flag(tb, "fixed", False)
+        except TypeError as exc:
+            raise InputError(f"stack {i}: {exc}", field="stack.fixed") from None
+        name = str(tb.get("name", " + ".join(k for k, _ in parsed)))
+        if any(sp.name == name for sp in out):
+            raise InputError(f"stack {i}: the name '{name}' is used twice", field="stack.name")
+        out.append(StackSpec(name, parsed, fixed))
     return tuple(out)
 
 

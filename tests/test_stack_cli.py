@@ -200,7 +200,8 @@ def test_target_file_stack_candidate_syntax_and_its_evaluation(tmp_path, cli, sh
     f.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n\n[[stack]]\n'
                  'name = "film + impregnant"\nlayers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5 um"]\n')
     t = load_target(f)
-    assert t.stacks == (("film + impregnant", (("polypropylene-bopp", 10e-6), ("mineral-transformer-oil", 5e-6))),)
+    assert t.stacks == (("film + impregnant", (("polypropylene-bopp", 10e-6), ("mineral-transformer-oil", 5e-6)),
+                         False),)
     bad = tmp_path / "bad.toml"
     bad.write_text('[target]\nvoltage = "2 kV"\ntmin = "25 degC"\ntmax = "25 degC"\n\n[[stack]]\nlayers = ["pp"]\n')
     with pytest.raises(InputError, match="bad.toml.*KEY:THICKNESS"):
@@ -285,18 +286,31 @@ def test_gap_left_of_the_paschen_asymptote_is_flagged_not_trusted(cli, shipped):
     assert code == 2 and err.startswith("holdoff: error: pet-film: ")
 
 
-def test_shortlist_reports_a_target_files_layered_candidates_beside_the_ranking(tmp_path, cli, shipped):
-    # the same evaluation as `stack --target` (fixed layers at the target's voltage): PET 10 µm + PTFE 20 µm at 1 kV
-    # carries 24.7 V/µm in the PET and 37.6 V/µm in the PTFE (εr 3.2 and 2.1, Σd/ε = 12.65 µm)
+def test_shortlist_reports_a_target_files_fixed_layered_candidate_and_why_it_is_excluded(tmp_path, cli, shipped):
+    # fixed layers at the target's voltage, as `stack --target`: PET 10 µm + PTFE 20 µm at 1 kV carries 24.7 V/µm in
+    # the PET and 37.6 V/µm in the PTFE (εr 3.2 and 2.1, Σd/ε = 12.65 µm; normal D continuous, Hayt & Buck)
     f = tmp_path / "t.toml"
     f.write_text('[target]\nvoltage = "1 kV"\ntmin = "25 degC"\ntmax = "25 degC"\nenergy = "10 J"\n'
-                 'extrapolate = true\n\n[[stack]]\nlayers = ["pet-film:10um", "ptfe-film:20um"]\n')
+                 'extrapolate = true\n\n[[stack]]\nlayers = ["pet-film:10um", "ptfe-film:20um"]\nfixed = true\n')
     code, out, err = cli(["shortlist", "--target", f, "--draws", "50", "--json"], db=shipped)
     assert code == 0, err
-    (row,) = json.loads(out)["stacks"]
-    assert row["name"] == "pet-film + ptfe-film"
+    res = json.loads(out)
+    (row,) = res["stacks"]
+    assert row["name"] == "pet-film + ptfe-film" and row["fixed"] is True
     s = 10e-6 / 3.2 + 20e-6 / 2.1
     np.testing.assert_allclose([ly["field_ac_V_per_m"] for ly in row["layers"]], [1000 / (3.2 * s), 1000 / (2.1 * s)],
                                rtol=1e-3)
+    # a layer's design field at its fixed thickness is below its field: excluded, naming the layer that fails first
+    # (the smallest margin) with its field and the stack voltage it fails at
+    (ex,) = [e for e in res["excluded"] if e["key"] == "stack:pet-film + ptfe-film"]
+    k = [ly["key"] for ly in row["layers"]].index(row["first_to_fail"])
+    first = row["layers"][k]
+    assert first["margin"] == min(ly["margin"] for ly in row["layers"]) < 1
+    assert ex["reasons"][0].startswith(f"{first['key']} (layer {k + 1} of 2) runs at "
+                                       f"{first['field_V_per_m'] / 1e6:.4g} V/µm")
+    assert f"at {1000 * first['margin']:.4g} V" in ex["reasons"][0]
+    assert res["target"]["stacks"] == [{"name": "pet-film + ptfe-film", "fixed": True,
+                                        "layers": [{"key": "pet-film", "thickness_m": 10e-6},
+                                                   {"key": "ptfe-film", "thickness_m": 20e-6}]}]
     code, out, err = cli(["shortlist", "--target", f, "--draws", "50", "--top", "2"], db=shipped)
-    assert code == 0 and "layered candidates (fixed layers)" in out and "pet-film + ptfe-film" in out
+    assert code == 0 and "layered candidates, sized for the target" in out and "stack:pet-film + ptfe-film" in out
