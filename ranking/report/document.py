@@ -18,16 +18,21 @@ def cell_value(r: Row, c: Column) -> str:
     return fmt_number(v)
 
 
+def version() -> str:
+    """The installed program's version ("dev" in an uninstalled checkout)."""
+    from importlib.metadata import PackageNotFoundError, version as installed
+
+    try:
+        return installed("holdoff")
+    except PackageNotFoundError:  # an uninstalled checkout has no metadata
+        return "dev"
+
+
 def generated() -> str:
     """Today's date and the program's version, for the head of a document."""
     import datetime
-    from importlib.metadata import PackageNotFoundError, version
 
-    try:
-        ver = version("holdoff")
-    except PackageNotFoundError:  # an uninstalled checkout has no metadata
-        ver = "dev"
-    return f"{datetime.date.today().isoformat()}, holdoff {ver}"
+    return f"{datetime.date.today().isoformat()}, holdoff {version()}"
 
 
 def _cell(rep: Report, r: Row, c: Column, nums: dict) -> dict:
