@@ -15,6 +15,10 @@ class _Group(TyperGroup):
     error (bad input or usage) exits with its code, 2; each with one line on stderr and never a password. Anything
     else is a bug and keeps its traceback."""
 
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        _name_values(self)
+
     def parse_args(self, ctx, args):
         # --wide applies to every table of any command, so it is taken from anywhere on the line (before "--")
         end = args.index("--") if "--" in args else len(args)
@@ -68,6 +72,31 @@ class _Group(TyperGroup):
         finally:
             state.reset()
             output.reset()
+
+
+# What the help shows after an option or for an argument, where the option names no metavariable itself.
+_METAVARS = {"temp": "T", "tmin": "T", "tmax": "T", "voltage": "V", "energy": "W", "energy_density": "U",
+             "failure_prob": "P", "margin": "M", "area": "A", "segment_area": "A", "thickness": "D", "frequency": "F",
+             "keys": "KEY", "key": "KEY", "files": "FILE", "file": "FILE", "material": "KEY", "family": "FAMILY",
+             "top": "N", "points": "N", "seed": "N", "draws": "N", "out": "FILE", "to": "FILE", "target": "FILE",
+             "export": "FILE", "from_file": "FILE", "max_loss": "TAN_D", "confidence": "C", "method": "METHOD"}
+
+
+def _no_type(ctx):
+    return None
+
+
+def _name_values(group) -> None:
+    """Give every option and argument of ``group`` and its subcommands a plain metavariable (``T``, ``KEY``,
+    ``FILE``) in place of a Python type such as ``<list[str]>``."""
+    for cmd in group.commands.values():
+        for p in cmd.params:
+            if getattr(p, "metavar", None) is None and not getattr(p, "is_flag", False) and p.name != "help":
+                p.metavar = _METAVARS.get(p.name, (p.name or "value").upper())
+                if p.param_type_name == "argument":
+                    p.display_type_rich = _no_type
+        if hasattr(cmd, "commands"):
+            _name_values(cmd)
 
 
 def _exit_status(exc: Exception) -> tuple[int, str] | None:

@@ -66,7 +66,7 @@ def is_terminal() -> bool:
 
 # Columns whose text is read as prose: when the grid does not fit the width they move under it as numbered lines.
 LONG_HEADINGS = frozenset({"name", "sources", "source [kind]", "source", "note", "notes", "citation", "binding",
-                           "reasons", "conditions", "flags", "range"})
+                           "reasons"})
 MIN_KEY = 10       # a shortened key keeps at least this many characters
 UNKNOWN_WIDTH = 100
 _wide = False
@@ -218,12 +218,14 @@ def esc(text) -> str:
     return escape(str(text))
 
 
-def say(text: str = "", *, style: str | None = None) -> None:
+def say(text: str = "", *, style: str | None = None, wrap: bool = False) -> None:
     """A line of prose with rich markup (escape data with :func:`esc`); styled on a terminal, plain when piped."""
     if is_terminal():
         console().print(text, style=style)
     else:
-        sys.stdout.write("\n".join(wrap_text(_strip_markup(text), indent="  ")) + "\n")
+        plain = _strip_markup(text)
+        indent = " " * (len(plain) - len(plain.lstrip()) + 2)
+        sys.stdout.write(("\n".join(wrap_text(plain, indent=indent)) if wrap else plain) + "\n")
 
 
 def _strip_markup(text: str) -> str:
@@ -262,4 +264,4 @@ def caution(lines: list[str], *, sized: bool = False) -> None:
         if line in _cautioned:
             continue
         _cautioned.add(line)
-        say(f"[bold yellow]CAUTION[/]: {esc(line)}")
+        say(f"[bold yellow]CAUTION[/]: {esc(line)}", wrap=True)

@@ -161,16 +161,16 @@ def render(result: dict, *, top: int) -> None:
     if ev.get("rows"):
         say(f"the top {ev['rows']} rest on {ev['published']:.0%} published, {ev['lab']:.0%} lab, "
             f"{ev['common_practice']:.0%} common-practice and {ev['assumed_or_recollected']:.0%} assumed or "
-            "recollected values")
+            "recollected values", wrap=True)
     say(f"P(1st), P(top {k}): share of {result['robustness']['draws']} Monte Carlo draws (weights and values "
-        f"varied within their ranges) in which it ranks first, or among the first {k}.")
+        f"varied within their ranges) in which it ranks first, or among the first {k}.", wrap=True)
     if result["ranked"]:
         win = result["ranked"][0]
         parts = ", ".join(f"{n} {v:+.3f}" for n, v in sorted(win["contributions"].items(), key=lambda x: -x[1]))
-        say(f"winner {esc(win['label'])}: score {fmt_number(win['score'])} from {parts}")
+        say(f"winner {esc(win['label'])}: score {fmt_number(win['score'])} from {parts}", wrap=True)
         for r in result["ranked"][1:min(top, 4)]:
             say(f"  {esc(r['label'])}: {esc(r['versus_winner'])}"
-                + (f"; dominated by {esc(r['dominated_by'])}" if r["dominated_by"] else ""))
+                + (f"; dominated by {esc(r['dominated_by'])}" if r["dominated_by"] else ""), wrap=True)
     _exclusions(result, counts)
 
 
@@ -189,14 +189,12 @@ def _exclusions(result: dict, counts: dict) -> None:
     from cli.output import caution, esc, say
 
     if result["excluded"]:
-        from cli.output import wrap_text
         from ranking.report.exclusions import group_exclusions
 
         say("excluded, by reason:")
         for g in group_exclusions(result["excluded"]):
             members = ", ".join(m.replace(" (", "\xa0(") for m in g["members"])
-            for line in wrap_text(f"  {g['reason']}: {members}", indent="    "):
-                say(esc(line))
+            say(esc(f"  {g['reason']}: {members}"), wrap=True)
         more = counts["excluded"] - len(result["excluded"])
         if more > 0:
             say(f"… and {more} more excluded (every one with its reasons in --json)")

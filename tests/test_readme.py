@@ -27,7 +27,7 @@ def test_readme_usage_example_runs(command, cli, tmp_path, monkeypatch):
     (tmp_path / "examples").symlink_to(ROOT / "examples")
     monkeypatch.chdir(tmp_path)
     args = shlex.split(command)[1:]
-    extra = ["--draws", "50"] if args[0] == "shortlist" else []
+    extra = ["--draws", "100"] if args[0] == "shortlist" else []
     code, out, err = cli(args + extra)
     # A shortlist that ranks nothing exits 1 and still prints its table: the README may show one (--strict).
     assert code == (1 if "--strict" in args else 0), err

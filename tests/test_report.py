@@ -419,8 +419,8 @@ def test_every_new_command_has_help(cli):
         assert code == 0 and len(stdout) > 200, args
 
 
-@pytest.mark.parametrize("value,text", [(2.5, "2.5"), (73060.0, "73060"), (0.0002, "0.0002"), (1.447e-05,
-                                                                                             "1.447e-05"),
+@pytest.mark.parametrize("value,text", [(2.5, "2.5"), (73060.0, "73100"), (0.0002, "0.0002"), (1.447e-05,
+                                                                                             "0.0000145"),
                                         (None, "—"), (math.nan, "—"), (0.0, "0")])
 def test_number_formatting(value, text):
     assert report.fmt_number(value) == text
