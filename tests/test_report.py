@@ -413,7 +413,7 @@ def test_cli_export_from_a_target_file(cli, tmp_path):
 
 
 def test_every_new_command_has_help(cli):
-    for args in (["export"], ["chart"], ["chart", "map"], ["chart", "ceiling"], ["chart", "weibull"],
+    for args in (["export"], ["chart"], ["chart", "headroom"], ["chart", "ceiling"], ["chart", "weibull"],
                  ["chart", "loop"]):
         code, stdout, _e = cli([*args, "--help"])
         assert code == 0 and len(stdout) > 200, args
