@@ -6,7 +6,7 @@ from __future__ import annotations
 from ranking.report.model import as_report
 
 
-def report_charts(obj, *, top: int = 6) -> list[tuple[str, str, object]]:
+def report_charts(obj, *, top: int = 6, bars: int = 15) -> list[tuple[str, str, object]]:
     """(title, caption, figure) of the charts a report can show. A shortlist with its materials attached gives the
     headroom chart and the design energy density of its first ``top`` rows across the range; a comparison gives
     the ceiling against temperature; the captions say exactly what is plotted."""
@@ -32,7 +32,7 @@ def report_charts(obj, *, top: int = 6) -> list[tuple[str, str, object]]:
                         "at the left end, the ratio ceiling / design at the right"
                         + (f", the dashed line the target {fmt_number(target.energy_density_J_per_m3 / 1e6)} J/cm³"
                            if target.energy_density_J_per_m3 else "") + ".",
-                        charts.headroom_chart(rep.raw, ceilings)))
+                        charts.headroom_chart(rep.raw, ceilings, rows=bars)))
             rows = rep.raw["ranked"][:top]
             fig = charts.design_temperature_chart(mats, rep.target, rows)
             if fig.curves:

@@ -56,10 +56,11 @@ def flag_classes(flags: Iterable[str], column: str) -> set[str]:
     return out
 
 
-def evidence(kinds: Iterable[str] = (), flags: Iterable[str] = (), column: str | None = None) -> str | None:
+def evidence(kinds: Iterable[str] = (), flags: Iterable[str] = (), column: str | None = None,
+             extra: Iterable[str] = ()) -> str | None:
     """The one evidence class of a value resting on sources of ``kinds`` and carrying the row's ``flags`` (for
-    ``column``); None when nothing is known of it."""
-    found = {KIND_CLASS.get(k, "assumed") for k in kinds}
+    ``column``) and the classes ``extra`` of the cell itself; None when nothing is known of it."""
+    found = {KIND_CLASS.get(k, "assumed") for k in kinds} | set(extra)
     if column is not None:
         found |= flag_classes(flags, column)
     else:
@@ -86,3 +87,15 @@ def legend_lines(used: Iterable[str]) -> list[str]:
     """``"= published: …"`` lines for the classes ``used``, weakest last (in :data:`ORDER` reversed)."""
     used = set(used)
     return [f"{MARKS[c]} {LEGEND[c]}" for c in reversed(ORDER) if c in used]
+
+
+def with_marks(result: dict) -> dict:
+    """A shortlist result whose ranked rows also carry ``evidence`` (criterion → class) and ``marks`` (criterion →
+    mark), and the legend of the marks under ``marks_legend``: the JSON face of the same rule."""
+    names = [c["name"] for c in result.get("criteria") or []]
+    ranked, used = [], set()
+    for r in result.get("ranked") or []:
+        ev = row_evidence(r, names)
+        used |= {c for c in ev.values() if c}
+        ranked.append({**r, "evidence": ev, "marks": {n: (MARKS[c] if c else "") for n, c in ev.items()}})
+    return {**result, "ranked": ranked, "marks_legend": {MARKS[c]: LEGEND[c] for c in reversed(ORDER) if c in used}}
