@@ -58,3 +58,12 @@ def _means_something(args, extra, cli):
             assert data["values"] and all(v["source"]["key"] for v in data["values"])
         else:
             assert data
+
+
+def test_readme_marks_table_is_the_programs():
+    """The README's table of evidence marks is the one the program prints (ranking.report.marks)."""
+    from ranking.report.marks import LEGEND, MARKS
+
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    rows = dict(re.findall(r"^\| `(.)` \| (.+?) \|$", text, re.M))
+    assert rows == {MARKS[c]: LEGEND[c] for c in MARKS}
