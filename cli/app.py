@@ -35,6 +35,11 @@ class _Group(TyperGroup):
         from typer._click.exceptions import ClickException, UsageError
         from typer.exceptions import Abort
 
+        from cli.output import width
+
+        # help as wide as the terminal (or $COLUMNS, else 100), decided when the command runs
+        extra.setdefault("max_content_width", width())
+        extra.setdefault("terminal_width", width())
         try:
             rv = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
         except UsageError as exc:
@@ -137,17 +142,9 @@ def _version(value: bool) -> None:
         raise typer.Exit()
 
 
-def _help_width() -> dict:
-    """Help text as wide as the terminal (or $COLUMNS, else 100)."""
-    from cli.output import width
-
-    w = width()
-    return {"max_content_width": w, "terminal_width": w}
-
-
 app = typer.Typer(
     cls=_Group, no_args_is_help=True, add_completion=False, pretty_exceptions_enable=False,
-    rich_markup_mode=None, context_settings=_help_width(),
+    rich_markup_mode=None,
     help="Choose capacitor dielectrics from a cited property store: energy-density ceilings at real conditions, "
          "Weibull breakdown, sizing, shortlists and reports. Every value carries its source and conditions.")
 

@@ -98,10 +98,11 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
     from cli.fmt import conditions, display
     from cli.output import esc, say, table
 
-    say(f"[bold]{esc(m.name)}[/]  ({esc(m.key)})")
-    say(esc(f"family {m.family}; {m.response} response; origin {m.origin}" + (f"; {m.form}" if m.form else "")))
+    say(f"[bold]{esc(m.name)}[/]  ({esc(m.key)})", wrap=True)
+    say(esc(f"family {m.family}; {m.response} response; origin {m.origin}" + (f"; {m.form}" if m.form else "")),
+        wrap=True)
     if m.description:
-        say(esc(m.description))
+        say(esc(m.description), wrap=True)
     from materials.properties import PROPERTIES
 
     order = {p: i for i, p in enumerate(PROPERTIES)}
@@ -124,9 +125,9 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
         print_sets(sets)
     say("sources:")
     for k, src in cited.items():
-        say(esc(f"  {k} [{src.kind}]: {src.citation}"))
+        say(esc(f"  {k} [{src.kind}]: {src.citation}"), wrap=True)
     if any(src.kind in FLAG_KINDS for src in cited.values()):
-        say("  ! values resting on recollection or invented sources: check them before relying on them.")
+        say("  ! values resting on recollection or invented sources: check them before relying on them.", wrap=True)
 
 
 def _sets(session, key: str) -> dict:
@@ -168,15 +169,16 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
     table(["key", "kind", "values", "citation"], [[r["key"], r["kind"], r["values"], r["citation"]] for r in rows],
           right={2}, title=f"{len(rows)} sources")
     say("values per source kind: " + ", ".join(f"{k} {counts.get(k, 0)} ({counts.get(k, 0) / total:.0%})"
-                                               for k in SOURCE_KINDS if counts.get(k)) if total else "no values")
+                                               for k in SOURCE_KINDS if counts.get(k)) if total else "no values",
+        wrap=True)
     say(f"published (handbook, standard, paper, web): {published} of {total} values ({share:.0%})")
     if in_use:
         say(f"used by the shortlist for {used} ({in_use['rows']} ranked): {in_use['published']:.0%} published, "
             f"{in_use['lab']:.0%} lab, {in_use['common_practice']:.0%} common-practice, "
-            f"{in_use['assumed_or_recollected']:.0%} assumed or recollected")
+            f"{in_use['assumed_or_recollected']:.0%} assumed or recollected", wrap=True)
     say("kinds: handbook/standard/paper/web = published, cited with edition/table or DOI/URL; common-practice = a "
         "fact of the trade with no single source; recollection = remembered, not checked; lab = your own "
-        "measurements; invented = demo data only.")
+        "measurements; invented = demo data only.", wrap=True)
     _nothing_matched(rows, kind)
 
 

@@ -125,6 +125,16 @@ def grid_lines(columns: list[str], rows: list[list], *, right: set[int] | None =
         moved = [i for i in shown if i in long]
         shown = [i for i in shown if i not in long]
         w = {i: w[i] for i in shown}
+    # still too wide: the other text columns follow, the widest first (numbers and keys stay)
+    while not wide and sum(w.values()) + 2 * (len(shown) - 1) > total:
+        text = [i for i in shown if i not in keys and i not in right]
+        if not text:
+            break
+        i = max(text, key=lambda j: w[j])
+        moved.append(i)
+        shown.remove(i)
+        del w[i]
+    moved.sort()
     legend: dict[str, int] = {}
     if not wide and sum(w.values()) + 2 * (len(shown) - 1) > total:
         # headings no wider than their cells, then the keys cut down to what is left
@@ -143,6 +153,8 @@ def grid_lines(columns: list[str], rows: list[list], *, right: set[int] | None =
                     r[i] = _shorten(r[i], room, legend)
                 excess -= w[i] - room
                 w[i] = max([len(heads[i])] + [len(r[i]) for r in cells])
+    # the last resort before running over: one space between columns
+    gap = "  " if wide or sum(w.values()) + 2 * (len(shown) - 1) <= total else " "
     out = []
     if moved and all(i in keys for i in shown) and len(shown) == 1:
         # the grid would be one column of keys: write "key: text" lines instead
@@ -157,9 +169,9 @@ def grid_lines(columns: list[str], rows: list[list], *, right: set[int] | None =
         return out
     for j, row in enumerate([heads] + cells):
         parts = [(row[i].rjust(w[i]) if i in right else row[i].ljust(w[i])) for i in shown]
-        out.append("  ".join(parts).rstrip())
+        out.append(gap.join(parts).rstrip())
         if j == 0:
-            out.append("  ".join("-" * w[i] for i in shown))
+            out.append(gap.join("-" * w[i] for i in shown))
     if moved:
         import textwrap
 

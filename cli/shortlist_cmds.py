@@ -94,8 +94,9 @@ def shortlist(
         export_result(result, export, force=force, materials=table.materials() if charted else None)
     if json_out:
         from cli.output import print_json
+        from ranking.report.marks import with_marks
 
-        print_json(result)
+        print_json(with_marks(result))
     else:
         render(result, top=top)
         if export:
@@ -125,8 +126,8 @@ def render(result: dict, *, top: int) -> None:
     if t.get("energy_density_J_per_m3"):
         head.append(f"≥ {fmt_number(t['energy_density_J_per_m3'] / 1e6)} J/cm³")
     head.append(f"p_fail {fmt_number(t['failure_probability'])}, margin {fmt_number(t['margin'])}")
-    say(f"[bold]shortlist[/] ({result['method']}): " + esc(", ".join(head)) + (f" — {esc(t['name'])}" if t.get("name")
-                                                                             else ""))
+    say(f"[bold]shortlist[/] ({result['method']}): " + esc(", ".join(head))
+        + (f" — {esc(t['name'])}" if t.get("name") else ""), wrap=True)
     crit = {c["name"]: c for c in result["criteria"]}
     k = result["robustness"]["top_k"]
     per = "" if t.get("energy_J") else "/J"
@@ -153,7 +154,7 @@ def render(result: dict, *, top: int) -> None:
         say(f"0 ranked, {counts['excluded']} excluded")
         _exclusions(result, counts)
         return
-    table(cols, body, right=set(range(2, 3 + len(shown) + 3)), keys={1},
+    table(cols, body, right={0} | set(range(2, 3 + len(shown) + 3)), keys={1},
           title=f"{counts['ranked']} ranked, {counts['excluded']} excluded"
           + (f" (the first {len(body)} shown)" if counts["ranked"] > len(body) else ""),
           legend=[marks_legend(used)])
