@@ -6,13 +6,19 @@ import json
 import math
 import os
 import sys
-from typing import Annotated
+from typing import Annotated, Optional
 
 import typer
 
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print machine-readable JSON (SI units, see README).")]
 StrictOpt = Annotated[bool, typer.Option("--strict", help="Refuse assumptions: where the data lack a Weibull shape "
                                          "or a test area, exclude instead of taking the family's stated range.")]
+ExtrapolateOpt = Annotated[bool, typer.Option("--extrapolate", help="Use a value outside its data's temperatures "
+                                              "or beyond the thickness a law may carry it: held at the end of its "
+                                              "data and flagged, instead of refused.")]
+SectionsOpt = Annotated[Optional[int], typer.Option("--sections", metavar="N", help="Allow a layer thicker than "
+                                                    "can be made in one piece to be built as up to N equal series "
+                                                    "sections (default 1: refused).")]
 # Kept so that older scripts run: assuming the stated ranges is now the default (see --strict).
 DefaultsOpt = Annotated[bool, typer.Option("--assume-defaults", hidden=True, help="No effect: assuming the "
                                            "stated ranges is the default (see --strict).")]

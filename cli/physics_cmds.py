@@ -6,7 +6,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, QuietOpt, StrictOpt, set_quiet
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, QuietOpt, SectionsOpt, StrictOpt, set_quiet
 
 TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
                                                       "repeat for several. Default 25 °C.")]
@@ -15,13 +15,32 @@ AreaOpt = Annotated[Optional[str], typer.Option("--area", help="Capacitor active
 ProbOpt = Annotated[Optional[float], typer.Option("--failure-prob", help="Accepted short-term failure "
                                                   "probability (e.g. 0.01); default: the Weibull scale (63.2 %).")]
 MarginOpt = Annotated[float, typer.Option("--margin", help="Divides the design field (≥ 1).")]
-ExtrapOpt = Annotated[bool, typer.Option("--extrapolate", help="Hold end values outside the data's temperature "
-                                         "range (flagged) instead of refusing.")]
+GapOpt = Annotated[Optional[str], typer.Option("--gap", help="Gap or layer width (µm unless a unit is given): a "
+                                              "gas by its gap law (Paschen / published formula), a liquid by the "
+                                              "stressed-volume law, a solid by the thickness law.")]
+PressureOpt = Annotated[Optional[str], typer.Option("--pressure", help="Gas pressure (kPa unless a unit is given); "
+                                                    "default 101.3 kPa.")]
+
+
+def parse_gap_options(gap, pressure):
+    """(gap m or None, pressure Pa or None) from the --gap and --pressure options."""
+    from materials.errors import InputError
+    from materials.units import parse_option
+
+    g = parse_option(gap, "thickness", name="--gap") if gap else None
+    p = parse_option(pressure, "pressure", name="--pressure") if pressure else None
+    if g is not None and not g > 0:
+        raise InputError("--gap must be positive")
+    if p is not None and not p > 0:
+        raise InputError("--pressure must be positive")
+    return g, p
+
 
 def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
             temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
-            extrapolate: ExtrapOpt = False, strict: StrictOpt = False, assume_defaults: DefaultsOpt = False,
-            json_out: JsonOpt = False, quiet: QuietOpt = False):
+            extrapolate: ExtrapolateOpt = False, gap: GapOpt = None, pressure: PressureOpt = None,
+            strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False,
+            quiet: QuietOpt = False):
     """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
     from db.query import load_materials
     from materials.errors import InputError
@@ -36,10 +55,12 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
         raise InputError("--failure-prob must lie between 0 and 1")
     if margin < 1:
         raise InputError("--margin must be 1 or more")
+    gap_m, pressure_Pa = parse_gap_options(gap, pressure)
     with state.store().session(read_only=True) as s:
         mats = {m.key: m for m in load_materials(s, keys)}
     rows = [ceiling_at(mats[k], temperature_K=t, area_m2=a, failure_probability=failure_prob, margin=margin,
-                       extrapolate=extrapolate, assume_defaults=not strict) for k in keys for t in temps]
+                       extrapolate=extrapolate, assume_defaults=not strict, gap_m=gap_m, pressure_Pa=pressure_Pa)
+            for k in keys for t in temps]
     if json_out:
         from cli.output import print_json
 
@@ -66,6 +87,8 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
     cond.append(f"failure probability {fmt_number(failure_prob)}" if failure_prob is not None
                 else "Weibull scale (63.2 %)")
     cond.append(f"margin {fmt_number(margin)}")
+    if gap_m is not None:
+        cond.append(f"gap {fmt_number(gap_m * 1e6)} µm at {fmt_number((pressure_Pa or 101.3e3) / 1e3)} kPa")
     table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
           right={2, 3, 4, 5, 6}, legend=[marks_legend(used)], caption="design: " + ", ".join(cond))
     for r in rows:
@@ -105,8 +128,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
                                                              "segmented electrodes: scale breakdown to one segment "
                                                              "(cm² unless a unit); p is then per segment.")] = None,
-         strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False,
-         quiet: QuietOpt = False):
+         strict: StrictOpt = False, extrapolate: ExtrapolateOpt = False, sections: SectionsOpt = None,
+         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False, quiet: QuietOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
     from db.query import get_material
     from materials.units import parse_option
@@ -124,7 +147,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         failure_probability=failure_prob, margin=margin,
         ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
-        assume_defaults=not strict,
+        assume_defaults=not strict, strict=strict, extrapolate=extrapolate, max_sections=sections or 1,
         segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None)
     if json_out:
         from cli.output import print_json
@@ -139,7 +162,9 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
     kinds = _source_kinds()
     cls = evidence([kinds.get(k, "assumed") for k in res["sources"]], res.get("flags") or [], "size")
     mk = MARKS[cls] if cls else ""
-    rows = [["thickness", fmt_eng(res["thickness_m"], "m") + mk],
+    rows = [["thickness", fmt_eng(res["thickness_m"], "m") + mk
+             + (f" ({res['sections']} series sections of {fmt_eng(res['layer_thickness_m'], 'm')})"
+                if res["sections"] > 1 else "")],
             ["active area", fmt_eng(res["area_m2"], "m2") + mk],
             ["dielectric volume", fmt_eng(res["volume_m3"], "m3") + mk],
             ["dielectric mass", fmt_eng(res["mass_kg"], "kg") + mk if res["mass_kg"] is not None else "— (no density)"],
@@ -162,5 +187,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
 
 
 def register(app) -> None:
+    from cli import stack_cmds
+
     app.command("ceiling")(ceiling)
     app.command("size")(size)
+    stack_cmds.register(app)

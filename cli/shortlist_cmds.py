@@ -7,7 +7,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, JsonOpt, QuietOpt, StrictOpt, set_quiet
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, QuietOpt, SectionsOpt, StrictOpt, set_quiet
 
 # Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
 EXCLUDED_SHOWN = 40
@@ -50,6 +50,8 @@ def shortlist(
     thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
                                                      "e.g. 2.5,3,4,6um.")] = None,
     strict: StrictOpt = False,
+    extrapolate: ExtrapolateOpt = False,
+    sections: SectionsOpt = None,
     assume_defaults: DefaultsOpt = False,
     draws: Annotated[int, typer.Option("--draws", metavar="N", help="Monte Carlo draws for P(1st) and P(top k) "
                                        "(at least 100).")] = 1000,
@@ -79,7 +81,8 @@ def shortlist(
     t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
-                            families=family, thicknesses=thickness, weights=weights, strict=strict)
+                            families=family, thicknesses=thickness, weights=weights, strict=strict,
+                            extrapolate=extrapolate, max_sections=sections)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.
@@ -92,6 +95,10 @@ def shortlist(
         # Only the HTML report draws charts, which need the materials' records.
         charted = export.suffix.lower() in (".html", ".htm")
         export_result(result, export, force=force, materials=table.materials() if charted else None)
+    if t.stacks:
+        from cli.stack_cmds import shortlist_candidates
+
+        result["stacks"] = shortlist_candidates(t, table)
     if json_out:
         from cli.output import print_json
         from ranking.report.marks import with_marks
@@ -99,6 +106,10 @@ def shortlist(
         print_json(with_marks(result))
     else:
         render(result, top=top)
+        if t.stacks:
+            from cli.stack_cmds import render_candidates
+
+            render_candidates(result["stacks"], voltage_V=t.voltage_V, title="layered candidates (fixed layers)")
         if export:
             from cli.output import say
 

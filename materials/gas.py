@@ -119,3 +119,61 @@ def sf6_breakdown_field(*, pressure_Pa, temperature_K=REFERENCE_TEMPERATURE_K):
     if not (np.all(p > 0) and np.all(t > 0)):
         raise InputError("pressure and temperature must be positive", field="pressure_Pa")
     return _out(SF6_LIMITING_E_OVER_N_V_M2 * p / (BOLTZMANN_J_PER_K * t))
+
+
+# --- choosing the law for a gap -------------------------------------------------------------------------------
+
+#: Laws a gas gap's breakdown may come from (codes in the arrays :func:`gap_breakdown_voltage` returns).
+PASCHEN, PASCHEN_BEYOND, AIR_FORMULA, SF6_STREAMER, NO_LAW, LEFT_OF_ASYMPTOTE = 0, 1, 2, 3, 4, 5
+LAW_NAMES = {PASCHEN: "Paschen", PASCHEN_BEYOND: "Paschen-beyond-fit", AIR_FORMULA: "air-formula",
+             SF6_STREAMER: "SF6-streamer", NO_LAW: "none", LEFT_OF_ASYMPTOTE: "left-of-Paschen-asymptote"}
+#: Laws whose answer is used outside what they were fitted or derived for (flagged wherever they are shown).
+BEYOND_LAWS = (PASCHEN_BEYOND, LEFT_OF_ASYMPTOTE)
+#: Above-Townsend formulas per gas: none, the air engineering formula, the SF6 limiting field.
+NO_FORMULA, AIR, SF6 = 0, 1, 2
+
+#: Lowest E/p of the fits behind the stored Townsend constants: 100 V/(cm·Torr) (Raizer 1991 Table 4.1 gives
+#: 100-800 for air and 100-600 for N2). At larger pd the breakdown E/p falls below it: the streamer range, where
+#: the air formula or the SF6 limit takes over.
+TOWNSEND_MIN_E_OVER_P_V_PER_PA_M = 100.0 / (0.01 * PA_PER_TORR)
+
+
+def gap_breakdown_voltage(gap_m, *, pressure_Pa, temperature_K, a_per_Pa_m, b_V_per_Pa_m, gamma, formula):
+    """Breakdown voltage (V) of a uniform-field gas gap and the law it came from (arrays, codes as above).
+
+    The density enters as the equivalent pressure at 20 °C, ``p·293.15 K/T`` (Paschen's similarity in ``N·d``).
+    Inside the Townsend range of the stored constants (breakdown ``E/p`` at or above
+    :data:`TOWNSEND_MIN_E_OVER_P_V_PER_PA_M`) Paschen's law; above it the air engineering formula
+    (:func:`air_breakdown_voltage`) for air, the limiting field (:func:`sf6_breakdown_field`) for SF6, and
+    otherwise Paschen's law carried beyond its fit (``PASCHEN_BEYOND``, to be flagged). Left of the Paschen
+    asymptote Townsend's criterion cannot be met: the voltage is infinite and the law ``LEFT_OF_ASYMPTOTE`` (to be
+    flagged: gaps of a few µm and less break down by field emission, which Paschen's law does not describe). A gas
+    without Townsend constants takes its formula everywhere; one with neither gets NaN and ``NO_LAW``.
+
+    Args:
+        gap_m: gap (m); pressure_Pa, temperature_K: the gas's state.
+        a_per_Pa_m, b_V_per_Pa_m, gamma: stored Townsend constants (NaN where not stored).
+        formula: per gas, :data:`NO_FORMULA`, :data:`AIR` or :data:`SF6`.
+    """
+    d, p, t = (np.asarray(x, dtype=float) for x in (gap_m, pressure_Pa, temperature_K))
+    a, b, g = (np.asarray(x, dtype=float) for x in (a_per_Pa_m, b_V_per_Pa_m, gamma))
+    f = np.asarray(formula, dtype=np.int64)
+    d, p, t, a, b, g, f = np.broadcast_arrays(d, p, t, a, b, g, f)
+    if not (np.all(d > 0) and np.all(p > 0) and np.all(t > 0)):
+        raise InputError("gap, pressure and temperature must be positive", field="gap_m")
+    p20 = p * REFERENCE_TEMPERATURE_K / t
+    has = np.isfinite(a) & np.isfinite(b) & np.isfinite(g) & (a > 0) & (b > 0) & (g > 0)
+    ones = np.ones_like(d)
+    v_p = np.where(has, paschen_voltage(p20 * d, a_per_Pa_m=np.where(has, a, 1.0), b_V_per_Pa_m=np.where(has, b, 1.0),
+                                        gamma=np.where(has, g, 0.01) * ones), np.nan)
+    with np.errstate(invalid="ignore"):
+        inside = has & (v_p / (p20 * d) >= TOWNSEND_MIN_E_OVER_P_V_PER_PA_M * (1 - 1e-12))
+    # left of the Paschen asymptote there is no breakdown at all: infinite withstand, but still Paschen's range
+    inside |= has & np.isnan(v_p)
+    v_air = air_breakdown_voltage(d, pressure_Pa=p, temperature_K=t)
+    v_sf6 = sf6_breakdown_field(pressure_Pa=p, temperature_K=t) * d
+    v = np.where(inside, np.where(np.isnan(v_p), np.inf, v_p),
+                 np.where(f == AIR, v_air, np.where(f == SF6, v_sf6, v_p)))
+    above = np.where(f == AIR, AIR_FORMULA, np.where(f == SF6, SF6_STREAMER, np.where(has, PASCHEN_BEYOND, NO_LAW)))
+    law = np.where(inside, np.where(np.isnan(v_p), LEFT_OF_ASYMPTOTE, PASCHEN), above)
+    return _out(v), _out(law)

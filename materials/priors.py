@@ -56,6 +56,22 @@ def shape_priors(families) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
             np.array([p.high for p in ps], dtype=float))
 
 
+# --- breakdown below the coldest temperature measured ------------------------------------------------------------
+
+#: The electric strength of solid dielectrics is nearly independent of temperature below a critical temperature and
+#: falls above it (electronic breakdown at low temperature, thermal and electromechanical above): a breakdown value
+#: held at the coldest temperature measured is a lower bound colder still. Used for solids only; a gas's strength
+#: follows its density and a liquid's its state, neither covered by this.
+COLD_HOLD = ("paper-breakdown-critical-temperature",
+             "M. Ieda, 'Dielectric Breakdown Process of Polymers', IEEE Transactions on Electrical Insulation EI-15(3) "
+             "(1980), review of breakdown against temperature (abstract at "
+             "https://scilit.net/publications/bcc9eaed5c5c2ba3f3906a57cc2484b3); the 'characteristic sharp reduction "
+             "in electric strength exhibited by most polymeric materials at a critical temperature Tc', electronic "
+             "breakdown below it, as stated at https://scilit.com/publications/ea41f30dd1f4a3c31f6b812f1fdcdb74 "
+             "(volume and pages from memory, not checked)")
+COLD_HOLD_EXCLUDED = ("gas", "liquid")
+
+
 def sources() -> dict[str, dict]:
     """The priors' and laws' sources, as the shortlist's ``sources`` map shows them."""
     out = {}
@@ -63,6 +79,9 @@ def sources() -> dict[str, dict]:
         out[p.source] = {"kind": "common-practice", "citation": p.citation}
     out[MLCC_THICKNESS_EXPONENT.source] = {"kind": "paper", "citation": MLCC_THICKNESS_EXPONENT.citation}
     out[ZHAO_LIU[0]] = {"kind": "paper", "citation": ZHAO_LIU[1]}
+    out[STRESSED_VOLUME[0]] = {"kind": "common-practice", "citation": STRESSED_VOLUME[1]}
+    out[LIQUID_TEST_GAP.source] = {"kind": "common-practice", "citation": LIQUID_TEST_GAP.citation}
+    out[COLD_HOLD[0]] = {"kind": "paper", "citation": COLD_HOLD[1]}
     return out
 
 
@@ -95,6 +114,9 @@ ZHAO_LIU = ("paper-zhao-liu-2020-thickness",
 LAW_FACTOR = 10.0
 #: Families whose strength is not a solid's: gases and liquids follow gap, pressure and volume laws instead.
 NO_THICKNESS_LAW = ("gas", "liquid")
+#: Families never scaled by electrode area with a Weibull shape: a gas gap's strength is set by gap and pressure
+#: (Paschen's law, :mod:`materials.gas`); its scatter does not grow into a weakest-link area effect.
+NO_AREA_LAW = ("gas",)
 
 
 def weibull_relative_spread(shape):
@@ -108,13 +130,32 @@ def weibull_relative_spread(shape):
         return np.sqrt(np.maximum(g2 - g1 * g1, 0.0)) / g1
 
 
+#: Liquids: breakdown is a weakest-link event in the stressed volume, so at a fixed electrode area it falls with the
+#: gap as ``E ∝ (A·d)^(-1/β)``, i.e. the thickness law with ``n = 1/β``.
+STRESSED_VOLUME = ("common-practice-stressed-liquid-volume",
+                   "Trade knowledge: the breakdown strength of an insulating liquid falls as the stressed liquid "
+                   "volume grows (the 'stressed oil volume' of transformer design); a weakest link in volume gives "
+                   "E2 = E1·(V1/V2)^(1/β), the volume form of the weakest-link scaling of IEEE Std 930 / IEC 62539 "
+                   "(no single published exponent is claimed; β is the liquid's stated Weibull shape or the stated "
+                   "fluid range)")
+#: The gap of a liquid's breakdown figure that states none: the quality test of IEC 60156 (2.5 mm between
+#: spherical-cap electrodes); ASTM D1816 uses 1 or 2 mm.
+LIQUID_TEST_GAP = Prior(2.5e-3, 1e-3, 2.5e-3, "common-practice-liquid-test-gap",
+                        "Trade knowledge: insulating-liquid breakdown figures come from the quality tests of IEC 60156 "
+                        "(2.5 mm gap) or ASTM D1816 (1 or 2 mm gap); a figure that states no gap is taken at 2.5 mm "
+                        "(assumed, not a measurement)")
+
+
 def thickness_exponents(families, shapes) -> tuple[np.ndarray, list[str]]:
     """Per material, the exponent n of the thickness law (NaN: no law) and the source key it rests on."""
     n = np.asarray(weibull_relative_spread(shapes), dtype=float).copy()
     src = [ZHAO_LIU[0]] * n.size
+    b = np.broadcast_to(np.asarray(shapes, dtype=float), n.shape)
     for i, f in enumerate(families):
         if f == "ceramic-class-2":
             n[i], src[i] = MLCC_THICKNESS_EXPONENT.typical, MLCC_THICKNESS_EXPONENT.source
+        elif f == "liquid":
+            n[i], src[i] = 1.0 / b[i], STRESSED_VOLUME[0]
         elif f in NO_THICKNESS_LAW:
             n[i], src[i] = np.nan, ""
     return n, src

@@ -37,7 +37,7 @@ def fmt_field(e_V_per_m: float) -> str:
 def outside_data_message(prop: str, lo, hi, x, what=fmt_temperature) -> str:
     """The words for a value asked outside the conditions its data cover."""
     return (f"{prop} is known only over {what(lo)}…{what(hi)}; {what(x)} is outside the data "
-            "(ask for extrapolation to hold the end value)")
+            "(--extrapolate holds the end value, flagged)")
 
 
 # --- column-wise reading ------------------------------------------------------------------------------------

@@ -37,6 +37,7 @@ SI_UNITS = {
     "V/s": "volt / second",
     "1/(Pa m)": "1 / pascal / meter",
     "V/(Pa m)": "volt / pascal / meter",
+    "Pa": "pascal",
 }
 
 # Typed spellings rewritten to pint's before any lookup, in this order. tests/test_units.py converts every form
@@ -221,6 +222,7 @@ CLI_DEFAULTS = {
     "frequency": ("Hz", "Hz"),
     "current": ("A", "A"),
     "ramp": ("V/s", "V/s"),
+    "pressure": ("kPa", "Pa"),
 }
 
 

@@ -52,30 +52,45 @@ def _one(material: MaterialData, temperature_K: float, assume_defaults: bool):
     return worst_inputs(r, tmin_K=temperature_K, tmax_K=temperature_K, assume_defaults=assume_defaults)
 
 
+def check_inputs(inp, i: int, *, key: str, temperature_K: float, extrapolate: bool) -> None:
+    """Refuse material ``i`` of the engine's inputs without a permittivity or a breakdown field, or with one (or its
+    loop) held outside its temperatures (unless ``extrapolate``; breakdown held below its coldest point is a lower
+    bound and passes)."""
+    from materials.lookup import outside_data_message
+
+    for prop, has, lk, c in (("relative_permittivity", inp.eps_has, inp.eps_g, inp.c_eps),
+                             ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
+        if not has[i]:
+            raise DataError(f"{key} has no {prop}")
+        carried = prop == "breakdown_field" and inp.cold[c[i]]   # held below the coldest point: a lower bound
+        if lk.extrapolated[c[i]] and not extrapolate and not carried:
+            raise DataError(f"{key}: " + outside_data_message(prop, lk.lo_x[c[i]], lk.hi_x[c[i]], temperature_K))
+    if inp.loop_out[i] and not extrapolate:
+        raise DataError(f"{key}: " + outside_data_message("loop energy", inp.loop_lo[i], inp.loop_hi[i],
+                                                          temperature_K))
+
+
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,
                failure_probability: float | None = None, margin: float = 1.0, extrapolate: bool = False,
-               assume_defaults: bool = False) -> Ceiling:
+               assume_defaults: bool = False, gap_m: float | None = None,
+               pressure_Pa: float | None = None) -> Ceiling:
     """The ceiling and design energy density of ``material`` at ``temperature_K``, from the evaluation engine.
 
     With no ``failure_probability`` the design field is the Weibull scale at the part's area (63.2 % failure),
-    divided by ``margin``. With no ``area_m2`` no area scaling is done (the test coupon's area is assumed).
+    divided by ``margin``. With no ``area_m2`` no area scaling is done (the test coupon's area is assumed); a gas is
+    never area-scaled. With ``gap_m`` the breakdown is that of a layer or gap of that width: a gas's from its gap law
+    at ``pressure_Pa`` (:mod:`ranking.gaps`), a liquid's by the stressed-volume law, a solid's by the thickness law.
     Raises DataError naming a missing property or a temperature outside the data.
     """
     import math
 
     from materials.energy import linear_energy_density
-    from materials.lookup import outside_data_message
     from materials.sizing import design_field
     from ranking.engine import BIAS, LOOP, METHOD_NAMES, energy_density
     from ranking.reasons import words
 
     inp = _one(material, temperature_K, assume_defaults)
-    for prop, has, lk, c in (("relative_permittivity", inp.eps_has, inp.eps_g, inp.c_eps),
-                             ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
-        if not has[0]:
-            raise DataError(f"{material.key} has no {prop}")
-        if lk.extrapolated[c[0]] and not extrapolate:
-            raise DataError(outside_data_message(prop, lk.lo_x[c[0]], lk.hi_x[c[0]], temperature_K))
+    check_inputs(inp, 0, key=material.key, temperature_K=temperature_K, extrapolate=extrapolate)
     eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
     kind = int(inp.kind[0])
@@ -87,6 +102,19 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
             notes.append(words("loop-top", loop_V_per_m=top, field_V_per_m=ebd))
     else:
         ceiling = float(linear_energy_density(eps, ebd))
+    gas = bool(inp.no_area_law[0])
+    if gap_m is not None:
+        gap_notes, ebd, fixed_design = _at_gap(inp, material, temperature_K=temperature_K, area_m2=area_m2,
+                                               failure_probability=failure_probability, margin=margin,
+                                               gap_m=gap_m, pressure_Pa=pressure_Pa, assume_defaults=assume_defaults,
+                                               extrapolate=extrapolate)
+        notes += gap_notes
+        ceiling = float(linear_energy_density(eps, ebd)) if kind not in (BIAS, LOOP) else \
+            float(energy_density(inp, [0], [min(ebd, top)])[0])
+    elif gas:
+        notes.append(words("gas-stored-gap", thickness_m=float(inp.test_thickness[0])))
+    if gas and area_m2 is not None:
+        notes.append(words("gas-no-area"))
     shape = float(inp.beta[0]) if inp.shape_found[0] else None
     test_area = float(inp.test_area[0]) if inp.area_found[0] else None
     need_scaling = area_m2 is not None or failure_probability is not None
@@ -95,16 +123,18 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
             raise DataError(f"{material.key}: " + words("shape-missing"))
         shape = float(inp.beta[0])
         notes.append(words("assumed-shape", shape=shape, family=material.family))
-    if area_m2 is not None and test_area is None:
+    if area_m2 is not None and test_area is None and not gas:
         if not assume_defaults:
             raise DataError(f"{material.key}: " + words("test-area-missing"))
         test_area = float(inp.test_area[0])
         notes.append(words("assumed-test-area", area_m2=test_area))
-    if need_scaling:
+    if gap_m is not None:
+        e_design = fixed_design
+    elif need_scaling:
         # Without a part area there is no area scaling: any equal pair of areas gives the ratio 1.
         ref_area = test_area if test_area is not None else 1.0
         e_design = float(design_field(scale_V_per_m=ebd, shape=shape, test_area_m2=ref_area,
-                                      area_m2=area_m2 if area_m2 is not None else ref_area,
+                                      area_m2=area_m2 if area_m2 is not None and not gas else ref_area,
                                       failure_probability=failure_probability if failure_probability is not None
                                       else -math.expm1(-1.0), margin=margin))
     else:
@@ -118,7 +148,14 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
             inp.ebd_g.used1[inp.c_ebd[0]]]
     if inp.shape_found[0]:
         rows += [inp.sh.used0[0], inp.sh.used1[0]]
+    rows += getattr(inp, "gap_rows", [])
     srcs = list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0))
+    srcs += [k for k in getattr(inp, "gap_sources", []) if k not in srcs]
+    if inp.held_cold[0]:
+        from materials.priors import COLD_HOLD
+
+        notes.append(words("held-cold", coldest_K=float(inp.ebd_g.lo_x[inp.c_ebd[0]]), source=COLD_HOLD[0]))
+        srcs.append(COLD_HOLD[0])
     if method == "linear-upper-bound":
         notes.append(words("linear-upper-bound"))
     if method == "loop":
@@ -126,4 +163,66 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     return Ceiling(key=material.key, temperature_K=temperature_K, relative_permittivity=eps,
                    breakdown_field_V_per_m=ebd, ceiling_J_per_m3=ceiling, design_field_V_per_m=e_design,
                    design_J_per_m3=u_design, weibull_shape=shape, test_area_m2=test_area,
-                   extrapolated=bool(inp.extrapolated[0]), sources=srcs, notes=notes, method=method)
+                   extrapolated=bool(inp.extrapolated[0] or inp.held_cold[0]), sources=srcs, notes=notes,
+                   method=method)
+
+
+def _at_gap(inp, material, *, temperature_K, area_m2, failure_probability, margin, gap_m, pressure_Pa,
+            assume_defaults, extrapolate):
+    """(notes, breakdown at the gap, design field at the gap) of material 0 of ``inp``, by the engine's laws."""
+    import math
+
+    from ranking.engine import evaluate
+    from ranking.explain import law_notes
+    from ranking.target import Target
+
+    fixed = apply_gap_laws(inp, [gap_m], pressure_Pa=pressure_Pa, temperature_K=temperature_K)
+    target = Target(voltage_V=1.0, tmin_K=temperature_K, tmax_K=temperature_K, margin=margin, area_m2=area_m2,
+                    failure_probability=failure_probability if failure_probability is not None
+                    else -math.expm1(-1.0), assume_defaults=assume_defaults, extrapolate=extrapolate)
+    cols = evaluate(inp, target, thickness_m=gap_m)
+    refuse_outside(cols, [material.key])
+    return fixed["notes"][0] + law_notes(cols, 0), float(cols.parts["scale_d"][0]), float(cols.parts["ed"][0])
+
+
+def refuse_outside(cols, keys) -> None:
+    """Refuse the first candidate the engine found outside its data (a temperature, or a layer beyond what a law may
+    carry) when the target does not extrapolate, naming it and why."""
+    from ranking.explain import outside_notes
+
+    for i in map(int, (cols.fails["outside-data"]).nonzero()[0][:1]):
+        raise DataError(f"{keys[i]}: " + "; ".join(outside_notes(cols, i)) + " (ask for extrapolation to use it)")
+
+
+def apply_gap_laws(inp, gaps_m, *, pressure_Pa, temperature_K) -> dict:
+    """Apply :func:`ranking.gaps.apply_gaps` and say, per material, which gas law gave its breakdown at its gap (the
+    engine's :func:`ranking.explain.law_notes` say how a liquid or solid was carried there)."""
+    import numpy as np
+
+    from materials.priors import LIQUID_TEST_GAP
+    from ranking.gaps import FORMULA_SOURCES, apply_gaps, law_name
+    from ranking.reasons import words
+
+    g = apply_gaps(inp, gaps_m, pressure_Pa=pressure_Pa, temperature_K=temperature_K)
+    gaps = np.broadcast_to(np.asarray(gaps_m, dtype=float), (inp.reader.m,))
+    notes, sources, rows = [], [], []
+    for i in range(inp.reader.m):
+        n, s = [], []
+        code = int(g["law"][i])
+        if code >= 0:
+            n.append(words("gas-gap-law", law=law_name(code), gap_m=float(gaps[i]),
+                           field_V_per_m=float(inp.ebd_v[i])))
+            if code in FORMULA_SOURCES:
+                s.append(FORMULA_SOURCES[code][0])
+        elif g["gas"][i]:
+            n.append(words("gas-no-law"))
+        if g["gap_assumed"][i]:
+            s.append(LIQUID_TEST_GAP.source)
+        if g["liquid"][i] and inp.has_law[i]:
+            s.append(inp.law_source[i])
+        notes.append(n)
+        sources.append(s)
+        rows.append(g["rows"][i])
+    inp.parts["gap_rows"] = rows[0] if inp.reader.m == 1 else []
+    inp.parts["gap_sources"] = sources[0] if inp.reader.m == 1 else []
+    return {**g, "notes": notes, "sources": sources, "rows": rows}

@@ -84,9 +84,48 @@ def small_signal_permittivity(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
     return np.where(b, inp.curves.permittivity(np.where(b, idx, 0), e_V_per_m), out) if b.any() else out
 
 
+#: Most series sections a target may allow for a layer thicker than can be made in one piece.
+MAX_SECTIONS = 64
+
+
 def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
     """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
-    its design field), a self-consistent size for the target energy, or the design field alone."""
+    its design field), a self-consistent size for the target energy, or the design field alone.
+
+    A material that can only be made up to a thickest single layer ``d_max`` (anodic oxides by their forming
+    voltage, MLCC layers, film gauges) and whose design needs more is either refused ("thicker-than-made") or, where
+    the target allows ``max_sections`` > 1, built as ``n`` equal sections in series: each of ``d/n`` at ``V/n``, so
+    the field and the energy density are those of one layer of the total thickness, while the weakest link spans
+    ``n`` times the area and the thickness law applies at the section thickness. ``n`` is the smallest count whose
+    sections are made, found by re-solving the affected rows until it holds.
+    """
+    m = inp.reader.m
+    n_sec = np.ones(m)
+    des = _design_once(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live, n_sec=n_sec)
+    d_max = inp.d_max
+    has_dmax = np.isfinite(d_max)
+    allowed = int(min(max(int(getattr(target, "max_sections", 1) or 1), 1), MAX_SECTIONS))
+    if thickness_m is None and allowed > 1 and has_dmax.any():
+        for _ in range(8):
+            with np.errstate(invalid="ignore"):
+                need = np.where(has_dmax & np.isfinite(des["d"]), np.ceil(des["d"] / d_max * (1 - TOL)), 1.0)
+            grow = live & (need > n_sec) & (need <= allowed)
+            if not grow.any():
+                break
+            n_sec = np.where(grow, need, n_sec)
+            new = _design_once(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg,
+                               live=live & grow, n_sec=n_sec)
+            des = {k: (np.where(grow, new[k], v) if isinstance(v, np.ndarray) and v.shape == (m,) else v)
+                   for k, v in des.items()}
+    with np.errstate(invalid="ignore"):
+        layer = des["d"] / n_sec
+        des["thicker-than-made"] = has_dmax & (layer > d_max * (1 + TOL))
+    des.update(sections=n_sec, layer=layer)
+    return des
+
+
+def _design_once(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live, n_sec) -> dict:
+    """:func:`_design` for a given number of series sections per row."""
     m = inp.reader.m
     everyone = inp.everyone
     no = np.zeros(m, dtype=bool)
@@ -102,6 +141,9 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     log_v = np.log(V)
     with np.errstate(all="ignore"):
         log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
+        # n series sections: the weakest link spans n·A, and the thickness law reads the section, d/n.
+        log_n = np.log(n_sec)
+        log_k = log_k - log_n / beta + nn * log_n
 
         def e_design(area, d):
             return np.exp(log_k - np.log(np.where(has_seg, seg, area)) / beta - nn * (np.log(d) - log_d0))
@@ -112,7 +154,7 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
             return np.exp((log_v - log_k + np.log(link) / beta - nn * log_d0) / (1.0 - nn))
 
         if thickness_m is not None:
-            d = np.full(m, float(thickness_m))
+            d = np.broadcast_to(np.asarray(thickness_m, dtype=float), (m,)).copy()
             out["thinner-than-made"] = has_dmin & (d < d_min * (1 - TOL))
             e_op = V / d
             u_op = energy_density(inp, everyone, e_op)
@@ -151,9 +193,12 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
             ed = e_design(a_ref, d)
             e_op = V / d
             u_op = energy_density(inp, everyone, e_op)
+        # log_k_d: the design constant of the whole part (E_d = exp(log_k_d − ln A/β)); scale_d: the Weibull scale
+        # carried to the layer (the section) thickness.
         shift = nn * (np.log(d) - log_d0)
+        scale_d = inp.ebd_v * np.exp(-(shift - nn * log_n))
     out.update(d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, its=its, log_k=log_k, log_k_d=log_k - shift,
-               scale_d=inp.ebd_v * np.exp(-shift))
+               scale_d=scale_d)
     return out
 
 

@@ -29,7 +29,8 @@ import numpy as np
 
 from materials.energy import EPSILON_0, CurveSet
 from materials.reading import CONFIDENCE, REFERENCE_TEMPERATURE_K, Lookup, Reader, bias_curves
-from materials.priors import LAW_FACTOR, TEST_AREA, shape_priors, thickness_exponents
+from materials.priors import (COLD_HOLD_EXCLUDED, LAW_FACTOR, LIQUID_TEST_GAP, NO_AREA_LAW, TEST_AREA, shape_priors,
+                              thickness_exponents)
 from materials.sizing import failure_probability
 from materials.table import ValueTable
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
@@ -87,6 +88,12 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
 
     eps_g = r.lookup("relative_permittivity", gm, gt)
     ebd_g = r.lookup("breakdown_field", gm, gt)
+    # Breakdown below the coldest temperature measured: held at its coldest value, which the fall of breakdown
+    # strength with rising temperature makes a lower bound (materials.priors.COLD_HOLD); any other value outside its
+    # data is an extrapolation.
+    solid = ~np.isin(np.asarray(t.families, dtype=object), COLD_HOLD_EXCLUDED)
+    with np.errstate(invalid="ignore"):
+        cold = ebd_g.extrapolated & (gt < ebd_g.lo_x) & solid[gm]
     grid_t = grid(gt, np.nan)
     i_eps = np.argmin(grid(eps_g.value, np.inf), axis=1)
     i_ebd = np.argmin(grid(ebd_g.value, np.inf), axis=1)
@@ -95,22 +102,36 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     sh = r.at("weibull_shape", t_ebd)
     prior_typ, prior_lo, prior_hi = shape_priors(t.families)
     law_n, law_src = thickness_exponents(t.families, np.where(sh.present, sh.value, prior_typ))
+    # a thickness exponent stored for the material (with its source) comes before the family's law
+    tx = r.at("thickness_exponent")
+    if tx.present.any():
+        law_n = np.where(tx.present, tx.value, law_n)
+        law_src = np.where(tx.present, np.array([t.source_keys[t.source[int(u)]] if u >= 0 else "" for u in tx.used0],
+                                                dtype=object), np.asarray(law_src, dtype=object))
     u0, u1 = ebd_g.used0[c_ebd], ebd_g.used1[c_ebd]
     d0 = np.fmax(np.where(u0 >= 0, t.thickness_m[np.maximum(u0, 0)], np.nan),
                  np.where(u1 >= 0, t.thickness_m[np.maximum(u1, 0)], np.nan))
+    # A liquid's figure without its gap is taken at the quality-test gap (assumed), so the stressed-volume law and
+    # its flags apply at any other gap.
+    gap_assumed = np.array([f == "liquid" for f in t.families], dtype=bool) & ~np.isfinite(d0)
+    d0 = np.where(gap_assumed, LIQUID_TEST_GAP.typical, d0)
     a0 = np.where(u0 >= 0, t.area_m2[np.maximum(u0, 0)], np.nan)
     a1 = np.where(u1 >= 0, t.area_m2[np.maximum(u1, 0)], np.nan)
     test_area = np.where(np.isfinite(a0) & (a0 != 0), a0, np.where(np.isfinite(a1) & (a1 != 0), a1, np.nan))
     area_found = np.isfinite(test_area)
     thick, dens, heal = r.at("min_thickness"), r.at("density"), r.at("self_healing")
+    thickmax = r.at("max_thickness")
     ls = r.lookup("loss_tangent", gm, gt, frequency_Hz=frequency_Hz)
     c_loss = cell[everyone, np.argmax(grid(ls.value, -np.inf), axis=1)]
     # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
     eps_at_worst = _Pick(eps_g, c_eps)
     bias = bias_curves(r, t_eps, eps_at_worst)
-    loops = bias_curves(r, t_eps, _Zero(m), prop="recoverable_energy_density", scale=False)
+    t_loop, loop_lo, loop_hi = _worst_loop_temperature(r, tmin_K, tmax_K)
+    loops = bias_curves(r, t_loop, _Zero(m), prop="recoverable_energy_density", scale=False)
     nonlinear = np.array([x != "linear" for x in t.responses], dtype=bool)
     kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loops.has, LOOP, UPPER_BOUND), LINEAR))
+    tol = 1e-6
+    loop_out = (kind == LOOP) & np.isfinite(loop_lo) & ((tmin_K < loop_lo - tol) | (tmax_K > loop_hi + tol))
     # Capacitance drift over temperature: an εr curve, else stated capacitance changes inside the range.
     small = r.rows_of("relative_permittivity")
     small = small[np.isnan(t.field_V_per_m[small]) | (t.field_V_per_m[small] == 0)]
@@ -128,8 +149,10 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         c_ebd=c_ebd, t_eps=t_eps, t_ebd=t_ebd, eps_v=eps_g.value[c_eps], eps_lo=eps_g.low[c_eps],
         eps_hi=eps_g.high[c_eps], ebd_v=ebd_g.value[c_ebd], ebd_lo=ebd_g.low[c_ebd], ebd_hi=ebd_g.high[c_ebd],
         eps_has=r.curve("relative_permittivity").has, ebd_has=r.curve("breakdown_field").has,
-        extrapolated=np.bincount(gm[eps_g.extrapolated | ebd_g.extrapolated], minlength=m) > 0, test_thickness=d0,
-        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0),
+        extrapolated=(np.bincount(gm[eps_g.extrapolated | (ebd_g.extrapolated & ~cold)], minlength=m) > 0)
+        | loop_out, loop_out=loop_out, t_loop=t_loop, loop_lo=loop_lo, loop_hi=loop_hi,
+        held_cold=np.bincount(gm[cold], minlength=m) > 0, cold=cold, test_thickness=d0,
+        law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0), gap_assumed=gap_assumed,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
@@ -137,6 +160,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         test_area_lo=np.where(area_found, test_area, TEST_AREA.low),
         test_area_hi=np.where(area_found, test_area, TEST_AREA.high),
         thick=thick, d_min=np.where(thick.present, thick.value, np.nan),
+        thickmax=thickmax, d_max=np.where(thickmax.present, thickmax.value, np.nan),
         dens=dens, density=np.where(dens.present, dens.value, np.nan),
         heal=heal, heals=heal.present & (heal.value >= 0.5),
         rated={p: r.at(p) for p in ("max_temperature", "min_temperature")},
@@ -145,8 +169,44 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         loop_field=np.where(loops.has, loops.fields[everyone, np.maximum(loops.n - 1, 0)], np.nan),
         loop_value=np.where(loops.has, loops.eps[everyone, np.maximum(loops.n - 1, 0)], np.nan), kind=kind,
         n_eps_temps=n_eps_temps, ref=ref, d_t_eps=d_t_eps, cc_rows=cc, d_t_cc=d_t_cc,
-        assume_defaults=assume_defaults, frequency_Hz=frequency_Hz)
+        assume_defaults=assume_defaults, frequency_Hz=frequency_Hz,
+        no_area_law=np.array([f in NO_AREA_LAW for f in t.families], dtype=bool))
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
+
+
+def _worst_loop_temperature(r: Reader, tmin_K: float, tmax_K: float):
+    """Per material, the temperature of the loop data to use over ``tmin_K…tmax_K`` and the span of temperatures
+    its loops state (NaN where none is stated).
+
+    Loops measured at several temperatures: the weakest of those inside the range — the lowest recoverable energy
+    per squared field at its largest field, ``u_max/E_max²`` — else the stated temperature nearest the range."""
+    t, m = r.t, r.m
+    code = t.code("recoverable_energy_density")
+    t_loop, lo, hi = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
+    if code < 0:
+        return t_loop, lo, hi
+    rows = np.flatnonzero(r.active & (t.prop == code) & np.isfinite(t.field_V_per_m) & (t.field_V_per_m > 0)
+                          & np.isfinite(t.temperature_K))
+    if not rows.size:
+        return t_loop, lo, hi
+    rm, rt, e, u = r.mat[rows], t.temperature_K[rows], t.field_V_per_m[rows], t.value[rows]
+    np.fmin.at(lo, rm, rt)
+    np.fmax.at(hi, rm, rt)
+    # the largest field of each (material, temperature), and its energy
+    o = np.lexsort((e, rt, rm))
+    rm, rt, e, u = rm[o], rt[o], e[o], u[o]
+    last = np.ones(rm.size, dtype=bool)
+    last[:-1] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])
+    rm, rt, metric = rm[last], rt[last], u[last] / (e[last] * e[last])
+    tol = 1e-6
+    inside = (rt >= tmin_K - tol) & (rt <= tmax_K + tol)
+    gap = np.where(inside, 0.0, np.minimum(np.abs(rt - tmin_K), np.abs(rt - tmax_K)))
+    # inside the range the weakest loop first; else the nearest temperature
+    o = np.lexsort((rt, np.where(inside, metric, 0.0), gap, rm))
+    first = np.ones(o.size, dtype=bool)
+    first[1:] = rm[o][1:] != rm[o][:-1]
+    t_loop[rm[o][first]] = rt[o][first]
+    return t_loop, lo, hi
 
 
 class _Zero:
@@ -188,9 +248,9 @@ STAGES = (
     ("test-area-missing",),
     ("value-invalid",),
     ("shape-too-low",),
-    ("thinner-than-made",),
+    ("thinner-than-made", "thicker-than-made"),
     ("over-design-field", "no-size", "area-impractical", "above-loop"),
-    ("strict-outside-data",),
+    ("outside-data",),
     ("energy-short", "loss-over", "loss-missing"),
 )
 
@@ -210,8 +270,9 @@ class Columns:
         return self.ok.size
 
 
-def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = None) -> Columns:
-    """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`)."""
+def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns:
+    """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`); ``thickness_m``
+    fixes the layer: one thickness for all, or one per material (a stack's layers)."""
     inp = table if isinstance(table, Inputs) else worst_inputs(
         table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
         assume_defaults=target.assume_defaults)
@@ -237,24 +298,33 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
                                & ~(density <= 0) & np.isfinite(eps_v) & np.isfinite(ebd_v))
     seg = np.where(inp.heals, float(target.segment_area_m2), np.nan) if target.segment_area_m2 else np.full(m, np.nan)
     has_seg, has_dmin = np.isfinite(seg), np.isfinite(d_min)
+    # The weakest-link area of each design: a segment, the test area itself for a gas (never area-scaled), else the
+    # part's area (NaN here).
+    def links(a_test):
+        return np.where(has_seg, seg, np.where(inp.no_area_law, a_test, np.nan))
+
+    link_fixed = links(test_area)
     energy_J = target.energy_J
     sizing = thickness_m is None and energy_J is not None
     has_law = inp.has_law
     beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
-    fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~has_seg
+    fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~np.isfinite(link_fixed)
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
-    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live)
+    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=link_fixed, live=live)
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
     scale_d = des["scale_d"]
-    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical"):
+    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical", "thicker-than-made"):
         fails[code] = des[code]
+    sections, layer_d = des["sections"], des["layer"]
     with np.errstate(invalid="ignore"):
         fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
         d0 = inp.test_thickness
         factor = np.where(has_law, LAW_FACTOR, THICKNESS_FACTOR)
-        thick_out = np.isfinite(d0) & ((d > factor * d0) | (d < d0 / factor))
-        scaled = has_law & (np.abs(np.log(d / d0)) > 1e-6)
-    fails["strict-outside-data"] = (inp.extrapolated | thick_out) & bool(getattr(target, "strict", False))
+        thick_out = np.isfinite(d0) & ((layer_d > factor * d0) | (layer_d < d0 / factor))
+        scaled = has_law & (np.abs(np.log(layer_d / d0)) > 1e-6)
+    # Outside the temperatures of its data, or beyond the thickness a law may carry it, a value is refused unless
+    # the target extrapolates (then it is used, held at the end of its data, and flagged).
+    fails["outside-data"] = (inp.extrapolated | thick_out) & (not getattr(target, "extrapolate", False))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
     assumed = ~inp.shape_found | ~inp.area_found
@@ -262,7 +332,8 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     if assumed.any():
         for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
             end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
-                          test_area=np.where(assumed, a, test_area), seg=seg, live=live & assumed & (b > 1))
+                          test_area=np.where(assumed, a, test_area), seg=links(np.where(assumed, a, test_area)),
+                          live=live & assumed & (b > 1))
             u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
     with np.errstate(all="ignore"):
         fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
@@ -306,7 +377,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
         out.values["confidence"] = _confidence(inp)
         for name in ("drift", "healing", "confidence"):
             out.low[name] = out.high[name] = out.values[name]
-        link = np.where(has_seg, seg, area)
+        link = np.where(inp.no_area_law & ~has_seg, link_fixed, np.where(has_seg, seg, area) * sections)
         fail = failure_probability(e_op, scale_V_per_m=scale_d, shape=beta, test_area_m2=test_area, area_m2=link)
         at_min = has_dmin & (d <= d_min * (1 + TOL)) & (thickness_m is None)
     bad = np.zeros(m, dtype=bool)
@@ -317,7 +388,7 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m: float | None = 
     out.parts = dict(inputs=inp, target=target, thick_out=thick_out, scaled=scaled, scale_d=scale_d,
                      log_k_d=des["log_k_d"], thickness_m=thickness_m, seg=seg,
                      has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
-                     fail=fail, iterations=its, log_k=log_k)
+                     fail=fail, iterations=its, log_k=log_k, sections=sections, layer=layer_d)
     return out
 
 

@@ -48,8 +48,12 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
         return code, {"shape": f(inp.beta), "source": _source_key(t, inp.sh.used0[i])}
     if code == "no-size":
         return code, {"energy_J": target.energy_J, "voltage_V": target.voltage_V}
-    if code == "strict-outside-data":
-        return code, {"notes": "; ".join(assumption_notes(cols, i))}
+    if code == "outside-data":
+        return code, {"notes": "; ".join(outside_notes(cols, i))}
+    if code == "thicker-than-made":
+        return code, {"thickness_m": f(P["d"]), "max_thickness_m": f(inp.d_max),
+                      "source": _source_key(t, inp.thickmax.used0[i]), "sections": -(-f(P["d"]) // f(inp.d_max)),
+                      "allowed": 1 if P["thickness_m"] is not None else int(getattr(target, "max_sections", 1) or 1)}
     if code == "above-loop":
         return code, {"field_V_per_m": f(P["e_op"]), "loop_V_per_m": f(inp.loop_field)}
     if code == "area-impractical":
@@ -101,26 +105,81 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
                                  "design_V_per_m": float(P["ed"][i])}
 
 
-def assumption_notes(cols: Columns, i: int) -> list[str]:
-    """What candidate ``i``'s numbers assume: values held outside their data, an assumed Weibull shape or test area
-    (with the stated range the Monte Carlo draws over)."""
+def outside_notes(cols: Columns, i: int) -> list[str]:
+    """Where candidate ``i`` uses a value outside its data: temperatures beyond the measured ones, or a layer
+    thickness beyond what a thickness law may carry."""
     inp = cols.parts["inputs"]
     out = []
     if inp.extrapolated[i]:
-        out.append(words("extrapolated"))
-    if cols.parts["scaled"][i] and not cols.parts["thick_out"][i]:
-        out.append(words("thickness-scaled", thickness_m=float(cols.parts["d"][i]),
-                         test_thickness_m=float(inp.test_thickness[i]), n=float(inp.law_n[i]),
-                         source=inp.law_source[i]))
-    if cols.parts["thick_out"][i]:
-        out.append(words("thickness-outside", thickness_m=float(cols.parts["d"][i]),
-                         test_thickness_m=float(inp.test_thickness[i]),
-                         factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR))
+        cells = np.arange(int(inp.g_start[i]), int(inp.g_start[i + 1]))
+        for prop, lk, mask in (("permittivity", inp.eps_g, inp.eps_g.extrapolated[cells]),
+                               ("breakdown", inp.ebd_g, inp.ebd_g.extrapolated[cells] & ~inp.cold[cells])):
+            if mask.any():
+                c = cells[mask]
+                at = inp.gt[c]
+                far = c[np.argmax(np.maximum(lk.lo_x[c] - at, at - lk.hi_x[c]))]
+                out.append(words("extrapolated", prop=prop, lo_K=float(lk.lo_x[far]), hi_K=float(lk.hi_x[far]),
+                                 at_K=float(inp.gt[far])))
+    if inp.loop_out[i]:
+        at = inp.tmin_K if inp.tmin_K < inp.loop_lo[i] else inp.tmax_K
+        out.append(words("extrapolated", prop="loop energy", lo_K=float(inp.loop_lo[i]), hi_K=float(inp.loop_hi[i]),
+                         at_K=float(at)))
+    out.extend(_thickness_outside(cols, i))
+    return out
+
+
+def assumption_notes(cols: Columns, i: int) -> list[str]:
+    """What candidate ``i``'s numbers assume or how they were carried: series sections, a thickness law, values
+    used outside their data, an assumed Weibull shape or test area (with the stated range the Monte Carlo draws
+    over)."""
+    inp, P = cols.parts["inputs"], cols.parts
+    out = []
+    if P["sections"][i] > 1:
+        out.append(words("sections", sections=float(P["sections"][i]), layer_m=float(P["layer"][i]),
+                         max_thickness_m=float(inp.d_max[i]),
+                         source=_source_key(inp.reader.t, inp.thickmax.used0[i])))
+    out.extend(_gap_assumed(cols, i) + _thickness_scaled(cols, i))
+    out.extend(outside_notes(cols, i))
+    if inp.held_cold[i]:
+        from materials.priors import COLD_HOLD
+
+        lk, cells = inp.ebd_g, range(int(inp.g_start[i]), int(inp.g_start[i + 1]))
+        coldest = min((float(lk.lo_x[c]) for c in cells if np.isfinite(lk.lo_x[c])), default=float("nan"))
+        out.append(words("held-cold", coldest_K=coldest, source=COLD_HOLD[0]))
     if not inp.shape_found[i]:
         out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
     if not inp.area_found[i]:
         out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
     return out
+
+
+def law_notes(cols: Columns, i: int) -> list[str]:
+    """How candidate ``i``'s breakdown was carried to its layer: an assumed liquid test gap, the thickness (or
+    stressed-volume) law, or a layer beyond what the law may carry."""
+    return _gap_assumed(cols, i) + _thickness_scaled(cols, i) + _thickness_outside(cols, i)
+
+
+def _gap_assumed(cols: Columns, i: int) -> list[str]:
+    from materials.priors import LIQUID_TEST_GAP
+
+    return [words("liquid-gap-assumed", thickness_m=LIQUID_TEST_GAP.typical)] if cols.parts["inputs"].gap_assumed[i] \
+        else []
+
+
+def _thickness_scaled(cols: Columns, i: int) -> list[str]:
+    inp, P = cols.parts["inputs"], cols.parts
+    if not (P["scaled"][i] and not P["thick_out"][i]):
+        return []
+    return [words("thickness-scaled", thickness_m=float(P["layer"][i]), test_thickness_m=float(inp.test_thickness[i]),
+                  n=float(inp.law_n[i]), source=inp.law_source[i])]
+
+
+def _thickness_outside(cols: Columns, i: int) -> list[str]:
+    inp, P = cols.parts["inputs"], cols.parts
+    if not P["thick_out"][i]:
+        return []
+    return [words("thickness-outside", thickness_m=float(P["layer"][i]), test_thickness_m=float(inp.test_thickness[i]),
+                  factor=LAW_FACTOR if inp.has_law[i] else THICKNESS_FACTOR)]
 
 
 def evaluate_material(material, target, *, thickness_m: float | None = None) -> Evaluation:
@@ -156,10 +215,14 @@ def explain(cols: Columns, i: int) -> Evaluation:
 
     if inp.extrapolated[i]:
         ev.flags.append("extrapolated")
+    if inp.held_cold[i]:
+        ev.flags.append("held-cold")
     if not inp.shape_found[i]:
         ev.flags.append("assumed-shape")
     if not inp.area_found[i]:
         ev.flags.append("assumed-test-area")
+    if inp.gap_assumed[i]:
+        ev.flags.append("assumed-gap")
     if inp.lent[i]:
         ev.flags.append("shape-lent")
     if P["thick_out"][i]:
@@ -172,11 +235,13 @@ def explain(cols: Columns, i: int) -> Evaluation:
     beta_rows = (sh.used0[i], sh.used1[i]) if sh.present[i] else ()
     add("energy", *eps_rows, *ebd_rows, *beta_rows)
     # the stated priors and laws the numbers rest on, by their source keys (materials.priors)
-    from materials.priors import TEST_AREA, shape_prior
+    from materials.priors import COLD_HOLD, LIQUID_TEST_GAP, TEST_AREA, shape_prior
 
     laws = ([shape_prior(t.families[i]).source] if not inp.shape_found[i] else []) + \
         ([TEST_AREA.source] if not inp.area_found[i] else []) + \
-        ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else [])
+        ([inp.law_source[i]] if P["scaled"][i] and inp.law_source[i] else []) + \
+        ([COLD_HOLD[0]] if inp.held_cold[i] else []) + \
+        ([LIQUID_TEST_GAP.source] if inp.gap_assumed[i] else [])
     for name in ("energy", "volume", "mass"):
         lst = ev.sources.setdefault(name, [])
         lst.extend(k for k in laws if k not in lst)
@@ -187,7 +252,7 @@ def explain(cols: Columns, i: int) -> Evaluation:
     if P["has_seg"][i]:
         ev.flags.append("segment-scaled")
     if ev.codes and ev.codes[0][0] in ("value-invalid", "shape-too-low", "thinner-than-made", "over-design-field",
-                                       "no-size", "area-impractical", "above-loop"):
+                                       "no-size", "area-impractical", "above-loop", "thicker-than-made"):
         return ev
     if thickness_m is None and target.energy_J is None and np.isnan(P["area"][i]):
         ev.flags.append("no-area-scaling")
@@ -205,7 +270,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
                       design_field_V_per_m=float(P["ed"][i]), operating_field_V_per_m=float(P["e_op"][i]),
                       worst_eps_K=float(inp.t_eps[i]), worst_breakdown_K=float(inp.t_ebd[i]),
                       weibull_shape=float(inp.beta[i]), test_area_m2=float(inp.test_area[i]),
-                      method=METHOD_NAMES[int(inp.kind[i])])
+                      method=METHOD_NAMES[int(inp.kind[i])], sections=int(P["sections"][i]),
+                      layer_thickness_m=float(P["layer"][i]))
     if thickness_m is None and area == area:
         ev.details["failure_probability"] = float(P["fail"][i])
     ev.details["assumptions"] = assumption_notes(cols, i)

@@ -11,7 +11,8 @@ _RATED = ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-
 
 def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, tmin_K: float, tmax_K: float,
                   failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
-                  frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None) -> dict:
+                  frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None, strict: bool = False,
+                  extrapolate: bool = False, max_sections: int = 1) -> dict:
     """Size ``material`` for ``energy_J`` at ``voltage_V`` over ``tmin_K…tmax_K``: the ``size`` JSON contract.
 
     The rules are the shortlist's (:func:`ranking.engine.evaluate` on a table of one row): a rated range that does
@@ -31,7 +32,8 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
         raise InputError("--tmin is above --tmax")
     target = Target(voltage_V=voltage_V, tmin_K=tmin_K, tmax_K=tmax_K, energy_J=energy_J,
                     failure_probability=failure_probability, margin=margin, segment_area_m2=segment_area_m2,
-                    frequency_Hz=frequency_Hz, assume_defaults=assume_defaults)
+                    frequency_Hz=frequency_Hz, assume_defaults=assume_defaults, strict=strict,
+                    extrapolate=extrapolate, max_sections=max_sections)
     cols = evaluate(ValueTable.from_materials([material]), target)
     notes = []
     for code, q in reasons(cols, 0):
@@ -44,6 +46,7 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
     e_op = voltage_V / d
     u = float(energy_density(inp, [0], [e_op])[0])
     seg = float(P["seg"][0]) if P["has_seg"][0] else None
+    n_sec = int(P["sections"][0])
     res_notes = assumption_notes(cols, 0)
     if seg:
         res_notes.append(_SEGMENT_NOTE)
@@ -57,7 +60,9 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
                   shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k_d"][0]),
                   limited_by="min_thickness" if P["at_min"][0] else "breakdown",
                   iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=ripple_current_A,
-                  frequency=frequency_Hz, notes=res_notes, segment_area=seg)
+                  frequency=frequency_Hz, notes=res_notes,
+                  # the weakest link: one segment, or the area of every series section
+                  segment_area=seg if seg else (area * n_sec if n_sec > 1 else None))
     if segment_area_m2 and not inp.heals[0]:
         notes.append(words("segment-ignored"))
     t = inp.reader.t
@@ -69,14 +74,20 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
             rows += [lk.used0[0], lk.used1[0]]
     if inp.has_loss[0]:
         rows += [inp.ls.used0[inp.c_loss[0]], inp.ls.used1[inp.c_loss[0]]]
-    flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("assumed-shape", not inp.shape_found[0]),
+    flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("held-cold", inp.held_cold[0]),
+                             ("assumed-shape", not inp.shape_found[0]),
                              ("assumed-test-area", not inp.area_found[0])) if on]
     out = {"key": material.key, "name": material.name, "voltage_V": voltage_V, "tmin_K": tmin_K, "tmax_K": tmax_K,
            **res.as_dict(), "worst_temperature_K": float(inp.t_ebd[0]),
            "worst_permittivity_temperature_K": float(inp.t_eps[0]), "relative_permittivity": float(inp.eps_v[0]),
            "breakdown_field_V_per_m": float(inp.ebd_v[0]), "weibull_shape": float(inp.beta[0]),
-           "test_area_m2": float(inp.test_area[0]),
+           "test_area_m2": float(inp.test_area[0]), "sections": n_sec,
+           "layer_thickness_m": float(P["layer"][0]),
            "sources": list(dict.fromkeys(t.source_keys[t.source[int(r)]] for r in rows if r >= 0)), "flags": flags}
+    if inp.held_cold[0]:
+        from materials.priors import COLD_HOLD
+
+        out["sources"].append(COLD_HOLD[0])
     out["notes"] = notes + list(out["notes"])
     out["cautions"] = [CAUTION]
     return out

@@ -14,6 +14,10 @@ from materials.priors import assumed_area_note, assumed_shape_note, shape_prior
 DEFAULTS_HINT = "without --strict, or strict = true in a target file, the family's stated range is assumed"
 
 
+#: How to use a value outside its data anyway (held at the end of its data and flagged in its cell).
+EXTRAPOLATE_HINT = "--extrapolate, or extrapolate = true in a target file, uses it held at the end of its data, flagged"
+
+
 def _um(d_m: float) -> str:
     return f"{d_m * 1e6:g} µm"
 
@@ -73,15 +77,42 @@ TEXT = {
     # notes on assumptions
     "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
     "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
-    "extrapolated": lambda q: ("permittivity or breakdown held at the end of its data outside the measured "
-                               "temperatures"),
+    "extrapolated": lambda q: (f"{q['prop']} known "
+                               + (f"at {_c(q['lo_K'])}" if q['lo_K'] == q['hi_K'] else
+                                  f"from {_c(q['lo_K'])} to {_c(q['hi_K'])}")
+                               + f" only, held at the end of its data at {_c(q['at_K'])}"),
+    "held-cold": lambda q: (f"breakdown below {_c(q['coldest_K'])}, the coldest temperature measured, held at its "
+                            f"value there: a lower bound, as breakdown strength does not rise on warming "
+                            f"({q['source']})"),
     "thickness-outside": lambda q: (f"breakdown measured on {_um(q['test_thickness_m'])} specimens, used for a "
                                     f"{_um(q['thickness_m'])} layer (more than {q['factor']:g}× away: beyond what "
                                     "a thickness law may carry)"),
     "thickness-scaled": lambda q: (f"breakdown carried from {_um(q['test_thickness_m'])} specimens to the "
                                    f"{_um(q['thickness_m'])} layer by E ∝ d^-n, n = {q['n']:.3g} ({q['source']})"),
-    "strict-outside-data": lambda q: f"--strict refuses values used outside their data: {q['notes']}",
+    "outside-data": lambda q: (f"{q['notes']}: refused ({EXTRAPOLATE_HINT})"),
+    "thicker-than-made": lambda q: (
+        f"needs {_um(q['thickness_m'])} of dielectric; the thickest single layer made is {_um(q['max_thickness_m'])}"
+        f" ({q['source']})" + (f", and {q['sections']:g} series sections of it are more than the "
+                               f"{q['allowed']:g} the target allows" if q['allowed'] > 1 else
+                               " (allow series sections with --sections N, or max_sections = N in a target file)")),
+    "sections": lambda q: (f"built as {q['sections']:g} series sections of {_um(q['layer_m'])} (the thickest "
+                           f"single layer made is {_um(q['max_thickness_m'])}, {q['source']}): weakest link over "
+                           f"{q['sections']:g}× the area, breakdown at the section thickness"),
     "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",
+    "gas-no-area": lambda q: ("a gas gap is not scaled by electrode area: its strength is set by gap and "
+                              "pressure (Paschen's law)"),
+    "gas-stored-gap": lambda q: (f"gas breakdown as stored for a {q['thickness_m'] * 1e3:g} mm gap; give --gap (and "
+                                 "--pressure) for another gap" if q["thickness_m"] == q["thickness_m"] else
+                                 "gas breakdown as stored, gap not stated; give --gap (and --pressure)"),
+    "gas-gap-law": lambda q: (f"gas gap {_um(q['gap_m'])}: "
+                              + (f"{_vum(q['field_V_per_m'])} by {q['law']}" if q["law"] != "left-of-Paschen-asymptote"
+                                 else "left of the Paschen asymptote, no Townsend breakdown; gaps of a few µm and "
+                                      "less break down by field emission, which this law does not bound")
+                              + (" (Townsend constants used beyond their fitted E/p range)"
+                                 if q["law"] == "Paschen-beyond-fit" else "")),
+    "gas-no-law": lambda q: "no Townsend constants or published formula stored for this gas: breakdown as stored",
+    "liquid-gap-assumed": lambda q: (f"liquid breakdown figure states no gap: {q['thickness_m'] * 1e3:g} mm (the "
+                                     "quality-test gap) assumed"),
     "segment-ignored": lambda q: ("segment area ignored: the material is not self-healing, so the whole area "
                                   "counts"),
     "linear-upper-bound": lambda q: ("nonlinear material without a DC-bias curve or loop: ½·ε0·εr·E² with the "

@@ -20,10 +20,16 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
     families = ["polymer-film", "ceramic-class-1"]
     thicknesses = ["2.5 um", "3 um", "4 um"]   # optional design space of layer thicknesses
     strict = false                  # true: refuse the stated Weibull-shape and test-area priors where data lack them
+    extrapolate = false             # true: use a value outside its data's temperatures or thickness (held, flagged)
+    max_sections = 1                # a layer thicker than can be made may be built as up to N series sections
 
     [weights]                       # criterion = weight (see ranking.criteria.CRITERIA)
     energy = 3
     loss = 1
+
+    [[stack]]                       # optional layered candidates (layers in series, µm unless a unit is given)
+    name = "film + impregnant"
+    layers = ["polypropylene-bopp:10um", "mineral-transformer-oil:5um"]
 """
 
 from __future__ import annotations
@@ -55,11 +61,21 @@ class Target:
     weights: dict = field(default_factory=dict)
     assume_defaults: bool = True    # a missing Weibull shape or test area takes its family's stated prior range
     strict: bool = False            # refuse assumptions instead (assume_defaults is then False)
+    extrapolate: bool = False       # use values outside their data (held at the end, flagged) instead of refusing
+    max_sections: int = 1           # series sections allowed where one layer cannot be made thick enough
     name: str = ""
+    stacks: tuple = ()              # layered candidates: (name, ((material key, thickness m), ...)), ...
 
     def __post_init__(self):
         if self.strict:
             object.__setattr__(self, "assume_defaults", False)
+            if self.extrapolate:
+                raise InputError("strict and extrapolate contradict each other: choose one")
+        from ranking.design import MAX_SECTIONS
+
+        if isinstance(self.max_sections, bool) or not isinstance(self.max_sections, int) \
+                or not 1 <= self.max_sections <= MAX_SECTIONS:
+            raise InputError(f"max_sections must be a whole number from 1 to {MAX_SECTIONS}")
         if not self.voltage_V > 0:
             raise InputError("voltage must be positive")
         if self.tmin_K > self.tmax_K:
@@ -85,7 +101,8 @@ class Target:
                 "failure_probability": self.failure_probability, "margin": self.margin, "area_m2": self.area_m2,
                 "segment_area_m2": self.segment_area_m2, "families": list(self.families),
                 "thicknesses_m": list(self.thicknesses_m),
-                "weights": dict(self.weights), "assume_defaults": self.assume_defaults, "strict": self.strict}
+                "weights": dict(self.weights), "assume_defaults": self.assume_defaults, "strict": self.strict,
+                "extrapolate": self.extrapolate, "max_sections": self.max_sections}
 
 
 def parse_weights(text: str | None) -> dict:
@@ -159,7 +176,7 @@ def _quantities(given: dict, *, options: bool) -> dict:
 
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
               "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults",
-              "strict"}
+              "strict", "extrapolate", "max_sections"}
 
 
 def _flag(table: dict, key: str, default: bool) -> bool:
@@ -167,6 +184,14 @@ def _flag(table: dict, key: str, default: bool) -> bool:
     v = table.get(key, default)
     if not isinstance(v, bool):
         raise TypeError(f"'{key}' must be true or false, not {v!r}")
+    return v
+
+
+def _whole(table: dict, key: str, default: int) -> int:
+    """A whole-number field of a target file: a TOML integer, never a string, a float or a boolean."""
+    v = table.get(key, default)
+    if isinstance(v, bool) or not isinstance(v, int):
+        raise TypeError(f"'{key}' must be a whole number, not {v!r}")
     return v
 
 
@@ -190,6 +215,7 @@ def load_target(path: Path) -> Target:
             failure_probability=float(t.get("failure_probability", 0.01)), margin=float(t.get("margin", 1.0)),
             families=tuple(t.get("families", ())), thicknesses_m=parse_thicknesses(t.get("thicknesses")),
             assume_defaults=_flag(t, "assume_defaults", True), strict=_flag(t, "strict", False),
+            extrapolate=_flag(t, "extrapolate", False), max_sections=_whole(t, "max_sections", 1),
             name=str(t.get("name", "")),
         )
     except UnitError as exc:
@@ -200,9 +226,28 @@ def load_target(path: Path) -> Target:
     for k, v in data.get("weights", {}).items():
         weights.update(parse_weights(f"{k}={v}"))
     try:
-        return Target(weights=weights, **kw)
+        return Target(weights=weights, stacks=_stacks(data.get("stack", [])), **kw)
     except InputError as exc:
         raise InputError(str(exc), file=str(path)) from None
+
+
+def _stacks(tables) -> tuple:
+    """The ``[[stack]]`` tables of a target file as ``(name, ((key, thickness m), ...))``."""
+    from ranking.stack import parse_layer
+
+    if not isinstance(tables, list):
+        raise InputError("'stack' must be a list of tables ([[stack]])", field="stack")
+    out = []
+    for i, tb in enumerate(tables, 1):
+        layers = tb.get("layers") if isinstance(tb, dict) else None
+        if not isinstance(layers, list) or not layers or not all(isinstance(x, str) for x in layers):
+            raise InputError(f"stack {i}: 'layers' must be a list of \"KEY:THICKNESS\" strings", field="stack.layers")
+        unknown = set(tb) - {"name", "layers"}
+        if unknown:
+            raise InputError(f"stack {i}: unknown field '{sorted(unknown)[0]}'", field="stack")
+        parsed = tuple(parse_layer(x) for x in layers)
+        out.append((str(tb.get("name", " + ".join(k for k, _ in parsed))), parsed))
+    return tuple(out)
 
 
 def with_overrides(target: Target, **changes) -> Target:
@@ -213,7 +258,8 @@ def with_overrides(target: Target, **changes) -> Target:
 def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None, energy=None, energy_density=None,
                         frequency=None, max_loss_tangent=None, failure_probability=None, margin=None, area=None,
                         segment_area=None, families=None, thicknesses=None, weights=None,
-                        assume_defaults: bool = False, strict: bool = False) -> Target:
+                        assume_defaults: bool = False, strict: bool = False, extrapolate: bool = False,
+                        max_sections: int | None = None) -> Target:
     """A Target from a target file and/or command options as typed (an option given overrides the file).
 
     Quantities are text, in the option's default unit unless one is written; ``families`` is comma-separated,
@@ -229,6 +275,8 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
         thicknesses_m=parse_thicknesses(thicknesses) if thicknesses else None,
         assume_defaults=True if assume_defaults else None,
         strict=True if strict else None,
+        extrapolate=True if extrapolate else None,
+        max_sections=max_sections,
     )
     w = parse_weights(weights) if weights else None
     if target_file:

@@ -741,3 +741,20 @@ def test_ester_and_mineral_oil_permittivity_transformer_article(catalog):
     src = "ester-fluids-transformer-article"
     assert one(catalog, "natural-ester", "relative_permittivity", src).value == 3.1
     assert one(catalog, "mineral-transformer-oil", "relative_permittivity", src).value == 2.2
+
+
+def test_air_townsend_constants_lux_notes_after_bazelyan(catalog):
+    # Lux, 'Paschen's law' notes (from Bazelyan p. 32): air A = 15 /(cm·Torr), B = 365 V/(cm·Torr), γ = 1e-2
+    cm_torr = 0.01 * 101325.0 / 760.0
+    assert one(catalog, "air", "townsend_a", "lux-paschen-notes").value * cm_torr == pytest.approx(15.0)
+    assert one(catalog, "air", "townsend_b", "lux-paschen-notes").value * cm_torr == pytest.approx(365.0)
+    assert one(catalog, "air", "secondary_emission", "lux-paschen-notes").value == 0.01
+
+
+def test_nitrogen_townsend_constants_lieberman_lichtenberg_table_14_1(catalog):
+    # Lieberman & Lichtenberg (2005) Table 14.1: N2 A = 11.8 /(cm·Torr), B = 325 V/(cm·Torr)
+    cm_torr = 0.01 * 101325.0 / 760.0
+    assert one(catalog, "nitrogen", "townsend_a", "lieberman-lichtenberg-2005-t14-1").value * cm_torr == \
+        pytest.approx(11.8)
+    assert one(catalog, "nitrogen", "townsend_b", "lieberman-lichtenberg-2005-t14-1").value * cm_torr == \
+        pytest.approx(325.0)

@@ -264,8 +264,9 @@ _TENTHS = st.integers(-600, 2000).map(lambda x: x / 10)
        ebd_t=st.lists(_TENTHS, min_size=1, max_size=4, unique=True),
        lo=st.integers(-600, 1500).map(lambda x: x / 10), span=st.integers(0, 1000).map(lambda x: x / 10))
 def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, ebd_t, lo, span):
-    """Property: a candidate whose worst case reads permittivity or breakdown outside the temperatures its data
-    state carries the ``extrapolated`` flag; one read inside never does."""
+    """Property: a candidate that reads permittivity outside the temperatures its data state, or breakdown above
+    the warmest of them, is refused unless extrapolating (then flagged ``extrapolated``); breakdown below the
+    coldest is held as a lower bound and flagged ``held-cold``; one read inside is neither."""
     rows = [("relative_permittivity", 2.2 + 0.001 * t, "handbook", {"temperature_K": t + C}) for t in eps_t]
     rows += [("breakdown_field", 6e8 - 1e6 * t, "handbook", {"temperature_K": t + C, "area_m2": 1e-4})
              for t in ebd_t]
@@ -273,14 +274,18 @@ def test_no_value_is_used_outside_its_data_unless_flagged(make_material, eps_t, 
              ("min_temperature", -100 + C, "handbook")]
     m = make_material("m", rows)
     ev = evaluate_material(m, target(tmin_K=lo + C, tmax_K=lo + span + C))
+    held = evaluate_material(m, target(tmin_K=lo + C, tmax_K=lo + span + C, extrapolate=True))
     tol = 1e-6
-    outside = any(lo < min(ts) - tol or lo + span > max(ts) + tol for ts in (eps_t, ebd_t))
-    assert ("extrapolated" in ev.flags) == outside
+    outside = lo < min(eps_t) - tol or lo + span > max(eps_t) + tol or lo + span > max(ebd_t) + tol
+    assert ("extrapolated" in held.flags) == outside
+    assert any("refused (--extrapolate" in r for r in ev.reasons) == outside
+    assert ("held-cold" in held.flags) == (lo < min(ebd_t) - tol)
 
 
-def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_strict(make_material):
-    """Breakdown measured on 3 µm film, a 400 V part sized at the design field: a layer more than 3× thicker than
-    the specimens is flagged (no thickness law stored); --strict refuses it, naming why."""
+def test_a_layer_far_from_the_tested_thickness_is_refused_unless_extrapolating(make_material):
+    """Breakdown measured on 3 µm film, a 20 kV part sized at the design field: a layer more than 10× thicker than
+    the specimens is beyond what the thickness law may carry: refused, naming why; with extrapolate it is used and
+    flagged."""
     rows = [("relative_permittivity", 2.2, "handbook"),
             ("breakdown_field", 600e6, "handbook", {"thickness_m": 3e-6, "area_m2": 1e-4}),
             ("weibull_shape", 12.0, "handbook"), ("max_temperature", 105 + C, "handbook"),
@@ -288,11 +293,13 @@ def test_a_layer_far_from_the_tested_thickness_is_flagged_and_refused_when_stric
     m = make_material("thin-tested", rows)
     thin = evaluate_material(m, target(voltage_V=400.0, energy_J=1.0))        # a few µm: inside the factor
     assert thin.ok and "thickness-extrapolated" not in thin.flags
-    thick = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0))     # about 100 µm
+    refused = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0))     # about 140 µm
+    assert not refused.ok and "3 µm specimens" in refused.reasons[0] and "--extrapolate" in refused.reasons[0]
+    thick = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, extrapolate=True))
     assert thick.ok and "thickness-extrapolated" in thick.flags
     assert any("3 µm specimens" in a for a in thick.details["assumptions"])
     strict = evaluate_material(m, target(voltage_V=20000.0, energy_J=1.0, strict=True))
-    assert not strict.ok and "--strict refuses" in strict.reasons[0] and "3 µm specimens" in strict.reasons[0]
+    assert not strict.ok and "3 µm specimens" in strict.reasons[0]
 
 
 def test_thickness_law_exponent_is_the_weibull_relative_spread_per_zhao_liu():
@@ -348,3 +355,36 @@ def test_class_2_layers_use_the_measured_mlcc_exponent(make_material):
     # design field at 40 µm with the test area and p = 0.5: 80 V/µm · (ln 2)^(1/10) · (40/10)^-0.5
     assert ev.details["design_field_V_per_m"] == pytest.approx(80e6 * np.log(2) ** 0.1 * 0.5, rel=1e-9)
     assert "paper-mlcc-thickness-exponent" in " ".join(ev.details["assumptions"])
+
+
+def _relaxor_with_loops(make_material, loops):
+    """A nonlinear ceramic known by loop profiles ``{temperature °C: [(field V/m, recoverable J/m³)…]}``."""
+    rows = [("relative_permittivity", 1500.0, "handbook"), ("breakdown_field", 40e6, "handbook", {"area_m2": 1e-5}),
+            ("weibull_shape", 8.0, "handbook"), ("max_temperature", 150 + C, "handbook"),
+            ("min_temperature", -55 + C, "handbook")]
+    rows += [("recoverable_energy_density", u, "lab", {"field_V_per_m": e, "temperature_K": tc + C})
+             for tc, pts in loops.items() for e, u in pts]
+    return make_material("relaxor", rows, family="ceramic-bulk", response="nonlinear")
+
+
+def test_loops_at_several_temperatures_use_the_weakest_inside_the_range(make_material):
+    """Loops at 25 and 120 °C (the hotter one weaker): over 25…120 °C the 120 °C loop sets the energy, its
+    profile read at the operating field (√u linear between stored fields); over 25…60 °C the 25 °C loop does."""
+    m = _relaxor_with_loops(make_material, {25: [(10e6, 0.6e6), (20e6, 2.0e6)], 120: [(10e6, 0.4e6), (20e6, 1.5e6)]})
+    tg = dict(voltage_V=500.0, energy_J=None, area_m2=1e-4)
+    hot = evaluate_material(m, target(tmin_K=25 + C, tmax_K=120 + C, **tg))
+    cool = evaluate_material(m, target(tmin_K=25 + C, tmax_K=60 + C, **tg))
+    assert hot.ok and cool.ok
+    for ev, (u1, u2) in ((hot, (0.4e6, 1.5e6)), (cool, (0.6e6, 2.0e6))):
+        e = ev.details["operating_field_V_per_m"]
+        s = math.sqrt(u1) + (math.sqrt(u2) - math.sqrt(u1)) * (min(e, 20e6) - 10e6) / 10e6
+        assert ev.values["energy"] == pytest.approx(s * s, rel=1e-9)
+
+
+def test_a_loop_used_outside_its_temperatures_is_refused_unless_extrapolating(make_material):
+    m = _relaxor_with_loops(make_material, {25: [(10e6, 0.6e6), (20e6, 2.0e6)]})
+    tg = dict(voltage_V=500.0, energy_J=None, area_m2=1e-4, tmin_K=-40 + C, tmax_K=25 + C)
+    ev = evaluate_material(m, target(**tg))
+    assert not ev.ok and "loop energy known at 25 °C only, held at the end of its data at -40 °C" in ev.reasons[0]
+    held = evaluate_material(m, target(extrapolate=True, **tg))
+    assert held.ok and "extrapolated" in held.flags

@@ -52,7 +52,7 @@ def test_size_material_parallel_plate_relations(make_material):
     from ranking.part import size_material
 
     r = size_material(_film(make_material), energy_J=80.0, voltage_V=800.0, tmin_K=-40 + C, tmax_K=25 + C,
-                      failure_probability=1e-3, margin=1.2)
+                      extrapolate=True, failure_probability=1e-3, margin=1.2)
     assert r["capacitance_F"] == pytest.approx(EPS0 * 2.2 * r["area_m2"] / r["thickness_m"], rel=1e-9)
     assert 0.5 * r["capacitance_F"] * 800.0 ** 2 == pytest.approx(80.0, rel=1e-9)
     assert r["operating_field_V_per_m"] == pytest.approx(800.0 / r["thickness_m"], rel=1e-12)
@@ -66,6 +66,7 @@ def test_size_notes_a_range_outside_the_rating(make_material):
     from ranking.part import size_material
 
     r = size_material(_film(make_material), energy_J=1.0, voltage_V=400.0, tmin_K=25 + C, tmax_K=125 + C,
+                      extrapolate=True,
                       failure_probability=1e-2)
     assert any("outside the rated range" in n for n in r["notes"])
 

@@ -58,6 +58,10 @@ def _means_something(args, extra, cli):
             assert data["values"] and all(v["source"]["key"] for v in data["values"])
         else:
             assert data
+    elif args[0] == "stack":
+        code, out, err = cli(args + ["--json"])
+        data = json.loads(out)
+        assert data["stack_breakdown_V"] > 0 and data["first_to_fail"] in [ly["key"] for ly in data["layers"]]
 
 
 def test_readme_marks_table_is_the_programs():
