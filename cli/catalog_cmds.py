@@ -10,6 +10,7 @@ from cli import state
 from cli.output import JsonOpt
 
 FLAG_KINDS = ("recollection", "invented")
+LISTED = 2000  # materials the text listing shows by default; a store of 100,000 is counted beyond them
 
 
 def _nothing_matched(rows, *filters) -> None:
@@ -41,6 +42,8 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
                                                           "(polymer-film, ceramic-class-2, …).")] = None,
             where: Annotated[Optional[str], typer.Option("--where", help="Filter, e.g. "
                              "\"relative_permittivity > 3 and max_temperature >= 125 degC\".")] = None,
+            limit: Annotated[int, typer.Option("--limit", metavar="N", help="Rows listed as text (0: all); the "
+                                               "rest are counted. --json lists all.")] = LISTED,
             json_out: JsonOpt = False):
     """List materials with their headline values (reference: small-signal, ~25 °C, ~1 kHz); exit code 1 when
     --family or --where leaves none."""
@@ -67,7 +70,7 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
     from materials.numfmt import fmt_celsius
 
     body = []
-    for r in rows:
+    for r in rows[:limit or None]:
         t = f"{fmt_celsius(r['min_temperature_K'])} … {fmt_celsius(r['max_temperature_K'])}"
         flags = ", ".join(k for k in r["source_kinds"] if k in FLAG_KINDS)
         body.append([r["key"], r["name"], r["family"], display("relative_permittivity", r["relative_permittivity"]),
@@ -75,7 +78,9 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
                      display("breakdown_field", r["breakdown_field_V_per_m"]), t, flags])
     table(["key", "name", "family", "εr", "tan δ", "E_bd", "rated T", "flags"], body, right={3, 4, 5},
           title=f"{len(rows)} materials", caption="εr, tan δ and E_bd at about 25 °C and 1 kHz; "
-          "flags name source kinds that are not published (see 'holdoff show KEY').")
+          "flags name source kinds that are not published (see 'holdoff show KEY')."
+          + (f" The first {len(body)} of {len(rows)} are listed (--limit 0 lists all, --json gives all)."
+             if len(body) < len(rows) else ""))
     _nothing_matched(rows, family, where)
 
 

@@ -180,3 +180,17 @@ def test_json_carries_the_marks(cli):
     assert set(row["evidence"]) == set(row["criteria"])
     assert all(row["marks"][n] == (MARKS[c] if c else "") for n, c in row["evidence"].items())
     assert data["marks_legend"]
+
+
+def test_catalog_lists_a_limited_number_and_counts_the_rest(cli):
+    """A store of 100,000 materials lists its first rows as text and counts the rest (--json and --limit 0 give
+    all); here three of the shipped catalog."""
+    import json
+
+    code, out, _e = cli(["catalog", "--limit", "3"], env={"COLUMNS": "200"})
+    assert code == 0
+    rows = [ln for ln in out.splitlines()[3:] if ln and not ln.startswith(("εr", "The first"))]
+    total = len(json.loads(cli(["catalog", "--json"])[1]))
+    assert len(rows) == 3 and f"The first 3 of {total} are listed" in out
+    code, out, _e = cli(["catalog", "--limit", "0"], env={"COLUMNS": "200"})
+    assert "The first" not in out
