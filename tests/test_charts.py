@@ -350,3 +350,22 @@ def test_the_score_chart_shows_the_head_of_a_long_ranking():
     fig = charts.score_chart({"ranked": ranked, "method": "topsis", "counts": {"ranked": 5000}})
     assert len(_by_gid(fig, "score:")) == charts.SCORE_ROWS
     assert fig.axes[0].get_title(loc="left") == f"Ranking: the first {charts.SCORE_ROWS} of 5000"
+
+
+def test_dense_series_are_thinned_for_the_picture_not_for_the_numbers():
+    """A loop of 20,000 points and a breakdown set of 3,000 draw at most a few hundred points each; the energies
+    and the fit still use every point (the loop's worked example: lost = Pr·Emax/2 = 1.2 J/cm³)."""
+    from ranking.charts.common import THIN_LIMIT
+
+    t = np.linspace(0.0, 1.0, 20_001)
+    e = 30e6 * np.sin(np.pi * t)
+    p_ch = 0.3 * np.tanh(e / 15e6)
+    p = np.where(t <= 0.5, p_ch, p_ch + 0.08 * (1 - e / 30e6))
+    fig = charts.loop_chart(e, p)
+    (line,) = _lines(fig, "loop")
+    assert len(line.get_xdata()) <= THIN_LIMIT + 2 and max(line.get_xdata()) == pytest.approx(300.0)
+    assert fig.energies.lost_J_per_m3 == pytest.approx(1.2e6, rel=2e-3)
+    x = _sample(4, 3000)
+    fig = charts.weibull_chart([("big", x)])
+    assert len(_lines(fig, "data:")[0].get_xdata()) <= THIN_LIMIT
+    assert fig.fits["big"].n == 3000
