@@ -81,8 +81,7 @@ def export(
     target: Annotated[Optional[Path], typer.Option("--target", help="Run the shortlist for this target TOML file "
                                                    "(see README) and export it.")] = None,
     method: Annotated[str, typer.Option("--method", help="With --target: topsis, weighted or pareto.")] = "topsis",
-    top: Annotated[int, typer.Option("--top", help="With --target: the k of P(top k) (at most 3 by default).")]
-    = 3,
+    k: Annotated[int, typer.Option("--k", metavar="K", help="With --target: the k of P(top k).")] = 3,
     family: FamilyOpt = None,
     temp: TempOpt = None,
     extrapolate: Annotated[bool, typer.Option("--extrapolate", help="Comparison: outside a material's data, hold "
@@ -100,10 +99,11 @@ def export(
     --target FILE.toml     a fresh shortlist of the store's materials for that target
                            (for ad-hoc options: 'holdoff shortlist ... --export FILE')
 
-    The format follows the extension of --to: CSV (one table, a sources column beside each value), XLSX
-    (comparison, excluded, sources, target and notes sheets), Markdown and HTML (footnoted sources, the HTML with
-    inline charts and print layout for A4), JSON (SI numbers). Values resting on recollection (†) or invented (‡)
-    sources, or on an assumption (*), are marked in every format.
+    The format follows the extension of --to: CSV (one table written row by row, a sources and an evidence
+    column beside each value), XLSX (comparison, excluded by reason, sources, target and notes sheets), Markdown
+    and HTML (references [n]; the HTML a review document for A4 with its charts), JSON (SI numbers, written row by
+    row). Every value carries one evidence mark (published, lab, assumed, extrapolated, imputed, recollection,
+    invented), explained under each table.
     """
     from materials.errors import InputError
     from ranking import report
@@ -121,11 +121,11 @@ def export(
         from ranking.shortlist import shortlist as run
         from ranking.target import load_target
 
-        if top < 1:
-            raise InputError("--top must be at least 1")
+        if k < 1:
+            raise InputError("--k must be at least 1")
         t = load_target(target)
         mats = _load()
-        rep = report.from_shortlist(run(mats, t, method=method, top_k=top), materials=mats)
+        rep = report.from_shortlist(run(mats, t, method=method, top_k=k), materials=mats)
     else:
         from materials.units import parse_option
 

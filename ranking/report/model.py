@@ -2,9 +2,9 @@
 
 A :class:`Report` is built either from a shortlist result (:func:`from_shortlist`, the dict of
 :func:`ranking.shortlist.shortlist`) or from a list of materials compared at one condition
-(:func:`from_materials`). Every number in it keeps the source keys it rests on; a value resting on a
-``recollection`` or ``invented`` source is flagged with a mark (``†`` recollection, ``‡`` invented) that every
-format explains, and ``*`` marks a value that rests on an assumption.
+(:func:`from_materials`). Every number in it keeps the source keys it rests on and carries one evidence mark
+(:mod:`ranking.report.marks`: published, lab, assumed, extrapolated, imputed, recollection, invented) that every
+format explains in a legend under its table.
 """
 
 from __future__ import annotations
