@@ -124,7 +124,7 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
                      (v.note + (" " + status if status else "")).strip()])
         cited[v.source.key] = v.source
     table(["property", "value", "range", "conditions", "source [kind]", "note"], body, right={1})
-    if sets["breakdown_sets"] or sets["loops"]:
+    if sets["breakdown_sets"] or sets["loops"] or sets["endurance_sets"]:
         from cli.lab_cmds import print_sets
 
         print_sets(sets)

@@ -1,4 +1,5 @@
-"""``holdoff add``, ``holdoff breakdown fit|import`` and ``holdoff loop analyze|import``: lab data in.
+"""``holdoff add``, ``holdoff breakdown fit|import``, ``holdoff loop analyze|import`` and ``holdoff life fit|import``:
+lab data in.
 
 Files are parsed and validated completely before the store is opened; each command then writes in one
 transaction (re-run if another writer holds the lock), so a failure leaves the store exactly as it was.
@@ -18,6 +19,8 @@ breakdown_app = typer.Typer(help="Weibull breakdown statistics of lab series: fi
                                  "store.", no_args_is_help=True)
 loop_app = typer.Typer(help="Polarisation–field loops: analyse a file's energies, or import it into the store.",
                        no_args_is_help=True)
+life_app = typer.Typer(help="Endurance (time-to-failure) tests: fit the Weibull life-stress law to a file, or import "
+                            "it into the store.", no_args_is_help=True)
 
 #: Files larger than this (bytes, about ten thousand rows) get a progress bar while they are read.
 PROGRESS_BYTES = 100_000
@@ -178,6 +181,13 @@ def _figures_line(res) -> str:
     from materials.numfmt import fmt_number, fmt_quantity
 
     f = res.figures
+    if res.what == "endurance set":
+        lo, hi = f["life_exponent_bounds"]
+        ea = f["activation_energy_eV"]
+        return (f"life exponent n {fmt_number(f['life_exponent'])} ({f['confidence']:.0%}: {fmt_number(lo)} … "
+                f"{fmt_number(hi)}), Weibull shape in time {fmt_number(f['shape'])}"
+                + (f", activation energy {fmt_number(ea)} eV" if ea is not None else "")
+                + ", stored as life_exponent" + (" and activation_energy" if ea is not None else ""))
     if res.what == "loop":
         return (f"recovered {fmt_quantity(f['recovered_J_per_m3'], 'J/cm**3', 'J/m3')} at "
                 f"{fmt_quantity(f['max_field_V_per_m'], 'kV/cm', 'V/m')}, "
@@ -191,7 +201,7 @@ def _figures_line(res) -> str:
 
 def _imported_lines(res) -> None:
     created = f"created lab material '{res.material}'; " if res.new_material else ""
-    censored = f" ({res.censored} censored)" if res.what == "breakdown set" else ""
+    censored = f" ({res.censored} censored)" if res.what in ("breakdown set", "endurance set") else ""
     _say(f"{created}imported {res.what} '{res.label}' into '{res.material}': {res.n} points{censored}")
     if res.replaced:
         _say(f"replaced the earlier {res.what}, kept as '{res.replaced}' (its derived values retired)")
@@ -204,7 +214,8 @@ def _imported_lines(res) -> None:
 
 
 def print_sets(sets: dict) -> None:
-    """Tables of a material's breakdown sets and loops (what :func:`db.labdata.describe_sets` returns), for show."""
+    """Tables of a material's breakdown sets, loops and endurance sets (what :func:`db.labdata.describe_sets`
+    returns), for show."""
     from cli.output import table
     from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
 
@@ -231,6 +242,15 @@ def print_sets(sets: dict) -> None:
                  f"{r['source']} [{r['kind']}]"] for r in sets["loops"]]
         table(["loop", "n", "T", "f", "peak field", "recovered", "efficiency", "source [kind]"], rows,
               right={1, 4, 5, 6})
+    if sets.get("endurance_sets"):
+        rows = [[r["label"], r["n"], r["censored"], fmt_celsius(r["temperature_K"]), r["stress_kind"],
+                 fmt_number(r["life_exponent"]),
+                 f"{fmt_number(r['life_exponent_low'])} … {fmt_number(r['life_exponent_high'])}"
+                 if r["life_exponent_low"] is not None else "",
+                 fmt_number(r["activation_energy_eV"]) if r["activation_energy_eV"] is not None else "—",
+                 f"{r['source']} [{r['kind']}]"] for r in sets["endurance_sets"]]
+        table(["endurance set", "n", "cens.", "T", "stress", "life exp. n", "bounds", "Ea eV", "source [kind]"],
+              rows, right={1, 2, 5, 7})
 
 
 # --- commands ---------------------------------------------------------------------------------------------------
@@ -366,8 +386,82 @@ def loop_import(
     _import(import_loop, read_loop, file, overrides, target, force=force, json_out=json_out)
 
 
+def _life_lines(fit, stress_kind: str, *, title: str) -> None:
+    from cli.output import table
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
+
+    conf = f"{fit.confidence:.0%}"
+    unit, si = ("V", "V") if stress_kind == "voltage" else ("V/um", "V/m")
+
+    def hours(x):
+        return fmt_quantity(x, "h", "s")
+
+    def rng(a, fmt=fmt_number):
+        return f"{fmt(a[0])} … {fmt(a[1])}"
+
+    rows = [["life exponent n (life ∝ S^-n)", fmt_number(fit.n), rng(fit.n_bounds)],
+            ["Weibull shape β in time", fmt_number(fit.shape), rng(fit.shape_bounds)],
+            [f"scale η at {fmt_quantity(fit.stress_ref, unit, si)}"
+             + (f", {fmt_celsius(fit.temperature_ref_K)}" if fit.ea_eV is not None else ""),
+             hours(fit.scale_ref_s), rng(fit.scale_ref_bounds_s, hours)]]
+    if fit.ea_eV is not None:
+        rows.append(["activation energy Ea", f"{fmt_number(fit.ea_eV)} eV", f"{rng(fit.ea_bounds_eV)} eV"])
+    law = "Weibull-power-Arrhenius" if fit.ea_eV is not None else "Weibull-inverse-power-law"
+    table(["figure", "value", f"{conf} bounds"], rows, right={1}, title=title,
+          caption=f"{law}, maximum likelihood with right-censoring (Nelson 1990; Meeker & Escobar 1998); Fisher "
+                  "bounds")
+    if fit.shape_by_level:
+        def level(k):
+            s_, t_ = (k, None) if not isinstance(k, tuple) else k
+            return fmt_quantity(s_, unit, si) + (f" at {fmt_celsius(t_)}" if t_ is not None else "")
+
+        levels = "; ".join(f"{level(k)}: β {fmt_number(v, 3)}" for k, v in fit.shape_by_level.items())
+        _say(f"shape by stress level: {levels} (common shape: likelihood-ratio p = {fmt_number(fit.shape_test_p, 2)})")
+    if fit.shape_warning:
+        _say(f"warning: {fit.shape_warning}")
+
+
+@life_app.command("fit")
+def life_fit(file: FileArg,
+             confidence: Annotated[str, typer.Option("--confidence", help="Two-sided confidence of the bounds (0.9 "
+                                                     "or 90%).")] = "0.9",
+             temp: TempOpt = None, json_out: JsonOpt = False):
+    """Fit the Weibull life-stress law to an endurance file (nothing is stored)."""
+    from db.labdata import fit_figures, fit_file
+    from materials.labfiles import read_endurance
+
+    conf = _confidence(confidence)
+    data = _read(read_endurance, file, {"temperature": _quantity(temp, "temperature", "--temp")})
+    fit = fit_file(data, confidence=conf)
+    if json_out:
+        from cli.output import print_json
+
+        print_json({"n": data.n, "censored": data.n_censored, "stress_kind": data.stress_kind,
+                    **fit_figures(fit, data.stress_kind)})
+        return
+    _life_lines(fit, data.stress_kind, title=f"{file.name}: {data.n} units, {data.n_censored} censored")
+
+
+@life_app.command("import")
+def life_import(
+        file: FileArg, material: MaterialOpt = None, new_material: NewMaterialOpt = None, family: FamilyOpt = None,
+        label: LabelOpt = None, thickness: ThicknessOpt = None,
+        area: Annotated[Optional[str], typer.Option("--area", help="Electrode area (cm² unless a unit).")] = None,
+        temp: TempOpt = None, operator: OperatorOpt = None, lab: LabOpt = None, date: DateOpt = None,
+        force: ForceOpt = False, json_out: JsonOpt = False):
+    """Store an endurance set (each unit's time and stress) and its fitted life exponent (and activation energy)."""
+    from db.labdata import import_endurance
+    from materials.labfiles import read_endurance
+
+    target = _target(material, new_material, family)
+    overrides = _common_overrides(label, thickness, temp, operator, lab, date)
+    overrides["area"] = _quantity(area, "electrode_area", "--area")
+    _import(import_endurance, read_endurance, file, overrides, target, force=force, json_out=json_out)
+
+
 def register(app) -> None:
     app.command("add")(add)
     app.add_typer(breakdown_app, name="breakdown")
     app.add_typer(loop_app, name="loop")
+    app.add_typer(life_app, name="life")
 

@@ -7,6 +7,8 @@ import typer
 
 from cli import state
 from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, QuietOpt, SectionsOpt, StrictOpt, set_quiet
+from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, PackingOpt, RippleOpt,
+                              SeriesResistanceOpt, ThermalResistanceOpt)
 
 TempOpt = Annotated[Optional[list[str]], typer.Option("--temp", help="Temperature (°C unless a unit is given); "
                                                       "repeat for several. Default 25 °C.")]
@@ -114,8 +116,10 @@ def _ceiling_evidence(r, kinds: dict) -> str | None:
 
 
 def size(key: Annotated[str, typer.Argument(help="Material key.")],
-         energy: Annotated[str, typer.Option("--energy", help="Energy to store (J unless a unit is given).")],
          voltage: Annotated[str, typer.Option("--voltage", help="Working voltage (V unless a unit is given).")],
+         energy: Annotated[Optional[str], typer.Option("--energy", help="Energy to store (J unless a unit is "
+                                                       "given).")] = None,
+         capacitance: CapacitanceOpt = None,
          tmin: Annotated[str, typer.Option("--tmin", help="Lowest temperature (°C unless a unit).")] = "25",
          tmax: Annotated[str, typer.Option("--tmax", help="Highest temperature (°C unless a unit).")] = "25",
          failure_prob: Annotated[float, typer.Option("--failure-prob", help="Accepted short-term failure "
@@ -128,9 +132,15 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Self-healing films with "
                                                              "segmented electrodes: scale breakdown to one segment "
                                                              "(cm² unless a unit); p is then per segment.")] = None,
+         ripple: RippleOpt = None, series_resistance: SeriesResistanceOpt = None,
+         thermal_resistance: ThermalResistanceOpt = None, ambient: AmbientOpt = None, life: LifeOpt = None,
+         life_fraction: LifeFractionOpt = None,
+         packing_factor: PackingOpt = None,
          strict: StrictOpt = False, extrapolate: ExtrapolateOpt = False, sections: SectionsOpt = None,
          assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False, quiet: QuietOpt = False):
-    """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability."""
+    """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability;
+    with a ripple and thermal resistance at its hot spot, with --life for its service life."""
+    from cli.service_opts import parse_service
     from db.query import get_material
     from materials.units import parse_option
     from ranking.part import size_material
@@ -140,7 +150,7 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
     with state.store().session(read_only=True) as s:
         m = get_material(s, key)
     res = size_material(
-        m, energy_J=parse_option(energy, "energy", name="--energy"),
+        m, energy_J=parse_option(energy, "energy", name="--energy") if energy else None,
         voltage_V=parse_option(voltage, "voltage", name="--voltage"),
         tmin_K=parse_option(tmin, "temperature", name="--tmin"), tmax_K=parse_option(tmax, "temperature",
                                                                                     name="--tmax"),
@@ -148,7 +158,10 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         ripple_current_A=parse_option(ripple_current, "current", name="--ripple-current") if ripple_current else None,
         frequency_Hz=parse_option(frequency, "frequency", name="--frequency") if frequency else None,
         assume_defaults=not strict, strict=strict, extrapolate=extrapolate, max_sections=sections or 1,
-        segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None)
+        segment_area_m2=parse_option(segment_area, "electrode_area", name="--segment-area") if segment_area else None,
+        life_fraction=0.01 if life_fraction is None else life_fraction, packing_factor=packing_factor,
+        **parse_service(capacitance=capacitance, ripple=ripple, series_resistance=series_resistance,
+                        thermal_resistance=thermal_resistance, ambient=ambient, life=life))
     if json_out:
         from cli.output import print_json
 
@@ -175,15 +188,40 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
             ["failure probability", fmt_number(res["failure_probability"]) + mk],
             ["limited by", res["limited_by"]],
             ["worst temperature", fmt_celsius(res["worst_temperature_K"])]]
+    if res.get("device_energy_density_J_per_m3") is not None:
+        rows.append([f"device energy density (packing {fmt_number(res['packing_factor'])})",
+                     fmt_number(res["device_energy_density_J_per_m3"] / 1e6) + " J/cm³"])
     if res.get("dissipated_power_W") is not None:
-        rows.append(["dissipated power", fmt_eng(res["dissipated_power_W"], "W") + mk])
+        rows.append(["dissipated power", fmt_eng(res["dissipated_power_W"], "W") + mk
+                     + f" (series {fmt_eng(res['series_resistance_ohm'], 'Ω')} and dielectric)"])
+    rows += service_rows(res)
+    cap = f"{fmt_eng(res['capacitance_target_F'], 'F')} (" if res.get("capacitance_target_F") else ""
     table(["", res["key"]], rows, right={1}, keys=set(), long=set(), legend=[marks_legend({cls} if cls else ())],
-          title=f"{res['name']} for {fmt_eng(res['energy_J'], 'J')} at {fmt_eng(res['voltage_V'], 'V')}, "
-          f"{fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
+          title=f"{res['name']} for {cap}{fmt_eng(res['energy_J'], 'J')}" + (") at " if cap else " at ")
+          + f"{fmt_eng(res['voltage_V'], 'V')}, {fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
     for n in res["notes"]:
         say(f"note: {n}", wrap=True)
     say("sources: " + ", ".join(res["sources"]), wrap=True)
     caution(res["cautions"], sized=True)
+
+
+def service_rows(d: dict) -> list[list[str]]:
+    """Table rows of a design's service figures (hot spot, runaway margin, B-life, binding limit), where present."""
+    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
+
+    rows = []
+    if d.get("hot_spot_K") is not None:
+        rows.append(["hot spot", fmt_celsius(d["hot_spot_K"])])
+        m = d.get("runaway_margin")
+        rows.append(["margin to thermal runaway", "none: losses do not rise with temperature" if m is None
+                     else f"×{fmt_number(m, 3)} ripple power (Semenov)"])
+    if d.get("b_life_s") is not None:
+        rows.append([f"B{fmt_number(d['life_fraction'] * 100)} life at the operating point",
+                     fmt_quantity(d["b_life_s"], "h", "s", 3)
+                     + f" (n {fmt_number(d['life_exponent'], 3)}{', assumed' if d['life_exponent_assumed'] else ''})"])
+    if d.get("binding_limit"):
+        rows.append(["binding limit", d["binding_limit"]])
+    return rows
 
 
 def register(app) -> None:

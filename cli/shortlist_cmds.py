@@ -8,6 +8,8 @@ import typer
 
 from cli import state
 from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, QuietOpt, SectionsOpt, StrictOpt, set_quiet
+from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, PackingOpt, RippleOpt,
+                              SeriesResistanceOpt, ThermalResistanceOpt)
 
 # Excluded candidates listed in the text view; the rest are counted (all of them are in --json).
 EXCLUDED_SHOWN = 40
@@ -49,6 +51,14 @@ def shortlist(
     = None,
     thickness: Annotated[Optional[str], typer.Option("--thickness", help="Rank (material, thickness) pairs, "
                                                      "e.g. 2.5,3,4,6um.")] = None,
+    capacitance: CapacitanceOpt = None,
+    ripple: RippleOpt = None,
+    series_resistance: SeriesResistanceOpt = None,
+    thermal_resistance: ThermalResistanceOpt = None,
+    ambient: AmbientOpt = None,
+    life: LifeOpt = None,
+    life_fraction: LifeFractionOpt = None,
+    packing_factor: PackingOpt = None,
     strict: StrictOpt = False,
     extrapolate: ExtrapolateOpt = False,
     sections: SectionsOpt = None,
@@ -82,7 +92,10 @@ def shortlist(
                             energy_density=energy_density, frequency=frequency, max_loss_tangent=max_loss,
                             failure_probability=failure_prob, margin=margin, area=area, segment_area=segment_area,
                             families=family, thicknesses=thickness, weights=weights, strict=strict,
-                            extrapolate=extrapolate, max_sections=sections)
+                            extrapolate=extrapolate, max_sections=sections,
+                            capacitance=capacitance, ripple=ripple, series_resistance=series_resistance,
+                            thermal_resistance=thermal_resistance, ambient=ambient, life=life,
+                            life_fraction=life_fraction, packing_factor=packing_factor)
     with state.store().reading() as conn:
         table = load_table(conn)
     # The text view explains only the rows it shows; --json and --export carry every row in full.
@@ -137,6 +150,13 @@ def render(result: dict, *, top: int) -> None:
     if t.get("energy_density_J_per_m3"):
         head.append(f"≥ {fmt_number(t['energy_density_J_per_m3'] / 1e6)} J/cm³")
     head.append(f"p_fail {fmt_number(t['failure_probability'])}, margin {fmt_number(t['margin'])}")
+    if t.get("ripple"):
+        head.append("ripple " + " + ".join(f"{fmt_eng(h['current_A'], 'A')} at {fmt_eng(h['frequency_Hz'], 'Hz')}"
+                                           for h in t["ripple"])
+                    + f", R_s {fmt_eng(t['series_resistance_ohm'], 'Ω')}, "
+                      f"R_th {fmt_number(t['thermal_resistance_K_per_W'])} K/W")
+    if t.get("life_s"):
+        head.append(f"life {fmt_number(t['life_s'] / 3600.0)} h at {fmt_number(t['life_fraction'] * 100)} % failed")
     say(f"[bold]shortlist[/] ({result['method']}): " + esc(", ".join(head))
         + (f" — {esc(t['name'])}" if t.get("name") else ""), wrap=True)
     crit = {c["name"]: c for c in result["criteria"]}
@@ -151,14 +171,18 @@ def render(result: dict, *, top: int) -> None:
         text = fmt_eng(v, unit) if unit else fmt_number(to_display(v, c["unit"], c["display_unit"]))
         return text + (MARKS[cls] if cls else "")
 
-    cols = ["#", "key", "score", *[h for _n, h, _u in shown], "P(1st)", f"P(top {k})", "conf.", "binding"]
+    cols = ["#", "key", "score", *[h for _n, h, _u in shown], "P(1st)", f"P(top {k})", "conf."]
+    service = [c for c, key in (("hot spot", "hot_spot_K"), ("B-life h", "b_life_s"), ("limit", "binding_limit"))
+               if any(r["design"].get(key) is not None for r in result["ranked"][:top])]
+    cols += [*service, "binding"]
     body, used = [], set()
     for r in result["ranked"][:top]:
         ev = row_evidence(r, [n for n, _h, _u in shown])
         used |= {c for c in ev.values() if c}
         body.append([r["rank"], r["label"], f"{r['score']:.3f}",
                      *[cell(n, u, r["criteria"].get(n), ev[n]) for n, _h, u in shown],
-                     _share(r["p_top"]), _share(r["p_top_k"]), f"{r['confidence']:.2f}", r["binding"]])
+                     _share(r["p_top"]), _share(r["p_top_k"]), f"{r['confidence']:.2f}",
+                     *[_service_cell(c, r["design"]) for c in service], r["binding"]])
     counts = result.get("counts") or {"ranked": len(result["ranked"]), "excluded": len(result["excluded"])}
     if not body:
         # nothing ranked: no empty grid, just the count; the exclusions below say why
@@ -195,6 +219,17 @@ def marks_legend(used) -> str:
     from ranking.report.marks import LEGEND, MARKS, ORDER
 
     return "marks: " + "; ".join(f"{MARKS[c]} {LEGEND[c]}" for c in reversed(ORDER) if c in used)
+
+
+def _service_cell(column: str, design: dict) -> str:
+    from materials.numfmt import fmt_celsius, fmt_number
+
+    if column == "hot spot":
+        return fmt_celsius(design.get("hot_spot_K"))
+    if column == "B-life h":
+        b = design.get("b_life_s")
+        return fmt_number(b / 3600.0) if b is not None else "—"
+    return design.get("binding_limit") or "—"
 
 
 def _exclusions(result: dict, counts: dict) -> None:

@@ -9,7 +9,7 @@ into an empty store and dumping again gives the same bytes, on SQLite and Postgr
 
 Lines, in this order::
 
-    {"format": "holdoff-bundle", "version": 1, "schema_revision": "0003"}
+    {"format": "holdoff-bundle", "version": 1, "schema_revision": "0004"}
     {"type": "meta", "key": …, "value": …}                                  by key
     {"type": "source", "key": …, "kind": …, "citation": …, "note": …}       by key
     {"type": "material", "key": …, "name": …, "family": …, "form": …, "description": …, "origin": …,
@@ -21,16 +21,20 @@ Lines, in this order::
     {"type": "loop", "material": KEY, "source": KEY, "label": …, "temperature_K": …, "frequency_Hz": …,
      "thickness_m": …, "file_name": …, "sha256": …, "created_at": …,
      "point_columns": ["seq", "field_V_per_m", "polarization_C_per_m2"], "points": [[…], …]}
+    {"type": "endurance_set", "material": KEY, "source": KEY, "label": …, "stress_kind": …, "thickness_m": …,
+     "area_m2": …, "temperature_K": …, "file_name": …, "sha256": …, "created_at": …,
+     "point_columns": ["seq", "time_s", "stress", "temperature_K", "censored"], "points": [[…], …]}
     {"type": "value", "material": KEY, "source": KEY, "breakdown_set": LABEL or null, "loop": LABEL or null,
+     "endurance_set": LABEL or null,
      "property": …, "value": …, "low": …, "high": …, "temperature_K": …, "frequency_Hz": …, "field_V_per_m": …,
      "thickness_m": …, "area_m2": …, "note": …, "created_at": …, "retired_at": …, "retired_reason": …}
                                                   by material, then in the order stored (retired rows included)
     {"type": "end", "records": N}                 N = number of lines between the first and this one
 
-A value's ``breakdown_set`` and ``loop`` name a set or loop of the same material by its label. A bundle without
-its end line, or with a different count, is refused as truncated. ``meta`` carries the catalog fingerprint and any
-other facts about the store except its schema revision, which is the header's and, on load, always that of the
-program loading the bundle.
+A value's ``breakdown_set``, ``loop`` and ``endurance_set`` name a set or loop of the same material by its label.
+A bundle without its end line, or with a different count, is refused as truncated. ``meta`` carries the catalog
+fingerprint and any other facts about the store except its schema revision, which is the header's and, on load,
+always that of the program loading the bundle.
 """
 
 from __future__ import annotations
@@ -55,20 +59,26 @@ FIELDS = {
     "breakdown_set": ("label", "thickness_m", "area_m2", "temperature_K", "waveform", "ramp_V_per_s", "file_name",
                       "sha256", "created_at"),
     "loop": ("label", "temperature_K", "frequency_Hz", "thickness_m", "file_name", "sha256", "created_at"),
+    "endurance_set": ("label", "stress_kind", "thickness_m", "area_m2", "temperature_K", "file_name", "sha256",
+                      "created_at"),
     "value": ("property", "value", "low", "high", "temperature_K", "frequency_Hz", "field_V_per_m", "thickness_m",
               "area_m2", "note", "created_at", "retired_at", "retired_reason"),
 }
 POINT_COLUMNS = {
     "breakdown_set": ("seq", "field_V_per_m", "censored", "thickness_m"),
     "loop": ("seq", "field_V_per_m", "polarization_C_per_m2"),
+    "endurance_set": ("seq", "time_s", "stress", "temperature_K", "censored"),
 }
 TABLES = {"meta": "meta", "source": "source", "material": "material", "breakdown_set": "breakdown_set",
-          "loop": "loop", "value": "property_value"}
-POINT_TABLES = {"breakdown_set": ("breakdown_point", "set_id"), "loop": ("loop_point", "loop_id")}
+          "loop": "loop", "endurance_set": "endurance_set", "value": "property_value"}
+POINT_TABLES = {"breakdown_set": ("breakdown_point", "set_id"), "loop": ("loop_point", "loop_id"),
+                "endurance_set": ("endurance_point", "set_id")}
+#: Sets and loops: records with points, named by material and label.
+_OWNERS = ("breakdown_set", "loop", "endurance_set")
 # Foreign-key columns and how a record names what they point to.
 REFERENCES = {"material_id": "material", "source_id": "source", "breakdown_set_id": "breakdown_set",
-              "loop_id": "loop"}
-_ORDER = ("meta", "source", "material", "breakdown_set", "loop", "value")
+              "loop_id": "loop", "endurance_set_id": "endurance_set"}
+_ORDER = ("meta", "source", "material", *_OWNERS, "value")
 _BATCH = 5000
 
 
@@ -132,7 +142,7 @@ def _records(conn):
             yield {"type": kind, **{f: _out(r[f]) for f in FIELDS[kind]}}
     mat, src = keys["material"], keys["source"]
     labels = {}
-    for kind in ("breakdown_set", "loop"):
+    for kind in _OWNERS:
         tab = t[TABLES[kind]]
         ptab, fk = POINT_TABLES[kind]
         ptab = t[ptab]
@@ -150,8 +160,7 @@ def _records(conn):
     rows = conn.execute(select(tab).order_by(tab.c.id)).mappings().all()
     for r in sorted(rows, key=lambda r: mat[r["material_id"]]):  # stable: keeps the stored order within a material
         yield {"type": "value", "material": mat[r["material_id"]], "source": src[r["source_id"]],
-               "breakdown_set": labels["breakdown_set"].get(r["breakdown_set_id"]),
-               "loop": labels["loop"].get(r["loop_id"]), **{f: _out(r[f]) for f in FIELDS["value"]}}
+               **{k: labels[k].get(r[f"{k}_id"]) for k in _OWNERS}, **{f: _out(r[f]) for f in FIELDS["value"]}}
 
 
 def dump_store(store, path, *, force: bool = False) -> int:
@@ -196,10 +205,11 @@ class _Loader:
 
         self.conn, self.file = conn, file
         self.tables = Base.metadata.tables
-        self.ids = {k: {} for k in ("source", "material", "breakdown_set", "loop")}
-        self.next_id = {k: 1 for k in ("source", "material", "breakdown_set", "loop", "value")}
+        self.ids = {k: {} for k in ("source", "material", *_OWNERS)}
+        self.next_id = {k: 1 for k in ("source", "material", *_OWNERS, "value")}
         self.pending = {name: [] for name in ("meta", "source", "material", "breakdown_set", "breakdown_point",
-                                              "loop", "loop_point", "property_value")}
+                                              "loop", "loop_point", "endurance_set", "endurance_point",
+                                              "property_value")}
         self.size = 0
         self.last = -1
         self.line = 0
@@ -254,7 +264,7 @@ class _Loader:
             row.update(id=self._new_id(kind), material_id=material,
                        source_id=self._ref("source", rec.get("source"), "source"))
             if kind == "value":
-                for ref in ("breakdown_set", "loop"):
+                for ref in _OWNERS:
                     label = rec.get(ref)
                     row[f"{ref}_id"] = None if label is None else self._ref(ref, (material, label), ref)
             else:
@@ -311,7 +321,7 @@ def _reset_sequences(conn) -> None:
     """PostgreSQL hands out ids from sequences; move them past the ids the bundle set explicitly."""
     from sqlalchemy import text
 
-    for table in ("source", "material", "breakdown_set", "loop", "property_value"):
+    for table in ("source", "material", *_OWNERS, "property_value"):
         conn.execute(text(f"SELECT setval(pg_get_serial_sequence('{table}', 'id'), "
                           f"COALESCE((SELECT max(id) FROM {table}), 0) + 1, false)"))
 

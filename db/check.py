@@ -15,7 +15,8 @@ def check_store(store) -> list[Finding]:
     """Every problem found, errors first. An empty list means the store is sound."""
     from sqlalchemy import func, select, text
 
-    from db.models import BreakdownPoint, BreakdownSet, Loop, LoopPoint, Material, PropertyValue, Source
+    from db.models import (BreakdownPoint, BreakdownSet, EndurancePoint, EnduranceSet, Loop, LoopPoint, Material,
+                           PropertyValue, Source)
     from materials.properties import PROPERTIES, check_plausible, outside_range
 
     out: list[Finding] = []
@@ -51,16 +52,18 @@ def check_store(store) -> list[Finding]:
             if outside_range(value, low, high):
                 out.append(Finding("error", f"value #{vid} of {keys.get(mid)}: value outside its low…high range"))
         for label, model, pmodel, fk in (("breakdown set", BreakdownSet, BreakdownPoint, BreakdownPoint.set_id),
-                                         ("loop", Loop, LoopPoint, LoopPoint.loop_id)):
+                                         ("loop", Loop, LoopPoint, LoopPoint.loop_id),
+                                         ("endurance set", EnduranceSet, EndurancePoint, EndurancePoint.set_id)):
             empty = s.execute(select(model.label).outerjoin(pmodel, fk == model.id).group_by(model.id, model.label)
                               .having(func.count(fk) == 0)).scalars().all()
             out += [Finding("error", f"{label} '{lab}' has no points") for lab in empty]
         unused = s.execute(select(Source.key).outerjoin(PropertyValue, PropertyValue.source_id == Source.id)
                            .outerjoin(BreakdownSet, BreakdownSet.source_id == Source.id)
                            .outerjoin(Loop, Loop.source_id == Source.id)
+                           .outerjoin(EnduranceSet, EnduranceSet.source_id == Source.id)
                            .group_by(Source.id, Source.key)
                            .having((func.count(PropertyValue.id) + func.count(BreakdownSet.id)
-                                    + func.count(Loop.id)) == 0)).scalars().all()
+                                    + func.count(Loop.id) + func.count(EnduranceSet.id)) == 0)).scalars().all()
         out += [Finding("warning", f"source '{k}' is cited by no value") for k in unused]
     from db.store import catalog_is_current
 

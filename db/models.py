@@ -148,6 +148,44 @@ class LoopPoint(Base):
     loop: Mapped[Loop] = relationship(back_populates="points")
 
 
+class EnduranceSet(Base):
+    """One lab endurance (life) test: units of one material held at constant stress until they fail or the test
+    stops. The stress is a voltage (V) or a field (V/m), as ``stress_kind`` says."""
+
+    __tablename__ = "endurance_set"
+    __table_args__ = (CheckConstraint("stress_kind IN ('voltage', 'field')", name="stress_kind"),
+                      UniqueConstraint("material_id", "label", name="uq_endurance_set_material_label"))
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    material_id: Mapped[int] = mapped_column(ForeignKey("material.id", ondelete="CASCADE"))
+    label: Mapped[str] = mapped_column(String(400))
+    stress_kind: Mapped[str] = mapped_column(String(16), default="voltage")
+    thickness_m: Mapped[float | None] = mapped_column(Float)
+    area_m2: Mapped[float | None] = mapped_column(Float, doc="electrode area, m²")
+    temperature_K: Mapped[float | None] = mapped_column(Float, doc="set temperature when every unit shares one")
+    source_id: Mapped[int] = mapped_column(ForeignKey("source.id"))
+    file_name: Mapped[str] = mapped_column(Text, default="")
+    sha256: Mapped[str] = mapped_column(String(64), index=True)
+    created_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utcnow)
+
+    points: Mapped[list[EndurancePoint]] = relationship(back_populates="set", cascade="all, delete-orphan",
+                                                        order_by="EndurancePoint.seq", passive_deletes=True)
+    source: Mapped[Source] = relationship()
+
+
+class EndurancePoint(Base):
+    """One unit of an endurance set: time to failure (or to the end of the test when ``censored``), in s."""
+
+    __tablename__ = "endurance_point"
+    set_id: Mapped[int] = mapped_column(ForeignKey("endurance_set.id", ondelete="CASCADE"), primary_key=True)
+    seq: Mapped[int] = mapped_column(Integer, primary_key=True)
+    time_s: Mapped[float] = mapped_column(Float)
+    stress: Mapped[float] = mapped_column(Float, doc="V, or V/m for a field set")
+    temperature_K: Mapped[float | None] = mapped_column(Float)
+    censored: Mapped[bool] = mapped_column(Boolean, default=False)
+
+    set: Mapped[EnduranceSet] = relationship(back_populates="points")
+
+
 class PropertyValue(Base):
     """One value of one property of one material, SI, with its conditions and its source.
 
@@ -183,6 +221,9 @@ class PropertyValue(Base):
     created_at: Mapped[dt.datetime] = mapped_column(DateTime, default=utcnow)
     retired_at: Mapped[dt.datetime | None] = mapped_column(DateTime)
     retired_reason: Mapped[str | None] = mapped_column(Text)
+    # Last, as revision 0004 added it: a life_exponent or activation_energy fitted from an endurance set.
+    endurance_set_id: Mapped[int | None] = mapped_column(ForeignKey("endurance_set.id", ondelete="CASCADE"),
+                                                         index=True)
 
     material: Mapped[Material] = relationship(back_populates="values")
     source: Mapped[Source] = relationship()

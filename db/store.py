@@ -11,7 +11,7 @@ from db.building import write_catalog  # noqa: F401  (imported from here by othe
 from db.bulk import bulk_insert  # noqa: F401  (imported from here by other modules)
 from materials.errors import StoreError
 
-SCHEMA_REVISION = "0003"  # the newest migration in db/migrations/versions
+SCHEMA_REVISION = "0004"  # the newest migration in db/migrations/versions
 
 
 @dataclass

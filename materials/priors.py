@@ -82,7 +82,52 @@ def sources() -> dict[str, dict]:
     out[STRESSED_VOLUME[0]] = {"kind": "common-practice", "citation": STRESSED_VOLUME[1]}
     out[LIQUID_TEST_GAP.source] = {"kind": "common-practice", "citation": LIQUID_TEST_GAP.citation}
     out[COLD_HOLD[0]] = {"kind": "paper", "citation": COLD_HOLD[1]}
+    for p in (*LIFE_EXPONENT.values(), RAMP_TIME):
+        out[p.source] = {"kind": _LIFE_KINDS[p.source], "citation": p.citation}
     return out
+
+
+# --- life ------------------------------------------------------------------------------------------------------
+
+#: Exponent n of the inverse power law of life (L ∝ E^−n) where a material has no stored ``life_exponent``.
+_CERAMIC_LIFE = Prior(3.0, 2.0, 5.0, "common-practice-life-exponent-ceramics",
+                      "Trade knowledge: voltage-acceleration exponents of ceramic capacitor life tests of about 2 to "
+                      "5; n = 3 is the 8:1 acceleration at 200 % of rated voltage of MIL-PRF-123 §1.1 (wide prior, not "
+                      "a measurement)")
+_FILM_LIFE = Prior(8.0, 5.0, 12.0, "recollection-life-exponent-films",
+                   "Remembered, unchecked: voltage exponents of polymer film capacitor life models of about 5 to 12 "
+                   "(wide prior, not a measurement)")
+_SOLID_LIFE = Prior(6.0, 3.0, 12.0, "recollection-life-exponent-solids",
+                    "Remembered, unchecked: inverse-power-law exponents of voltage endurance of glass, mica, oxide "
+                    "and composite insulation of about 3 to 12 (wide prior, not a measurement)")
+LIFE_EXPONENT = {"polymer-film": _FILM_LIFE, "ceramic-class-1": _CERAMIC_LIFE, "ceramic-class-2": _CERAMIC_LIFE,
+                 "ceramic-bulk": _CERAMIC_LIFE, "glass": _SOLID_LIFE, "mica": _SOLID_LIFE, "oxide-film": _SOLID_LIFE,
+                 "composite": _SOLID_LIFE}
+#: Families without a solid's life law (a gas or liquid gap does not age as a solid does): life is not judged.
+NO_LIFE_LAW = ("gas", "liquid")
+#: Time a short-time (ramp) breakdown test takes to reach breakdown, s: the rate of rise is chosen so that
+#: breakdown falls between 10 s and 20 s. Converts a stored short-term breakdown value into a constant-stress life.
+RAMP_TIME = Prior(15.0, 10.0, 20.0, "standard-iec-60243-1-short-time-test",
+                  "IEC 60243-1, Electric strength of insulating materials - Test methods - Part 1: Tests at power "
+                  "frequencies, short-time (rapid-rise) test: voltage raised from zero at a uniform rate such that "
+                  "breakdown occurs between 10 s and 20 s after the start")
+_LIFE_KINDS = {_CERAMIC_LIFE.source: "common-practice", _FILM_LIFE.source: "recollection",
+               _SOLID_LIFE.source: "recollection", RAMP_TIME.source: "standard"}
+
+
+def life_priors(families) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[str]]:
+    """Typical, low and high assumed life exponent of each family (NaN: no life law), and the source key."""
+    ps = [None if f in NO_LIFE_LAW else LIFE_EXPONENT.get(f, _SOLID_LIFE) for f in families]
+    nan = float("nan")
+    return (np.array([p.typical if p else nan for p in ps], dtype=float),
+            np.array([p.low if p else nan for p in ps], dtype=float),
+            np.array([p.high if p else nan for p in ps], dtype=float), [p.source if p else "" for p in ps])
+
+
+def assumed_life_note(value: float, source: str) -> str:
+    """The words for an assumed life exponent."""
+    p = next(p for p in LIFE_EXPONENT.values() if p.source == source)
+    return f"life_exponent not in the data: n = {value:g} assumed (range {p.low:g}–{p.high:g}, {p.source})"
 
 
 def assumed_shape_note(value: float, prior: Prior) -> str:

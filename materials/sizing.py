@@ -52,7 +52,7 @@ class SizingResult:
         failure_probability: Weibull failure probability at the operating field over the active area.
         limited_by: "breakdown" or "min_thickness".
         iterations: root-finder iterations (0 for the closed-form linear solution).
-        dissipated_power_W: I²·ESR with ESR = tanδ/(ωC), None without a ripple current.
+        dissipated_power_W: Σ I²·(R_s + tanδ/(ωC)) over the ripple harmonics, None without a ripple current.
         notes: remarks on assumptions and limits.
         small_signal_capacitance_F: ε0·εr,diff(V/d)·A/d (equal to capacitance_F for a linear material).
         energy_density_J_per_m3: energy_J / volume_m3.
@@ -142,7 +142,8 @@ def _design_constant(scale, shape, test_area, p, margin):
     return math.log(scale) + (math.log(-math.log1p(-p)) + math.log(test_area)) / shape - math.log(margin)
 
 
-def _ripple_power(capacitance, loss_tangent, ripple_current, frequency):
+def _ripple_power(capacitance, loss_tangent, ripple_current, frequency, series_resistance=0.0):
+    """Power (W) one ripple harmonic dissipates: ``I²·(R_s + tan δ/(ω·C))`` (dielectric and metal)."""
     if ripple_current is None:
         return None
     missing = [n for n, v in (("loss_tangent", loss_tangent), ("frequency_Hz", frequency)) if v is None]
@@ -154,13 +155,13 @@ def _ripple_power(capacitance, loss_tangent, ripple_current, frequency):
     tand = float(loss_tangent)
     if not (math.isfinite(tand) and tand >= 0):
         raise InputError("loss tangent must be a non-negative number", field="loss_tangent")
-    esr = tand / (2.0 * math.pi * _positive("frequency_Hz", frequency) * capacitance)
+    esr = series_resistance + tand / (2.0 * math.pi * _positive("frequency_Hz", frequency) * capacitance)
     return i * i * esr
 
 
 def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, shape, test_area, log_k,
             limited_by, iterations, density, loss_tangent, ripple, frequency, notes,
-            segment_area=None) -> SizingResult:
+            segment_area=None, series_resistance=0.0) -> SizingResult:
     e_op = voltage / d
     volume = area * d
     capacitance = charge_per_m2 * area / voltage
@@ -181,7 +182,7 @@ def _finish(*, d, area, voltage, charge_per_m2, energy, small_signal, scale, sha
         failure_probability=failure,
         limited_by=limited_by,
         iterations=iterations,
-        dissipated_power_W=_ripple_power(small_signal, loss_tangent, ripple, frequency),
+        dissipated_power_W=_ripple_power(small_signal, loss_tangent, ripple, frequency, series_resistance),
         notes=tuple(notes),
         small_signal_capacitance_F=small_signal,
         energy_density_J_per_m3=energy / volume,

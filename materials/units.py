@@ -38,6 +38,9 @@ SI_UNITS = {
     "1/(Pa m)": "1 / pascal / meter",
     "V/(Pa m)": "volt / pascal / meter",
     "Pa": "pascal",
+    "s": "second",
+    "ohm": "ohm",
+    "K/W": "kelvin / watt",
 }
 
 # Typed spellings rewritten to pint's before any lookup, in this order. tests/test_units.py converts every form
@@ -223,6 +226,10 @@ CLI_DEFAULTS = {
     "current": ("A", "A"),
     "ramp": ("V/s", "V/s"),
     "pressure": ("kPa", "Pa"),
+    "capacitance": ("uF", "F"),
+    "time": ("h", "s"),
+    "resistance": ("ohm", "ohm"),
+    "thermal_resistance": ("K/W", "K/W"),
 }
 
 

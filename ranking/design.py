@@ -88,9 +88,10 @@ def small_signal_permittivity(inp: Inputs, idx, e_V_per_m) -> np.ndarray:
 MAX_SECTIONS = 64
 
 
-def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> dict:
+def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live, log_k=None) -> dict:
     """The design of every candidate for one Weibull shape and test area per row: a fixed layer (checked against
-    its design field), a self-consistent size for the target energy, or the design field alone.
+    its design field), a self-consistent size for the target energy, or the design field alone. ``log_k`` (per
+    row) replaces the short-term constant ``ln K`` of ``E_d = K·A^(−1/β)`` by another law of that form (life).
 
     A material that can only be made up to a thickest single layer ``d_max`` (anodic oxides by their forming
     voltage, MLCC layers, film gauges) and whose design needs more is either refused ("thicker-than-made") or, where
@@ -101,7 +102,8 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     """
     m = inp.reader.m
     n_sec = np.ones(m)
-    des = _design_once(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live, n_sec=n_sec)
+    des = _design_once(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg, live=live, n_sec=n_sec,
+                       log_k=log_k)
     d_max = inp.d_max
     has_dmax = np.isfinite(d_max)
     allowed = int(min(max(int(getattr(target, "max_sections", 1) or 1), 1), MAX_SECTIONS))
@@ -114,7 +116,7 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
                 break
             n_sec = np.where(grow, need, n_sec)
             new = _design_once(inp, target, thickness_m, beta=beta, test_area=test_area, seg=seg,
-                               live=live & grow, n_sec=n_sec)
+                               live=live & grow, n_sec=n_sec, log_k=log_k)
             des = {k: (np.where(grow, new[k], v) if isinstance(v, np.ndarray) and v.shape == (m,) else v)
                    for k, v in des.items()}
     with np.errstate(invalid="ignore"):
@@ -124,7 +126,7 @@ def _design(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live) -> 
     return des
 
 
-def _design_once(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live, n_sec) -> dict:
+def _design_once(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live, n_sec, log_k=None) -> dict:
     """:func:`_design` for a given number of series sections per row."""
     m = inp.reader.m
     everyone = inp.everyone
@@ -140,7 +142,8 @@ def _design_once(inp: Inputs, target, thickness_m, *, beta, test_area, seg, live
     log_d0 = np.where(has_law, np.log(np.where(has_law, inp.test_thickness, 1.0)), 0.0)
     log_v = np.log(V)
     with np.errstate(all="ignore"):
-        log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
+        if log_k is None:
+            log_k = np.log(inp.ebd_v) + (np.log(-np.log1p(-p)) + np.log(test_area)) / beta - np.log(margin)
         # n series sections: the weakest link spans n·A, and the thickness law reads the section, d/n.
         log_n = np.log(n_sec)
         log_k = log_k - log_n / beta + nn * log_n

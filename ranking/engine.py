@@ -36,6 +36,7 @@ from materials.table import ValueTable
 from ranking.design import (  # noqa: F401 - the design rules and energy models, re-exported
     BIAS, LINEAR, LOOP, MAX_AREA_M2, METHOD_NAMES, THICKNESS_FACTOR, TOL, UPPER_BOUND, _design, charge_density,
     energy_density, small_signal_permittivity)
+from ranking.service import b_life_at, design_for_service
 
 
 @dataclass
@@ -56,17 +57,19 @@ class Inputs:
 
 def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, frequency_Hz: float | None = None,
                  assume_defaults: bool = False) -> Inputs:
-    """The worst case of every material over the range (see the module docstring)."""
+    """The worst case of every material over the range (see the module docstring). ``tmax_K`` may be one per
+    material (a hot spot above the target's range)."""
     r = table if isinstance(table, Reader) else Reader(table)
     t, m, mat = r.t, r.m, r.mat
     everyone = np.arange(m)
     P: dict = {}
+    top = np.broadcast_to(np.asarray(tmax_K, dtype=float), (m,))
     # The grid: both ends and every εr / breakdown / loss point strictly inside (any of their rows counts).
-    pts_m, pts_t = [everyone, everyone], [np.full(m, float(tmin_K)), np.full(m, float(tmax_K))]
+    pts_m, pts_t = [everyone, everyone], [np.full(m, float(tmin_K)), top.copy()]
     for prop in ("relative_permittivity", "breakdown_field", "loss_tangent"):
         rows = r.rows_of(prop)
         tt = t.temperature_K[rows]
-        inner = (tt > tmin_K) & (tt < tmax_K)
+        inner = (tt > tmin_K) & (tt < top[mat[rows]])
         pts_m.append(mat[rows][inner])
         pts_t.append(tt[inner])
     gm, gt = np.concatenate(pts_m), np.concatenate(pts_t)
@@ -126,12 +129,12 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     # Energy models: a DC-bias curve at the worst-permittivity temperature; else a nonlinear material's loop.
     eps_at_worst = _Pick(eps_g, c_eps)
     bias = bias_curves(r, t_eps, eps_at_worst)
-    t_loop, loop_lo, loop_hi = _worst_loop_temperature(r, tmin_K, tmax_K)
+    t_loop, loop_lo, loop_hi = _worst_loop_temperature(r, tmin_K, top)
     loops = bias_curves(r, t_loop, _Zero(m), prop="recoverable_energy_density", scale=False)
     nonlinear = np.array([x != "linear" for x in t.responses], dtype=bool)
     kind = np.where(bias.has, BIAS, np.where(nonlinear, np.where(loops.has, LOOP, UPPER_BOUND), LINEAR))
     tol = 1e-6
-    loop_out = (kind == LOOP) & np.isfinite(loop_lo) & ((tmin_K < loop_lo - tol) | (tmax_K > loop_hi + tol))
+    loop_out = (kind == LOOP) & np.isfinite(loop_lo) & ((tmin_K < loop_lo - tol) | (top > loop_hi + tol))
     # Capacitance drift over temperature: an εr curve, else stated capacitance changes inside the range.
     small = r.rows_of("relative_permittivity")
     small = small[np.isnan(t.field_V_per_m[small]) | (t.field_V_per_m[small] == 0)]
@@ -141,7 +144,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         d_t_eps = grid(np.abs(eps_g.value / ref.value[gm] - 1), -np.inf).max(axis=1)
     cc = r.rows_of("capacitance_change")
     ct, ce = t.temperature_K[cc], t.field_V_per_m[cc]
-    cc = cc[np.isfinite(ct) & (ct >= tmin_K - 1e-6) & (ct <= tmax_K + 1e-6) & (np.isnan(ce) | (ce == 0))]
+    cc = cc[np.isfinite(ct) & (ct >= tmin_K - 1e-6) & (ct <= top[mat[cc]] + 1e-6) & (np.isnan(ce) | (ce == 0))]
     d_t_cc = np.full(m, -np.inf)
     np.maximum.at(d_t_cc, mat[cc], np.abs(t.value[cc]))
     P.update(
@@ -174,6 +177,23 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
     return Inputs(reader=r, tmin_K=tmin_K, tmax_K=tmax_K, parts=P)
 
 
+def inputs_for(table: ValueTable | Reader, target) -> Inputs:
+    """:func:`worst_inputs` for a target: over ``tmin … max(tmax, hot spot)`` when a ripple current heats the
+    part, with the hot spot (:func:`ranking.service.hot_spots`) and the life exponents
+    (:func:`ranking.service.life_exponents`) of every material among the parts (``heat``, ``life``)."""
+    from ranking import service
+
+    r = table if isinstance(table, Reader) else Reader(table)
+    heat = service.hot_spots(r, target) if target.ripple else None
+    top = target.tmax_K if heat is None else np.fmax(target.tmax_K, np.where(heat["steady"], heat["temperature_K"],
+                                                                             target.tmax_K))
+    inp = worst_inputs(r, tmin_K=target.tmin_K, tmax_K=top, frequency_Hz=target.frequency_Hz,
+                       assume_defaults=target.assume_defaults)
+    inp.parts["heat"] = heat
+    inp.parts["life"] = service.life_exponents(r, r.t.families) if target.life_s is not None else None
+    return inp
+
+
 def _worst_loop_temperature(r: Reader, tmin_K: float, tmax_K: float):
     """Per material, the temperature of the loop data to use over ``tmin_K…tmax_K`` and the span of temperatures
     its loops state (NaN where none is stated).
@@ -181,6 +201,7 @@ def _worst_loop_temperature(r: Reader, tmin_K: float, tmax_K: float):
     Loops measured at several temperatures: the weakest of those inside the range — the lowest recoverable energy
     per squared field at its largest field, ``u_max/E_max²`` — else the stated temperature nearest the range."""
     t, m = r.t, r.m
+    tmax_K = np.broadcast_to(np.asarray(tmax_K, dtype=float), (m,))
     code = t.code("recoverable_energy_density")
     t_loop, lo, hi = np.full(m, np.nan), np.full(m, np.nan), np.full(m, np.nan)
     if code < 0:
@@ -199,8 +220,9 @@ def _worst_loop_temperature(r: Reader, tmin_K: float, tmax_K: float):
     last[:-1] = (rm[1:] != rm[:-1]) | (rt[1:] != rt[:-1])
     rm, rt, metric = rm[last], rt[last], u[last] / (e[last] * e[last])
     tol = 1e-6
-    inside = (rt >= tmin_K - tol) & (rt <= tmax_K + tol)
-    gap = np.where(inside, 0.0, np.minimum(np.abs(rt - tmin_K), np.abs(rt - tmax_K)))
+    top = tmax_K[rm]
+    inside = (rt >= tmin_K - tol) & (rt <= top + tol)
+    gap = np.where(inside, 0.0, np.minimum(np.abs(rt - tmin_K), np.abs(rt - top)))
     # inside the range the weakest loop first; else the nearest temperature
     o = np.lexsort((rt, np.where(inside, metric, 0.0), gap, rm))
     first = np.ones(o.size, dtype=bool)
@@ -244,12 +266,13 @@ STAGES = (
     ("family",),
     ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min",
      "permittivity-missing", "breakdown-missing", "nonlinear-no-data"),
-    ("shape-missing",),
+    ("shape-missing", "life-exponent-missing"),
     ("test-area-missing",),
     ("value-invalid",),
-    ("shape-too-low",),
+    ("heat-unknown", "thermal-runaway", "hot-spot-over-rating"),
+    ("shape-too-low", "life-no-size"),
     ("thinner-than-made", "thicker-than-made"),
-    ("over-design-field", "no-size", "area-impractical", "above-loop"),
+    ("over-design-field", "no-size", "area-impractical", "above-loop", "life-short"),
     ("outside-data",),
     ("energy-short", "loss-over", "loss-missing"),
 )
@@ -273,9 +296,7 @@ class Columns:
 def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns:
     """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`); ``thickness_m``
     fixes the layer: one thickness for all, or one per material (a stack's layers)."""
-    inp = table if isinstance(table, Inputs) else worst_inputs(
-        table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
-        assume_defaults=target.assume_defaults)
+    inp = table if isinstance(table, Inputs) else inputs_for(table, target)
     t, m = inp.reader.t, inp.reader.m
     everyone = inp.everyone
     fails: dict[str, np.ndarray] = {}
@@ -292,6 +313,9 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
     fails["nonlinear-no-data"] = inp.kind == UPPER_BOUND
     fails["shape-missing"] = ~inp.shape_found & (not target.assume_defaults)
     fails["test-area-missing"] = ~inp.area_found & (not target.assume_defaults)
+    lf = inp.parts.get("life")
+    fails["life-exponent-missing"] = (np.isfinite(lf["n"]) & ~lf["found"] & (not target.assume_defaults)
+                                      if lf is not None else no)
     eps_v, ebd_v, beta, test_area = inp.eps_v, inp.ebd_v, inp.beta, inp.test_area
     d_min, density = inp.d_min, inp.density
     fails["value-invalid"] = ~((eps_v > 0) & (ebd_v > 0) & (beta > 0) & (test_area > 0) & ~(d_min <= 0)
@@ -310,11 +334,14 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
     beta_eff = beta * (1.0 - np.where(has_law, inp.law_n, 0.0))   # a thickness law weakens the self-consistency
     fails["shape-too-low"] = (beta_eff <= 1) & sizing & ~np.isfinite(link_fixed)
     live = inp.eps_has & inp.ebd_has & ~fails["value-invalid"] & ~fails["shape-too-low"] & (inp.kind != UPPER_BOUND)
-    des = _design(inp, target, thickness_m, beta=beta, test_area=test_area, seg=link_fixed, live=live)
+    heat, life = inp.parts.get("heat"), inp.parts.get("life")
+    fails.update(_heat_fails(inp, heat, no))
+    des = design_for_service(inp, target, thickness_m, beta=beta, test_area=test_area, seg=link_fixed, live=live)
     d, area, ed, e_op, u_op, its, log_k = (des[k] for k in ("d", "area", "ed", "e_op", "u_op", "its", "log_k"))
     scale_d = des["scale_d"]
-    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical", "thicker-than-made"):
-        fails[code] = des[code]
+    for code in ("thinner-than-made", "over-design-field", "no-size", "area-impractical", "thicker-than-made",
+                 "life-short", "life-no-size"):
+        fails[code] = des.get(code, no)
     sections, layer_d = des["sections"], des["layer"]
     with np.errstate(invalid="ignore"):
         fails["above-loop"] = (inp.kind == LOOP) & (e_op > inp.loop_field * (1 + TOL))
@@ -327,13 +354,15 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
     fails["outside-data"] = (inp.extrapolated | thick_out) & (not getattr(target, "extrapolate", False))
     # An assumed Weibull shape or test area is a range: the design at its pessimistic and optimistic ends bounds
     # the energy, so the Monte Carlo prices the assumption.
-    assumed = ~inp.shape_found | ~inp.area_found
+    # A life rests on a stated ramp time and, without a stored exponent, on the family's prior: assumptions too.
+    assumed = ~inp.shape_found | ~inp.area_found | (des["life_has"] if life is not None else no)
     u_ends = []
     if assumed.any():
-        for b, a in ((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi)):
-            end = _design(inp, target, thickness_m, beta=np.where(assumed, b, beta),
-                          test_area=np.where(assumed, a, test_area), seg=links(np.where(assumed, a, test_area)),
-                          live=live & assumed & (b > 1))
+        for end_i, (b, a) in enumerate(((inp.beta_lo, inp.test_area_lo), (inp.beta_hi, inp.test_area_hi))):
+            end = design_for_service(inp, target, thickness_m, beta=np.where(assumed, b, beta),
+                                     test_area=np.where(assumed, a, test_area),
+                                     seg=links(np.where(assumed, a, test_area)), live=live & assumed & (b > 1),
+                                     end=end_i)
             u_ends.append(np.where(assumed & np.isfinite(end["u_op"]), end["u_op"], u_op))
     with np.errstate(all="ignore"):
         fails["energy-short"] = (u_op < target.energy_density_J_per_m3 * (1 - TOL)
@@ -388,8 +417,26 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
     out.parts = dict(inputs=inp, target=target, thick_out=thick_out, scaled=scaled, scale_d=scale_d,
                      log_k_d=des["log_k_d"], thickness_m=thickness_m, seg=seg,
                      has_seg=has_seg, d=d, area=area, ed=ed, e_op=e_op, u_op=u_op, at_min=at_min, d_t=d_t, d_b=d_b,
-                     fail=fail, iterations=its, log_k=log_k, sections=sections, layer=layer_d)
+                     fail=fail, iterations=its, log_k=log_k, sections=sections, layer=layer_d, heat=heat,
+                     life=life,
+                     **{k: des[k] for k in ("life_has", "life_binds", "life_n", "ramp_time", "e_life") if k in des})
+    if life is not None:
+        with np.errstate(all="ignore"):
+            out.parts["b_life"] = b_life_at(field_V_per_m=e_op, scale_V_per_m=scale_d, beta=beta,
+                                            test_area_m2=test_area, area_m2=link, n=des["life_n"],
+                                            ramp_time_s=des["ramp_time"], fraction=target.life_fraction)
     return out
+
+
+def _heat_fails(inp: Inputs, heat, no) -> dict:
+    """The heat rules: no loss tangent to heat by, no steady hot spot, a hot spot above the rated maximum."""
+    if heat is None:
+        return {"heat-unknown": no, "thermal-runaway": no, "hot-spot-over-rating": no}
+    rated = inp.rated["max_temperature"]
+    with np.errstate(invalid="ignore"):
+        over = heat["steady"] & rated.present & (heat["temperature_K"] > rated.value + 1e-6)
+    return {"heat-unknown": ~heat["has_loss"], "thermal-runaway": heat["has_loss"] & ~heat["steady"],
+            "hot-spot-over-rating": heat["has_loss"] & over}
 
 
 def _confidence(inp: Inputs) -> np.ndarray:

@@ -57,7 +57,10 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
     if code == "above-loop":
         return code, {"field_V_per_m": f(P["e_op"]), "loop_V_per_m": f(inp.loop_field)}
     if code == "area-impractical":
-        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": f(inp.beta)}
+        shape = f(inp.beta)
+        if P.get("life_binds") is not None and P["life_binds"][i]:
+            shape *= f(P["life_n"]) / (f(P["life_n"]) + 1.0)   # the life law's effective shape β·n/(n+1)
+        return code, {"area_m2": f(P["area"]), "limit_m2": MAX_AREA_M2, "shape": shape}
     if code == "thinner-than-made":
         return code, {"thickness_m": P["thickness_m"], "min_thickness_m": f(inp.d_min)}
     if code == "over-design-field":
@@ -70,6 +73,20 @@ def _quote(code: str, cols: Columns, i: int) -> tuple[str, dict]:
                       "min_thickness_m": f(inp.d_min), "design_V_per_m": f(P["ed"]), "breakdown_K": f(inp.t_ebd)}
     if code == "loss-over":
         return code, {"loss": f(cols.values["loss"]), "limit": target.max_loss_tangent}
+    heat = P.get("heat")
+    if code in ("thermal-runaway", "hot-spot-over-rating"):
+        q = {"power_W": f(heat["power_ambient_W"] if code == "thermal-runaway" else heat["power_W"]),
+             "ambient_K": heat["ambient_K"], "rth_K_per_W": target.thermal_resistance_K_per_W}
+        if code == "hot-spot-over-rating":
+            q.update(hot_K=f(heat["temperature_K"]), rated_K=f(inp.rated["max_temperature"].value))
+        return code, q
+    if code == "life-no-size":
+        n = f(P["life_n"])
+        return code, {"n": n, "shape": f(inp.beta) * n / (n + 1)}
+    if code == "life-short":
+        return code, {"thickness_m": P["thickness_m"], "voltage_V": target.voltage_V, "field_V_per_m": f(P["e_op"]),
+                      "life_V_per_m": f(P["e_life"]), "life_s": target.life_s, "fraction": target.life_fraction,
+                      "n": f(P["life_n"])}
     return code, {}
 
 
@@ -101,6 +118,16 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
         return "binding-min-thickness", {"min_thickness_m": float(inp.d_min[i]),
                                          "voltage_V": P["target"].voltage_V,
                                          "field_V_per_m": float(P["e_op"][i]), "design_V_per_m": float(P["ed"][i])}
+    target = P["target"]
+    if P.get("life_binds") is not None and P["life_binds"][i]:
+        short = float(np.exp(P["log_k_d"][i] - np.log(np.where(P["has_seg"][i], P["seg"][i], P["area"][i]))
+                             / inp.beta[i]))
+        return "binding-life", {"life_s": target.life_s, "fraction": target.life_fraction,
+                                "life_V_per_m": float(P["ed"][i]), "short_V_per_m": short,
+                                "n": float(P["life_n"][i])}
+    if P.get("heat") is not None and inp.t_ebd[i] > target.tmax_K + 1e-6:
+        return "binding-heat", {"breakdown_K": float(inp.t_ebd[i]), "breakdown_V_per_m": float(inp.ebd_v[i]),
+                                "design_V_per_m": float(P["ed"][i])}
     return "binding-breakdown", {"breakdown_K": float(inp.t_ebd[i]), "breakdown_V_per_m": float(inp.ebd_v[i]),
                                  "design_V_per_m": float(P["ed"][i])}
 
@@ -150,6 +177,67 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
         out.append(words("assumed-shape", shape=float(inp.beta[i]), family=inp.reader.t.families[i]))
     if not inp.area_found[i]:
         out.append(words("assumed-test-area", area_m2=float(inp.test_area[i])))
+    return out + service_notes(cols, i)
+
+
+#: The binding limit of each binding code, in the designer's words (short-term breakdown, life, heat, thickness).
+LIMITS = {"binding-fixed": "fixed layer", "binding-min-thickness": "thickness", "binding-breakdown":
+          "short-term breakdown", "binding-life": "life", "binding-heat": "heat"}
+
+
+def service_notes(cols: Columns, i: int) -> list[str]:
+    """What candidate ``i``'s heat and life rest on: an assumed life exponent, the ramp time, a loss tangent read
+    at another frequency or held outside its temperatures."""
+    from materials.priors import RAMP_TIME
+    from ranking.service import FREQUENCY_FACTOR
+
+    P, inp = cols.parts, cols.parts["inputs"]
+    out = []
+    heat, life = P.get("heat"), P.get("life")
+    if heat is not None and heat["has_loss"][i]:
+        t = inp.reader.t
+        if heat["loss_frequency_off"][i]:
+            for (_, f), rows in zip(P["target"].ripple, heat["loss_rows"], strict=True):
+                r = int(rows[i])
+                fr = t.frequency_Hz[r] if r >= 0 else float("nan")
+                stored = f"{fr:g} Hz" if fr == fr else "no stated frequency"
+                if not (fr == fr and abs(np.log(fr / f)) <= np.log(FREQUENCY_FACTOR)):
+                    out.append(words("loss-frequency", frequency_Hz=f, stored=stored, factor=FREQUENCY_FACTOR))
+        if heat["loss_outside"][i]:
+            out.append(words("loss-outside"))
+    if life is not None and P["life_has"][i]:
+        if not life["found"][i]:
+            out.append(words("assumed-life-exponent", n=float(life["n"][i]), source=life["source"][i]))
+        out.append(words("ramp-time", t_r=RAMP_TIME.typical, low=RAMP_TIME.low, high=RAMP_TIME.high,
+                         source=RAMP_TIME.source))
+    return out
+
+
+#: The service figures of a design (SI), as :func:`service_details` returns them.
+SERVICE_KEYS = ("hot_spot_K", "dissipated_power_W", "runaway_margin", "loss_tangent_hot", "capacitance_F",
+                "life_exponent", "life_exponent_assumed", "b_life_s", "life_field_V_per_m", "life_fraction",
+                "binding_limit", "device_energy_density_J_per_m3")
+
+
+def service_details(cols: Columns, i: int) -> dict:
+    """Candidate ``i``'s service figures (SI): hot spot, losses, margin to runaway, B-life at the operating point,
+    the life design field, and the binding limit."""
+    P = cols.parts
+    heat, life, target = P.get("heat"), P.get("life"), P["target"]
+    out = {}
+    if heat is not None:
+        m = float(heat["runaway_margin"][i])
+        out.update(hot_spot_K=float(heat["temperature_K"][i]), dissipated_power_W=float(heat["power_W"][i]),
+                   runaway_margin=m if np.isfinite(m) else None, loss_tangent_hot=float(heat["tan_delta"][i]),
+                   capacitance_F=float(heat["capacitance_F"][i]))
+    if life is not None and P["life_has"][i]:
+        out.update(life_exponent=float(P["life_n"][i]), life_exponent_assumed=not bool(life["found"][i]),
+                   b_life_s=float(P["b_life"][i]), life_field_V_per_m=float(P["e_life"][i]),
+                   life_fraction=target.life_fraction)
+    if out:
+        out["binding_limit"] = LIMITS[binding(cols, i)[0]]
+    if target.packing_factor is not None:
+        out["device_energy_density_J_per_m3"] = float(P["u_op"][i]) * target.packing_factor
     return out
 
 
@@ -200,7 +288,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         if lk.present[i]:
             ev.details[prop + "_K"] = float(lk.value[i])
     if ev.codes and ev.codes[0][0] in ("family", "rated-missing", "rated-outside", "property-missing",
-                                       "nonlinear-no-data", "shape-missing", "test-area-missing"):
+                                       "nonlinear-no-data", "shape-missing", "test-area-missing",
+                                       "life-exponent-missing"):
         return ev
     src, kinds = t.source, t.source_kinds
 
@@ -258,6 +347,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("no-area-scaling")
     code, q = binding(cols, i)
     ev.binding = words(code, **q)
+    if P["sections"][i] > 1:
+        ev.binding += ", " + words("binding-sections", sections=float(P["sections"][i]), layer_m=float(P["layer"][i]))
     for name in CRITERIA_NAMES:
         v = float(cols.values[name][i])
         if v == v:
@@ -275,6 +366,27 @@ def explain(cols: Columns, i: int) -> Evaluation:
     if thickness_m is None and area == area:
         ev.details["failure_probability"] = float(P["fail"][i])
     ev.details["assumptions"] = assumption_notes(cols, i)
+    ev.details.update(service_details(cols, i))
+    life, heat = P.get("life"), P.get("heat")
+    if life is not None and P["life_has"][i]:
+        lk = life["lk"]
+        if life["found"][i]:
+            add("energy", lk.used0[i], lk.used1[i])
+            add("volume", lk.used0[i], lk.used1[i])
+        else:
+            ev.flags.append("assumed-life-exponent")
+        from materials.priors import RAMP_TIME
+
+        for name in ("energy", "volume", "mass"):
+            lst = ev.sources.setdefault(name, [])
+            lst.extend(k for k in ([RAMP_TIME.source] + ([life["source"][i]] if not life["found"][i] else []))
+                       if k not in lst)
+    if heat is not None:
+        add("loss", *[rows[i] for rows in heat["loss_rows"]])
+        if heat["loss_frequency_off"][i]:
+            ev.flags.append("loss-frequency")
+        if heat["loss_outside"][i]:
+            ev.flags.append("loss-extrapolated")
     if inp.has_loss[i]:
         c_loss = inp.c_loss[i]
         add("loss", inp.ls.used0[c_loss], inp.ls.used1[c_loss])

@@ -9,31 +9,51 @@ from materials.records import MaterialData
 _RATED = ("rated-missing-max", "rated-outside-max", "rated-missing-min", "rated-outside-min")
 
 
-def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, tmin_K: float, tmax_K: float,
-                  failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
-                  frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None, strict: bool = False,
-                  extrapolate: bool = False, max_sections: int = 1) -> dict:
-    """Size ``material`` for ``energy_J`` at ``voltage_V`` over ``tmin_K…tmax_K``: the ``size`` JSON contract.
+def size_material(material: MaterialData, *, energy_J: float | None = None, voltage_V: float, tmin_K: float,
+                  tmax_K: float, failure_probability: float = 0.01, margin: float = 1.0, ripple_current_A=None,
+                  frequency_Hz=None, assume_defaults: bool = False, segment_area_m2=None, capacitance_F=None,
+                  ripple=(), series_resistance_ohm: float = 0.0, thermal_resistance_K_per_W=None, ambient_K=None,
+                  life_s=None, life_fraction: float = 0.01, packing_factor: float | None = None,
+                  strict: bool = False, extrapolate: bool = False, max_sections: int = 1) -> dict:
+    """Size ``material`` for ``energy_J`` (or ``capacitance_F``) at ``voltage_V`` over ``tmin_K…tmax_K``: the
+    ``size`` JSON contract.
 
     The rules are the shortlist's (:func:`ranking.engine.evaluate` on a table of one row): a rated range that does
     not cover the target is noted, not refused; anything else that excludes the material is an error naming it.
+    A ripple current (one, ``ripple_current_A`` at ``frequency_Hz``, or a spectrum ``ripple`` of (A, Hz)) is
+    dissipated in the series resistance and the dielectric; with a thermal resistance the part is designed at its
+    hot spot (:mod:`ranking.service`), and with ``life_s`` for its service life. ``packing_factor`` (dielectric
+    volume over the part's volume) gives the device-level energy density beside the material's.
     """
     import numpy as np
 
     from materials.energy import EPSILON_0
-    from materials.sizing import CAUTION, _finish, _SEGMENT_NOTE
+    from materials.sizing import CAUTION, _finish, _ripple_power, _SEGMENT_NOTE
     from materials.table import ValueTable
     from ranking.engine import BIAS, charge_density, energy_density, evaluate, small_signal_permittivity
-    from ranking.explain import assumption_notes, reasons
+    from ranking.explain import LIMITS, assumption_notes, binding, reasons, service_details
     from ranking.reasons import words
     from ranking.target import Target
 
     if tmin_K > tmax_K:
         raise InputError("--tmin is above --tmax")
-    target = Target(voltage_V=voltage_V, tmin_K=tmin_K, tmax_K=tmax_K, energy_J=energy_J,
+    if energy_J is None and capacitance_F is None:
+        raise InputError("size needs --energy or --capacitance")
+    if ripple_current_A is not None:
+        if ripple:
+            raise InputError("give --ripple or --ripple-current, not both")
+        if frequency_Hz is None:
+            raise DataError("ripple current given but frequency_Hz missing: cannot compute the dissipation")
+        ripple = ((float(ripple_current_A), float(frequency_Hz)),)
+    heated = bool(ripple) and thermal_resistance_K_per_W is not None
+    target = Target(voltage_V=voltage_V, tmin_K=tmin_K, tmax_K=tmax_K, energy_J=energy_J, capacitance_F=capacitance_F,
                     failure_probability=failure_probability, margin=margin, segment_area_m2=segment_area_m2,
-                    frequency_Hz=frequency_Hz, assume_defaults=assume_defaults, strict=strict,
+                    frequency_Hz=frequency_Hz, assume_defaults=assume_defaults, ripple=ripple if heated else (),
+                    series_resistance_ohm=series_resistance_ohm, thermal_resistance_K_per_W=thermal_resistance_K_per_W,
+                    ambient_K=ambient_K, life_s=life_s, life_fraction=life_fraction, packing_factor=packing_factor,
+                    strict=strict,
                     extrapolate=extrapolate, max_sections=max_sections)
+    energy_J = target.energy_J
     cols = evaluate(ValueTable.from_materials([material]), target)
     notes = []
     for code, q in reasons(cols, 0):
@@ -59,10 +79,16 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
                   energy=area * d * u, small_signal=EPSILON_0 * small * area / d, scale=float(P["scale_d"][0]),
                   shape=float(inp.beta[0]), test_area=float(inp.test_area[0]), log_k=float(P["log_k_d"][0]),
                   limited_by="min_thickness" if P["at_min"][0] else "breakdown",
-                  iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=ripple_current_A,
+                  iterations=int(P["iterations"][0]), density=density, loss_tangent=loss, ripple=None,
                   frequency=frequency_Hz, notes=res_notes,
                   # the weakest link: one segment, or the area of every series section
                   segment_area=seg if seg else (area * n_sec if n_sec > 1 else None))
+    small_c = EPSILON_0 * small * area / d
+    dissipated = None
+    if heated:
+        dissipated = float(P["heat"]["power_W"][0])
+    elif ripple:
+        dissipated = sum(_ripple_power(small_c, loss, i, f, series_resistance_ohm) for i, f in ripple)
     if segment_area_m2 and not inp.heals[0]:
         notes.append(words("segment-ignored"))
     t = inp.reader.t
@@ -88,6 +114,20 @@ def size_material(material: MaterialData, *, energy_J: float, voltage_V: float, 
         from materials.priors import COLD_HOLD
 
         out["sources"].append(COLD_HOLD[0])
-    out["notes"] = notes + list(out["notes"])
+    out["notes"] = notes + list(out["notes"]) + [n for n in assumption_notes(cols, 0) if n not in res_notes]
     out["cautions"] = [CAUTION]
+    out["dissipated_power_W"] = dissipated
+    out["series_resistance_ohm"] = series_resistance_ohm
+    out["capacitance_target_F"] = capacitance_F
+    out["binding_limit"] = LIMITS[binding(cols, 0)[0]]
+    out.update(service_details(cols, 0))
+    if P.get("life_binds") is not None and P["life_binds"][0]:
+        out["design_field_V_per_m"] = float(P["ed"][0])
+        out["limited_by"] = "life"
+    if heated:
+        out["dissipated_power_W"] = dissipated
+    if P.get("life") is not None and P["life_has"][0] and not P["life"]["found"][0]:
+        flags.append("assumed-life-exponent")
+    out["packing_factor"] = packing_factor
+    out.setdefault("device_energy_density_J_per_m3", None)
     return out

@@ -8,7 +8,7 @@ here: ``git grep`` for any of them finds this file.
 from __future__ import annotations
 
 from materials.lookup import fmt_temperature as _c
-from materials.priors import assumed_area_note, assumed_shape_note, shape_prior
+from materials.priors import assumed_area_note, assumed_life_note, assumed_shape_note, shape_prior
 
 #: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
 DEFAULTS_HINT = "without --strict, or strict = true in a target file, the family's stated range is assumed"
@@ -28,6 +28,10 @@ def _vum(e: float) -> str:
     return f"{fmt_number(e / 1e6)} V/µm"
 
 
+def _h(t_s: float) -> str:
+    return f"{t_s / 3600:,.6g} h"
+
+
 TEXT = {
     # hard constraints
     "family": lambda q: f"family {q['family']} not among the target's ({', '.join(q['families'])})",
@@ -39,6 +43,8 @@ TEXT = {
                                    "computed",
     "shape-missing": lambda q: ("weibull_shape missing: breakdown cannot be scaled to the part's area "
                                 f"({DEFAULTS_HINT})"),
+    "life-exponent-missing": lambda q: ("life_exponent missing: the service life cannot be judged "
+                                        f"({DEFAULTS_HINT})"),
     "test-area-missing": lambda q: ("breakdown test electrode area not stated: cannot scale to the part's area "
                                     f"({DEFAULTS_HINT})"),
     "value-invalid": lambda q: (f"stored {q['prop']} {q['value']:.4g} (source {q['source']}) is not a positive "
@@ -65,6 +71,16 @@ TEXT = {
                                + (f" (needs a layer thinner than the {_um(q['min_thickness_m'])} that can be made)"
                                   if q['at_min'] else
                                   f" (design field {_vum(q['design_V_per_m'])}, breakdown at {_c(q['breakdown_K'])})")),
+    "heat-unknown": lambda q: "loss_tangent missing: the heating by the ripple current cannot be computed",
+    "thermal-runaway": lambda q: (f"thermal runaway: {q['power_W']:.3g} W of ripple loss at {_c(q['ambient_K'])} "
+                                  f"ambient through {q['rth_K_per_W']:g} K/W finds no steady hot spot"),
+    "hot-spot-over-rating": lambda q: (f"hot spot {_c(q['hot_K'])} ({q['power_W']:.3g} W through "
+                                       f"{q['rth_K_per_W']:g} K/W) above its rated {_c(q['rated_K'])}"),
+    "life-no-size": lambda q: (f"life law (n {q['n']:.3g}) leaves an effective Weibull shape {q['shape']:.3g}: a "
+                               "larger part loses life faster than it gains volume, so no size holds the life"),
+    "life-short": lambda q: (f"{_um(q['thickness_m'])} at {q['voltage_V']:g} V runs at {_vum(q['field_V_per_m'])}, "
+                             f"above the field {_vum(q['life_V_per_m'])} that holds {_h(q['life_s'])} at "
+                             f"{q['fraction']:g} failed (n {q['n']:.3g})"),
     "loss-over": lambda q: f"loss tangent {q['loss']:.3g} above the limit {q['limit']:.3g}",
     "loss-missing": lambda q: "loss_tangent missing (the target limits it)",
     # what binds a ranked candidate
@@ -74,6 +90,12 @@ TEXT = {
                                         f"{_vum(q['design_V_per_m'])}"),
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
+    "binding-sections": lambda q: f"as {q['sections']:g} series sections of {_um(q['layer_m'])}",
+    "binding-life": lambda q: (f"life: {_h(q['life_s'])} with {q['fraction']:.3g} failed needs "
+                               f"{_vum(q['life_V_per_m'])} (short-term design {_vum(q['short_V_per_m'])}; "
+                               f"n {q['n']:.3g})"),
+    "binding-heat": lambda q: (f"heat: breakdown at the hot spot {_c(q['breakdown_K'])} "
+                               f"({_vum(q['breakdown_V_per_m'])} → design {_vum(q['design_V_per_m'])})"),
     # notes on assumptions
     "assumed-shape": lambda q: assumed_shape_note(q["shape"], shape_prior(q["family"])),
     "assumed-test-area": lambda q: assumed_area_note(q["area_m2"]),
@@ -89,6 +111,13 @@ TEXT = {
                                     "a thickness law may carry)"),
     "thickness-scaled": lambda q: (f"breakdown carried from {_um(q['test_thickness_m'])} specimens to the "
                                    f"{_um(q['thickness_m'])} layer by E ∝ d^-n, n = {q['n']:.3g} ({q['source']})"),
+    "assumed-life-exponent": lambda q: assumed_life_note(q["n"], q["source"]),
+    "ramp-time": lambda q: (f"life from the short-term breakdown as a ramp test reaching it in {q['t_r']:g} s (range "
+                            f"{q['low']:g}–{q['high']:g} s, {q['source']}), cumulative exposure under E^-n"),
+    "loss-frequency": lambda q: (f"loss tangent for the {q['frequency_Hz']:g} Hz ripple read from data at "
+                                 f"{q['stored']} (not within a factor {q['factor']:g})"),
+    "loss-outside": lambda q: ("loss tangent at the hot spot not measured: held at the end of its data, or stated "
+                               "at no temperature"),
     "outside-data": lambda q: (f"{q['notes']}: refused ({EXTRAPOLATE_HINT})"),
     "thicker-than-made": lambda q: (
         f"needs {_um(q['thickness_m'])} of dielectric; the thickest single layer made is {_um(q['max_thickness_m'])}"

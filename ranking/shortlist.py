@@ -64,7 +64,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
     """
     from materials.table import ValueTable
     from ranking import methods as M
-    from ranking.engine import evaluate, worst_inputs
+    from ranking.engine import evaluate, inputs_for
     from ranking.explain import explain
     from ranking.robustness import monte_carlo
 
@@ -89,8 +89,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
             evals[i, ti] = explain(cols[ti], i)
         return evals[i, ti]
 
-    inputs = worst_inputs(table, tmin_K=target.tmin_K, tmax_K=target.tmax_K, frequency_Hz=target.frequency_Hz,
-                          assume_defaults=target.assume_defaults)
+    inputs = inputs_for(table, target)
     cols = [evaluate(inputs, target, thickness_m=t) for t in thicknesses]
     # Candidates in material-major order: (material, thickness) pairs flattened as material · T + thickness.
     n_t = len(thicknesses)
@@ -220,10 +219,14 @@ def evidence_share(rows: list[dict]) -> dict:
 def _design(e: Evaluation) -> dict:
     d = e.details
     out = {k: d.get(k) for k in ("thickness_m", "area_m2", "design_field_V_per_m", "operating_field_V_per_m",
-                                 "failure_probability", "weibull_shape", "test_area_m2")}
+                                 "failure_probability", "weibull_shape", "test_area_m2", "sections",
+                                 "layer_thickness_m")}
     out["worst_temperature_K"] = d.get("worst_breakdown_K")
     out["energy_method"] = d.get("method")
     out["assumptions"] = d.get("assumptions", [])
+    from ranking.explain import SERVICE_KEYS
+
+    out.update({k: d[k] for k in SERVICE_KEYS if k in d})
     return out
 
 

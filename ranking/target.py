@@ -19,6 +19,17 @@ Target file form (every quantity a number with a unit; bare numbers take the CLI
                                     # then per segment
     families = ["polymer-film", "ceramic-class-1"]
     thicknesses = ["2.5 um", "3 um", "4 um"]   # optional design space of layer thicknesses
+    # capacitance = "500 uF"       # … or a capacitance: sized as the energy ½·C·V² at the voltage
+    # Service conditions (all optional): the part is designed at its hot spot and for its life.
+    ripple = [["30 A", "100 Hz"], ["20 A", "10 kHz"]]   # rms current and frequency of each harmonic
+    # ripple_current = "50 A"      # … or one harmonic: ripple_current with ripple_frequency
+    # ripple_frequency = "10 kHz"
+    series_resistance = "2 mohm"    # electrode and contact resistance (the metal part of the ESR)
+    thermal_resistance = "4 K/W"    # hot spot to ambient
+    ambient = "85 degC"             # within tmin…tmax; default tmax
+    life = "100000 h"               # service life …
+    life_fraction = 0.01            # … by which at most this fraction of parts may fail
+    packing_factor = 0.5            # dielectric volume over the part's: the device-level energy density beside
     strict = false                  # true: refuse the stated Weibull-shape and test-area priors where data lack them
     extrapolate = false             # true: use a value outside its data's temperatures or thickness (held, flagged)
     max_sections = 1                # a layer thicker than can be made may be built as up to N series sections
@@ -65,6 +76,16 @@ class Target:
     max_sections: int = 1           # series sections allowed where one layer cannot be made thick enough
     name: str = ""
     stacks: tuple = ()              # layered candidates: (name, ((material key, thickness m), ...)), ...
+    capacitance_F: float | None = None
+    ripple: tuple[tuple[float, float], ...] = ()   # (A rms, Hz) per harmonic
+    series_resistance_ohm: float = 0.0
+    thermal_resistance_K_per_W: float | None = None
+    ambient_K: float | None = None
+    life_s: float | None = None
+    life_fraction: float = 0.01
+    packing_factor: float | None = None   # dielectric volume over the part's volume (device energy density)
+    #: the energy was derived from the capacitance (½·C·V²)
+    energy_from_capacitance: bool = False
 
     def __post_init__(self):
         if self.strict:
@@ -93,6 +114,54 @@ class Target:
             raise InputError("energy must be positive")
         if self.energy_density_J_per_m3 is not None and not self.energy_density_J_per_m3 > 0:
             raise InputError("energy density must be positive")
+        self._check_service()
+
+    def _check_service(self) -> None:
+        """Capacitance, ripple, thermal path and life: each one checked, and what it needs present."""
+        if self.capacitance_F is not None:
+            if not self.capacitance_F > 0:
+                raise InputError("capacitance must be positive")
+            if self.energy_J is not None and not self.energy_from_capacitance:
+                raise InputError("give either an energy or a capacitance, not both")
+            object.__setattr__(self, "energy_J", 0.5 * self.capacitance_F * self.voltage_V ** 2)
+            object.__setattr__(self, "energy_from_capacitance", True)
+        for i, f in self.ripple:
+            if not (i >= 0 and f > 0):
+                raise InputError("ripple current must not be negative and its frequency must be positive")
+        if not self.series_resistance_ohm >= 0:
+            raise InputError("series resistance must not be negative")
+        if self.thermal_resistance_K_per_W is not None and not self.thermal_resistance_K_per_W > 0:
+            raise InputError("thermal resistance must be positive")
+        if self.ripple:
+            if self.energy_J is None:
+                raise InputError("a ripple current heats a part of known capacitance: give a capacitance or an energy")
+            if self.thermal_resistance_K_per_W is None:
+                raise InputError("a ripple current needs the thermal resistance hot spot to ambient")
+        if self.ambient_K is not None and not self.tmin_K <= self.ambient_K <= self.tmax_K:
+            raise InputError("ambient must lie within tmin…tmax")
+        if self.life_s is not None and not self.life_s > 0:
+            raise InputError("service life must be positive")
+        if not 0 < self.life_fraction < 1:
+            raise InputError("life failure fraction must lie between 0 and 1")
+        if self.packing_factor is not None and not 0 < self.packing_factor <= 1:
+            raise InputError("packing factor must lie in (0, 1]")
+
+    @property
+    def capacitance_or_energy_F(self) -> float | None:
+        """The capacitance the part is sized for: the target's, else ``2·W/V²`` (linear dielectric)."""
+        if self.capacitance_F is not None:
+            return self.capacitance_F
+        return None if self.energy_J is None else 2.0 * self.energy_J / self.voltage_V ** 2
+
+    @property
+    def ambient_or_tmax_K(self) -> float:
+        """Ambient of the thermal path: the stated one, else the top of the temperature range."""
+        return self.tmax_K if self.ambient_K is None else self.ambient_K
+
+    @property
+    def service(self) -> bool:
+        """Whether the target states ripple heating or a service life."""
+        return bool(self.ripple) or self.life_s is not None
 
     def to_dict(self) -> dict:
         return {"name": self.name, "voltage_V": self.voltage_V, "tmin_K": self.tmin_K, "tmax_K": self.tmax_K,
@@ -102,7 +171,12 @@ class Target:
                 "segment_area_m2": self.segment_area_m2, "families": list(self.families),
                 "thicknesses_m": list(self.thicknesses_m),
                 "weights": dict(self.weights), "assume_defaults": self.assume_defaults, "strict": self.strict,
-                "extrapolate": self.extrapolate, "max_sections": self.max_sections}
+                "extrapolate": self.extrapolate, "max_sections": self.max_sections,
+                "capacitance_F": self.capacitance_F,
+                "ripple": [{"current_A": i, "frequency_Hz": f} for i, f in self.ripple],
+                "series_resistance_ohm": self.series_resistance_ohm,
+                "thermal_resistance_K_per_W": self.thermal_resistance_K_per_W, "ambient_K": self.ambient_K,
+                "life_s": self.life_s, "life_fraction": self.life_fraction, "packing_factor": self.packing_factor}
 
 
 def parse_weights(text: str | None) -> dict:
@@ -160,7 +234,10 @@ _QUANTITIES = (("voltage", "voltage_V", "voltage"), ("tmin", "tmin_K", "temperat
                ("tmax", "tmax_K", "temperature"), ("energy", "energy_J", "energy"),
                ("energy_density", "energy_density_J_per_m3", "energy_density"),
                ("frequency", "frequency_Hz", "frequency"), ("area", "area_m2", "capacitor_area"),
-               ("segment_area", "segment_area_m2", "electrode_area"))
+               ("segment_area", "segment_area_m2", "electrode_area"), ("capacitance", "capacitance_F", "capacitance"),
+               ("series_resistance", "series_resistance_ohm", "resistance"),
+               ("thermal_resistance", "thermal_resistance_K_per_W", "thermal_resistance"),
+               ("ambient", "ambient_K", "temperature"), ("life", "life_s", "time"))
 
 
 def _option(key: str) -> str:
@@ -176,7 +253,38 @@ def _quantities(given: dict, *, options: bool) -> dict:
 
 _FILE_KEYS = {"name", "voltage", "tmin", "tmax", "energy", "energy_density", "frequency", "max_loss_tangent",
               "failure_probability", "margin", "area", "segment_area", "families", "thicknesses", "assume_defaults",
-              "strict", "extrapolate", "max_sections"}
+              "strict", "extrapolate", "max_sections", "capacitance", "ripple", "ripple_current", "ripple_frequency",
+              "series_resistance", "thermal_resistance", "ambient", "life", "life_fraction", "packing_factor"}
+
+
+def parse_ripple(spectrum=None, *, current=None, frequency=None, options: bool = True) -> tuple:
+    """A ripple spectrum as ((A rms, Hz), …): from a list of [current, frequency] pairs (a target file), from
+    ``"30A@100Hz,20A@10kHz"`` (an option), or from one current and one frequency. Bare numbers: A and Hz."""
+    name = "--ripple" if options else "ripple"
+    if spectrum is not None and (current is not None or frequency is not None):
+        raise InputError(f"give {name} or a ripple current with its frequency, not both")
+    if spectrum is None:
+        if current is None:
+            if frequency is not None:
+                raise InputError("a ripple frequency needs a ripple current")
+            return ()
+        if frequency is None:
+            raise InputError("a ripple current needs its frequency")
+        pairs = [(current, frequency)]
+    elif isinstance(spectrum, str):
+        pairs = []
+        for part in (p for p in spectrum.split(",") if p.strip()):
+            if "@" not in part:
+                raise InputError(f"{name}: '{part.strip()}' is not CURRENT@FREQUENCY (e.g. 20A@10kHz)")
+            pairs.append(tuple(part.split("@", 1)))
+    else:
+        pairs = list(spectrum)
+        if not all(isinstance(p, (list, tuple)) and len(p) == 2 for p in pairs):
+            raise InputError(f"{name}: give [current, frequency] pairs, e.g. [[\"30 A\", \"100 Hz\"]]")
+    out = tuple((parse_option(i, "current", name=name), parse_option(f, "frequency", name=name)) for i, f in pairs)
+    if not out:
+        raise InputError(f"{name}: no harmonics given")
+    return out
 
 
 def _flag(table: dict, key: str, default: bool) -> bool:
@@ -217,6 +325,10 @@ def load_target(path: Path) -> Target:
             assume_defaults=_flag(t, "assume_defaults", True), strict=_flag(t, "strict", False),
             extrapolate=_flag(t, "extrapolate", False), max_sections=_whole(t, "max_sections", 1),
             name=str(t.get("name", "")),
+            ripple=parse_ripple(t.get("ripple"), current=t.get("ripple_current"), frequency=t.get("ripple_frequency"),
+                                options=False),
+            life_fraction=float(t.get("life_fraction", 0.01)),
+            packing_factor=float(t["packing_factor"]) if "packing_factor" in t else None,
         )
     except UnitError as exc:
         raise InputError(str(exc), file=str(path)) from None
@@ -259,7 +371,10 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
                         frequency=None, max_loss_tangent=None, failure_probability=None, margin=None, area=None,
                         segment_area=None, families=None, thicknesses=None, weights=None,
                         assume_defaults: bool = False, strict: bool = False, extrapolate: bool = False,
-                        max_sections: int | None = None) -> Target:
+                        max_sections: int | None = None,
+                        capacitance=None, ripple=None, ripple_current=None, ripple_frequency=None,
+                        series_resistance=None, thermal_resistance=None, ambient=None, life=None,
+                        life_fraction=None, packing_factor=None) -> Target:
     """A Target from a target file and/or command options as typed (an option given overrides the file).
 
     Quantities are text, in the option's default unit unless one is written; ``families`` is comma-separated,
@@ -267,7 +382,9 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
     Without a file, voltage, tmin and tmax are needed. Errors name the option.
     """
     given = {"voltage": voltage, "tmin": tmin, "tmax": tmax, "energy": energy, "energy_density": energy_density,
-             "frequency": frequency, "area": area, "segment_area": segment_area}
+             "frequency": frequency, "area": area, "segment_area": segment_area, "capacitance": capacitance,
+             "series_resistance": series_resistance, "thermal_resistance": thermal_resistance, "ambient": ambient,
+             "life": life}
     opts = _quantities({k: v for k, v in given.items() if v}, options=True)
     opts.update(
         max_loss_tangent=max_loss_tangent, failure_probability=failure_probability, margin=margin,
@@ -277,10 +394,19 @@ def target_from_options(*, target_file=None, voltage=None, tmin=None, tmax=None,
         strict=True if strict else None,
         extrapolate=True if extrapolate else None,
         max_sections=max_sections,
+        ripple=parse_ripple(ripple, current=ripple_current, frequency=ripple_frequency) or None,
+        life_fraction=life_fraction, packing_factor=packing_factor,
     )
+
     w = parse_weights(weights) if weights else None
     if target_file:
-        t = with_overrides(load_target(target_file), **opts)
+        t = load_target(target_file)
+        # an energy or a capacitance given as an option replaces whichever of the two the file states
+        if opts.get("capacitance_F") is not None:
+            t = replace(t, energy_J=None, energy_from_capacitance=False, capacitance_F=opts.pop("capacitance_F"))
+        elif opts.get("energy_J") is not None:
+            t = replace(t, capacitance_F=None, energy_from_capacitance=False, energy_J=opts.pop("energy_J"))
+        t = with_overrides(t, **opts)
         if w:
             t = with_overrides(t, weights={**t.weights, **w})
         return t

@@ -62,7 +62,7 @@ def test_bundle_holds_everything(tmp_path):
     store.dispose()
     lines = [json.loads(x) for x in _dump(f"sqlite:///{tmp_path / 's.sqlite'}", tmp_path / "b.jsonl").splitlines()]
     head, body, end = lines[0], lines[1:-1], lines[-1]
-    assert head == {"format": "holdoff-bundle", "version": 1, "schema_revision": "0003"}
+    assert head == {"format": "holdoff-bundle", "version": 1, "schema_revision": "0004"}
     assert end == {"type": "end", "records": len(body)}
     kinds = [r["type"] for r in body]
     assert kinds == sorted(kinds, key=["meta", "source", "material", "breakdown_set", "loop", "value"].index)

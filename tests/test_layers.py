@@ -108,3 +108,23 @@ def test_max_sections_must_be_a_whole_number_in_range():
     for bad in (0, 65, 2.5, True):
         with pytest.raises(InputError):
             target(max_sections=bad)
+
+
+def test_catalog_anodic_oxide_is_refused_at_800_v_or_built_as_sections(cli):
+    """Anodic Ta2O5 grows about 1.7 nm per forming volt and is formed to at most about 400 V (the catalog's
+    0.68 µm): an 800 V part is refused as one layer and, with --sections, built from sections no thicker."""
+    import json
+
+    base = ["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80", "--draws", "100",
+            "--json"]
+    code, out, err = cli(base)
+    assert code == 0, err
+    ex = {e["key"]: e for e in json.loads(out)["excluded"]}
+    assert "thickest single layer made is 0.68 µm" in ex["tantalum-pentoxide"]["reasons"][0]
+    code, out, err = cli(base + ["--sections", "32"])
+    assert code == 0, err
+    row = {r["key"]: r for r in json.loads(out)["ranked"]}["tantalum-pentoxide"]
+    n, layer = row["design"]["sections"], row["design"]["layer_thickness_m"]
+    assert n > 1 and layer <= 0.68e-6 * (1 + 1e-9)
+    assert row["design"]["thickness_m"] == pytest.approx(n * layer)
+    assert f"{n} series sections" in row["binding"]

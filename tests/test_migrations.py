@@ -140,7 +140,7 @@ def test_upgrade_from_the_first_revision_keeps_every_row(backend_url, tmp_path):
     _migrate(backend_url, "0001")
     _fill_at_first_revision(backend_url)
 
-    assert upgrade_store(backend_url) == "0003"
+    assert upgrade_store(backend_url) == "0004"
     store = open_store(backend_url, create=False)
     try:
         engine = store.engine
@@ -173,7 +173,7 @@ def test_upgrade_from_the_first_revision_keeps_every_row(backend_url, tmp_path):
     from sqlalchemy import text
 
     with engine.connect() as c:
-        assert c.execute(text("SELECT value FROM meta WHERE key = 'schema_revision'")).scalar() == "0003"
+        assert c.execute(text("SELECT value FROM meta WHERE key = 'schema_revision'")).scalar() == "0004"
     engine.dispose()
 
 
@@ -185,13 +185,13 @@ def test_downgrade_and_upgrade_again(tmp_path):
     url = f"sqlite:///{tmp_path / 's.sqlite'}"
     _migrate(url, "0001")
     _fill_at_first_revision(url)
-    assert upgrade_store(url) == "0003"
+    assert upgrade_store(url) == "0004"
     engine = _engine(url)
     with engine.begin() as c:
         command.downgrade(config(connection=c), "0001")
         assert current_revision(c) == "0001"
     engine.dispose()
-    assert upgrade_store(url) == "0003"
+    assert upgrade_store(url) == "0004"
 
 
 def test_store_built_before_migrations_is_stamped_then_upgraded(tmp_path):
@@ -207,7 +207,7 @@ def test_store_built_before_migrations_is_stamped_then_upgraded(tmp_path):
     with engine.begin() as c:
         c.execute(text("DROP TABLE alembic_version"))
     engine.dispose()
-    assert upgrade_store(url) == "0003"
+    assert upgrade_store(url) == "0004"
 
 
 def test_built_store_is_at_head_and_cli_upgrade_says_so(tmp_path):
@@ -221,10 +221,10 @@ def test_built_store_is_at_head_and_cli_upgrade_says_so(tmp_path):
     build(url, catalog_dir=pg.MINI_CATALOG)
     engine = _engine(url)
     with engine.connect() as c:
-        assert current_revision(c) == head_revision() == "0003"
+        assert current_revision(c) == head_revision() == "0004"
     engine.dispose()
     r = CliRunner().invoke(app, ["--db", url, "db", "upgrade"])
-    assert r.exit_code == 0 and "revision 0003" in r.stdout
+    assert r.exit_code == 0 and "revision 0004" in r.stdout
 
 
 def test_upgrade_refuses_missing_empty_and_newer_stores(tmp_path):

@@ -144,15 +144,16 @@ def test_built_file_store_is_wal_and_sound(tmp_db_url, mini_catalog):
 
 
 def test_every_physical_column_names_its_unit():
-    # DESIGN.md: SI inside, the unit in the column name; value/low/high carry the unit of their property.
+    # DESIGN.md: SI inside, the unit in the column name; value/low/high carry the unit of their property, an
+    # endurance point's stress that of its set's stress_kind (V or V/m).
     from sqlalchemy import Float
 
     from db.models import Base
 
-    suffixes = ("_K", "_Hz", "_V_per_m", "_m", "_m2", "_V_per_s", "_C_per_m2")
+    suffixes = ("_K", "_Hz", "_V_per_m", "_m", "_m2", "_V_per_s", "_C_per_m2", "_s")
     for table in Base.metadata.tables.values():
         for col in table.columns:
-            if isinstance(col.type, Float) and col.name not in ("value", "low", "high"):
+            if isinstance(col.type, Float) and col.name not in ("value", "low", "high", "stress"):
                 assert col.name.endswith(suffixes), f"{table.name}.{col.name}"
 
 

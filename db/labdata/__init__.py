@@ -10,6 +10,8 @@ Everything here works inside the caller's session (one transaction per command: 
   breakdown-versus-temperature curve.
 - :func:`import_loop` stores a loop and its samples, and its recovered energy density and efficiency as property
   values that reference the loop, at its peak field, temperature and frequency.
+- :func:`import_endurance` stores an endurance set (times to failure at constant stress) and its life-stress fit
+  as ``life_exponent`` (and ``activation_energy``) values that reference the set.
 - Every import gets its own source (kind ``lab``, or ``invented`` for demo data) naming who, where and when, the
   file name and its SHA-256; a file already imported is refused unless ``force``.
 """
@@ -17,9 +19,11 @@ Everything here works inside the caller's session (one transaction per command: 
 from db.labdata.breakdown import import_breakdown, read_points, refit_set
 from db.labdata.common import DEFAULT_CONFIDENCE, ImportResult, resolve_material, slugify
 from db.labdata.describe import describe_sets
+from db.labdata.endurance import fit_figures, fit_file, import_endurance
 from db.labdata.loop import import_loop, read_loop_points
 from db.labdata.records import add_materials, read_add_files, store_sources
 
-__all__ = ["DEFAULT_CONFIDENCE", "ImportResult", "add_materials", "describe_sets", "import_breakdown", "import_loop",
+__all__ = ["DEFAULT_CONFIDENCE", "ImportResult", "add_materials", "describe_sets", "fit_figures", "fit_file",
+           "import_breakdown", "import_endurance", "import_loop",
            "read_add_files", "read_loop_points", "read_points", "refit_set", "resolve_material", "slugify",
            "store_sources"]

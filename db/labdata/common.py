@@ -17,7 +17,7 @@ _REL_TOL = 1e-12
 class ImportResult:
     """What one import stored (SI)."""
 
-    what: str                 # "breakdown set" or "loop"
+    what: str                 # "breakdown set", "loop" or "endurance set"
     material: str
     label: str
     id: int
@@ -36,7 +36,7 @@ class ImportResult:
         d = {"what": self.what, "material": self.material, "label": self.label, "id": self.id, "n": self.n,
              "source": {"key": self.source, "kind": self.kind}, "file": self.file, "sha256": self.sha256,
              "new_material": self.new_material, "replaced": self.replaced, "warnings": list(self.warnings)}
-        if self.what == "breakdown set":
+        if self.what in ("breakdown set", "endurance set"):
             d["censored"] = self.censored
             d["fit"] = self.figures
         else:

@@ -1,4 +1,4 @@
-"""A material's breakdown sets and loops as stored, with their fits and energies (for ``show``)."""
+"""A material's breakdown sets, loops and endurance sets as stored, with their fits and energies (for ``show``)."""
 
 from __future__ import annotations
 
@@ -6,7 +6,8 @@ from db.labdata.common import _material
 from materials.errors import DataError
 
 def describe_sets(session, material_key: str, *, include_replaced: bool = False) -> dict:
-    """The breakdown sets and loops of a material with their stored fits and energies (SI), for ``show``.
+    """The breakdown sets, loops and endurance sets of a material with their stored fits and energies (SI), for
+    ``show``.
 
     A set or loop replaced by a later import (its derived values retired) is left out unless
     ``include_replaced``.
@@ -15,7 +16,9 @@ def describe_sets(session, material_key: str, *, include_replaced: bool = False)
         ``{"breakdown_sets": [{label, n, censored, temperature_K, thickness_m, area_m2, waveform, ramp_V_per_s,
         shape, shape_low, shape_high, scale_V_per_m, scale_low_V_per_m, scale_high_V_per_m, source, kind, file,
         sha256, imported_at}], "loops": [{label, n, temperature_K, frequency_Hz, thickness_m, max_field_V_per_m,
-        recovered_J_per_m3, efficiency, source, kind, file, sha256, imported_at}]}``
+        recovered_J_per_m3, efficiency, source, kind, file, sha256, imported_at}], "endurance_sets": [{label, n,
+        censored, stress_kind, temperature_K, thickness_m, area_m2, life_exponent, life_exponent_low,
+        life_exponent_high, activation_energy_eV, source, kind, file, sha256, imported_at}]}``
     """
     from sqlalchemy import func, select
 
@@ -74,4 +77,40 @@ def describe_sets(session, material_key: str, *, include_replaced: bool = False)
                       "recovered_J_per_m3": rec.value if rec else None, "efficiency": eff.value if eff else None,
                       "source": src.key, "kind": src.kind, "file": loop.file_name, "sha256": loop.sha256,
                       "imported_at": loop.created_at.isoformat(sep=" ", timespec="seconds")})
-    return {"breakdown_sets": sets, "loops": loops}
+    return {"breakdown_sets": sets, "loops": loops, "endurance_sets": _endurance_sets(session, mat.id,
+                                                                                      include_replaced)}
+
+
+def _endurance_sets(session, material_id: int, include_replaced: bool) -> list[dict]:
+    """A material's endurance sets with their fitted life exponent (and activation energy, in eV)."""
+    from sqlalchemy import case, func, select
+
+    from db.labdata.endurance import ELECTRONVOLT_J
+    from db.models import EndurancePoint, EnduranceSet, PropertyValue, Source
+
+    counts = {sid: (n, c or 0) for sid, n, c in session.execute(
+        select(EndurancePoint.set_id, func.count(), func.sum(case((EndurancePoint.censored.is_(True), 1), else_=0)))
+        .join(EnduranceSet, EndurancePoint.set_id == EnduranceSet.id)
+        .where(EnduranceSet.material_id == material_id).group_by(EndurancePoint.set_id)).all()}
+    derived: dict[int, dict] = {}
+    for pv in session.execute(select(PropertyValue).where(
+            PropertyValue.material_id == material_id, PropertyValue.retired_at.is_(None),
+            PropertyValue.endurance_set_id.is_not(None))).scalars():
+        derived.setdefault(pv.endurance_set_id, {})[pv.property] = pv
+    out = []
+    for eset, src in session.execute(select(EnduranceSet, Source).join(Source, EnduranceSet.source_id == Source.id)
+                                     .where(EnduranceSet.material_id == material_id)
+                                     .order_by(EnduranceSet.temperature_K, EnduranceSet.label)):
+        d = derived.get(eset.id, {})
+        if not d and not include_replaced:
+            continue
+        n, ea = d.get("life_exponent"), d.get("activation_energy")
+        out.append({"label": eset.label, "n": counts.get(eset.id, (0, 0))[0],
+                    "censored": counts.get(eset.id, (0, 0))[1], "stress_kind": eset.stress_kind,
+                    "temperature_K": eset.temperature_K, "thickness_m": eset.thickness_m, "area_m2": eset.area_m2,
+                    "life_exponent": n.value if n else None, "life_exponent_low": n.low if n else None,
+                    "life_exponent_high": n.high if n else None,
+                    "activation_energy_eV": ea.value / ELECTRONVOLT_J if ea else None,
+                    "source": src.key, "kind": src.kind, "file": eset.file_name, "sha256": eset.sha256,
+                    "imported_at": eset.created_at.isoformat(sep=" ", timespec="seconds")})
+    return out

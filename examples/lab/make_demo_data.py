@@ -77,11 +77,29 @@ def relaxor_loop(rng) -> None:
     (HERE / "relaxor-loop-25C.csv").write_text(head + "field [kV/cm],polarization [uC/cm^2]\n" + rows)
 
 
+def film_endurance() -> None:
+    """Constant-field life tests of the film at 150 °C: 10 units at each of three fields, stopped at 2000 h (units
+    still working then are censored). Made-up law: Weibull in time, shape 1.6, scale 800 h at 300 V/um, n = 9."""
+    rng = np.random.default_rng(20261202)   # its own stream: the files above stay as they were
+    head = _header(label="ht-film endurance 150C", thickness="3.5 um", area="1 cm^2", temperature="150 degC",
+                   operator="R. Okafor (invented)", lab=LAB, date="2024-05-20", kind="invented", citation=CITATION)
+    rows = ""
+    unit = 0
+    for field in (350.0, 300.0, 260.0):
+        t = 800.0 * (field / 300.0) ** -9.0 * rng.weibull(1.6, 10)
+        for ti in np.sort(t):
+            unit += 1
+            stop = ti > 2000.0
+            rows += f"U{unit:02d},{min(ti, 2000.0):.1f},{field:g},{int(stop)}\n"
+    (HERE / "ht-film-endurance-150C.csv").write_text(head + "specimen,time [h],field [V/um],censored\n" + rows)
+
+
 def main() -> None:
     rng = np.random.default_rng(20240304)
     breakdown_sets(rng)
     film_loop()
     relaxor_loop(rng)
+    film_endurance()
 
 
 if __name__ == "__main__":

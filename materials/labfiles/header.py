@@ -22,6 +22,8 @@ BREAKDOWN_KEYS = ("label", "thickness", "area", "temperature", "ramp", "waveform
                   "kind", "citation", "note")
 LOOP_KEYS = ("label", "thickness", "temperature", "frequency", "operator", "lab", "date", "kind", "citation",
              "note")
+ENDURANCE_KEYS = ("label", "thickness", "area", "temperature", "operator", "lab", "date", "kind", "citation",
+                  "note")
 IMPORT_KINDS = ("lab", "invented")
 WAVEFORMS = ("dc", "ac")
 
