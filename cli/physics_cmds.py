@@ -185,7 +185,8 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
             ["operating field", fmt_eng(res["operating_field_V_per_m"], "V/m") + mk],
             ["design field", fmt_eng(res["design_field_V_per_m"], "V/m") + mk],
             ["energy stored", fmt_eng(res["energy_J"], "J")],
-            ["failure probability", fmt_number(res["failure_probability"]) + mk],
+            ["failure probability", (fmt_number(res["failure_probability"]) if res["failure_probability"] >= 1e-6
+                                     else "< 0.000001") + mk],
             ["limited by", res["limited_by"]],
             ["worst temperature", fmt_celsius(res["worst_temperature_K"])]]
     if res.get("device_energy_density_J_per_m3") is not None:
