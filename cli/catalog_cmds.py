@@ -10,6 +10,7 @@ from cli import state
 from cli.output import JsonOpt
 
 FLAG_KINDS = ("recollection", "invented")
+LISTED = 2000  # materials the text listing shows by default; a store of 100,000 is counted beyond them
 
 
 def _nothing_matched(rows, *filters) -> None:
@@ -41,6 +42,8 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
                                                           "(polymer-film, ceramic-class-2, …).")] = None,
             where: Annotated[Optional[str], typer.Option("--where", help="Filter, e.g. "
                              "\"relative_permittivity > 3 and max_temperature >= 125 degC\".")] = None,
+            limit: Annotated[int, typer.Option("--limit", metavar="N", help="Rows listed as text (0: all); the "
+                                               "rest are counted. --json lists all.")] = LISTED,
             json_out: JsonOpt = False):
     """List materials with their headline values (reference: small-signal, ~25 °C, ~1 kHz); exit code 1 when
     --family or --where leaves none."""
@@ -67,7 +70,7 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
     from materials.numfmt import fmt_celsius
 
     body = []
-    for r in rows:
+    for r in rows[:limit or None]:
         t = f"{fmt_celsius(r['min_temperature_K'])} … {fmt_celsius(r['max_temperature_K'])}"
         flags = ", ".join(k for k in r["source_kinds"] if k in FLAG_KINDS)
         body.append([r["key"], r["name"], r["family"], display("relative_permittivity", r["relative_permittivity"]),
@@ -75,7 +78,9 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
                      display("breakdown_field", r["breakdown_field_V_per_m"]), t, flags])
     table(["key", "name", "family", "εr", "tan δ", "E_bd", "rated T", "flags"], body, right={3, 4, 5},
           title=f"{len(rows)} materials", caption="εr, tan δ and E_bd at about 25 °C and 1 kHz; "
-          "flags name source kinds that are not published (see 'holdoff show KEY').")
+          "flags name source kinds that are not published (see 'holdoff show KEY')."
+          + (f" The first {len(body)} of {len(rows)} are listed (--limit 0 lists all, --json gives all)."
+             if len(body) < len(rows) else ""))
     _nothing_matched(rows, family, where)
 
 
@@ -98,10 +103,11 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
     from cli.fmt import conditions, display
     from cli.output import esc, say, table
 
-    say(f"[bold]{esc(m.name)}[/]  ({esc(m.key)})")
-    say(esc(f"family {m.family}; {m.response} response; origin {m.origin}" + (f"; {m.form}" if m.form else "")))
+    say(f"[bold]{esc(m.name)}[/]  ({esc(m.key)})", wrap=True)
+    say(esc(f"family {m.family}; {m.response} response; origin {m.origin}" + (f"; {m.form}" if m.form else "")),
+        wrap=True)
     if m.description:
-        say(esc(m.description))
+        say(esc(m.description), wrap=True)
     from materials.properties import PROPERTIES
 
     order = {p: i for i, p in enumerate(PROPERTIES)}
@@ -124,9 +130,9 @@ def show(key: Annotated[str, typer.Argument(help="Material key (see 'holdoff cat
         print_sets(sets)
     say("sources:")
     for k, src in cited.items():
-        say(esc(f"  {k} [{src.kind}]: {src.citation}"))
+        say(esc(f"  {k} [{src.kind}]: {src.citation}"), wrap=True)
     if any(src.kind in FLAG_KINDS for src in cited.values()):
-        say("  ! values resting on recollection or invented sources: check them before relying on them.")
+        say("  ! values resting on recollection or invented sources: check them before relying on them.", wrap=True)
 
 
 def _sets(session, key: str) -> dict:
@@ -168,15 +174,16 @@ def sources(kind: Annotated[Optional[str], typer.Option("--kind", help="Only sou
     table(["key", "kind", "values", "citation"], [[r["key"], r["kind"], r["values"], r["citation"]] for r in rows],
           right={2}, title=f"{len(rows)} sources")
     say("values per source kind: " + ", ".join(f"{k} {counts.get(k, 0)} ({counts.get(k, 0) / total:.0%})"
-                                               for k in SOURCE_KINDS if counts.get(k)) if total else "no values")
+                                               for k in SOURCE_KINDS if counts.get(k)) if total else "no values",
+        wrap=True)
     say(f"published (handbook, standard, paper, web): {published} of {total} values ({share:.0%})")
     if in_use:
         say(f"used by the shortlist for {used} ({in_use['rows']} ranked): {in_use['published']:.0%} published, "
             f"{in_use['lab']:.0%} lab, {in_use['common_practice']:.0%} common-practice, "
-            f"{in_use['assumed_or_recollected']:.0%} assumed or recollected")
+            f"{in_use['assumed_or_recollected']:.0%} assumed or recollected", wrap=True)
     say("kinds: handbook/standard/paper/web = published, cited with edition/table or DOI/URL; common-practice = a "
         "fact of the trade with no single source; recollection = remembered, not checked; lab = your own "
-        "measurements; invented = demo data only.")
+        "measurements; invented = demo data only.", wrap=True)
     _nothing_matched(rows, kind)
 
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 from materials.numfmt import fmt_celsius, fmt_quantity
 
 
-def display(prop: str, value: float | None, *, with_unit: bool = True, digits: int = 4) -> str:
+def display(prop: str, value: float | None, *, with_unit: bool = True, digits: int = 3) -> str:
     """``value`` (SI) of ``prop`` in its display unit."""
     from materials.numfmt import fmt_number, to_display
     from materials.properties import PROPERTIES

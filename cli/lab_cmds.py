@@ -110,6 +110,18 @@ def _read(reader, path: Path, overrides: dict):
         return reader(path, overrides, on_progress=tick)
 
 
+def _is_loop(path: Path) -> bool:
+    """Whether a file that is no breakdown series reads as a P–E loop."""
+    from materials.errors import InputError
+    from materials.labfiles import read_loop
+
+    try:
+        read_loop(path, {})
+    except InputError:
+        return False
+    return True
+
+
 def _common_overrides(label, thickness, temp, operator, lab, date) -> dict:
     return {"label": label, "thickness": _quantity(thickness, "thickness", "--thickness"),
             "temperature": _quantity(temp, "temperature", "--temp"), "operator": operator, "lab": lab,
@@ -303,7 +315,13 @@ def breakdown_fit(file: FileArg,
     from materials.labfiles import in_file, read_breakdown
 
     conf = _confidence(confidence)
-    data = _read(read_breakdown, file, {"thickness": _quantity(thickness, "thickness", "--thickness")})
+    try:
+        data = _read(read_breakdown, file, {"thickness": _quantity(thickness, "thickness", "--thickness")})
+    except InputError:
+        if _is_loop(file):
+            raise InputError(f"{file} is a polarisation–field loop, not a breakdown series: "
+                             f"use 'holdoff loop analyze {file}'") from None
+        raise
     try:
         fit = fit_weibull(data.fields_V_per_m, data.censored, confidence=conf)
     except InputError as exc:

@@ -27,8 +27,7 @@ DefaultsOpt = Annotated[bool, typer.Option("--assume-defaults", hidden=True, hel
 def console(stderr: bool = False):
     from rich.console import Console
 
-    width = int(os.environ["COLUMNS"]) if os.environ.get("COLUMNS", "").isdigit() else None
-    return Console(stderr=stderr, width=width, highlight=False, soft_wrap=False)
+    return Console(stderr=stderr, width=width(), highlight=False, soft_wrap=False)
 
 
 def _clean(obj):
@@ -71,35 +70,163 @@ def is_terminal() -> bool:
     return sys.stdout.isatty()
 
 
-def table(columns: list[str], rows: list[list], *, title: str | None = None, caption: str | None = None,
-          right: set[int] | None = None) -> None:
-    """Print a table: rich on a terminal, plain aligned text (two spaces between columns) when piped."""
-    right = right or set()
-    if is_terminal():
-        from rich.table import Table
+# Columns whose text is read as prose: when the grid does not fit the width they move under it as numbered lines.
+LONG_HEADINGS = frozenset({"name", "sources", "source [kind]", "source", "note", "notes", "citation", "binding",
+                           "reasons"})
+MIN_KEY = 10       # a shortened key keeps at least this many characters
+UNKNOWN_WIDTH = 100
+_wide = False
 
-        t = Table(title=title, caption=caption, title_justify="left", caption_justify="left")
-        for i, c in enumerate(columns):
-            t.add_column(c, justify="right" if i in right else "left", overflow="fold")
+
+def set_wide(on: bool) -> None:
+    """``--wide``: every row of every table on one line, whatever the width."""
+    global _wide
+    _wide = bool(on)
+
+
+def width() -> int:
+    """Columns available: the terminal's, else $COLUMNS when piped, else 100."""
+    env = os.environ.get("COLUMNS", "")
+    if is_terminal():
+        import shutil
+
+        return shutil.get_terminal_size((UNKNOWN_WIDTH, 24)).columns
+    return int(env) if env.isdigit() and int(env) > 0 else UNKNOWN_WIDTH
+
+
+def _shorten(text: str, room: int, legend: dict) -> str:
+    """``text`` cut to ``room`` characters as ``prefix…N``, N its line in ``legend`` (full text → N)."""
+    if len(text) <= room:
+        return text
+    n = legend.setdefault(text, len(legend) + 1)
+    tag = f"…{n}"
+    return text[:max(1, room - len(tag))] + tag
+
+
+def grid_lines(columns: list[str], rows: list[list], *, right: set[int] | None = None, long: set[int] | None = None,
+               keys: set[int] | None = None, total: int | None = None, wide: bool | None = None) -> list[str]:
+    """A table as lines of plain text no wider than ``total`` (default :func:`width`).
+
+    Numbers (``right``) and keys (``keys``, default the first column) never wrap; when the grid does not fit,
+    the ``long`` columns (default: the headings in LONG_HEADINGS) leave it for numbered lines under it, then
+    headings and keys are shortened to ``prefix…N`` with a numbered legend. ``wide`` keeps every column in the
+    grid, one line per row.
+    """
+    right = right or set()
+    keys = {0} if keys is None else keys
+    long = {i for i, c in enumerate(columns) if c in LONG_HEADINGS and i not in keys} if long is None else long
+    total = width() if total is None else total
+    wide = _wide if wide is None else wide
+    cells = [["" if v is None else str(v) for v in r] for r in rows]
+    heads = [str(c) for c in columns]
+    n = len(heads)
+
+    def widths(idx):
+        return {i: max([len(heads[i])] + [len(r[i]) for r in cells]) for i in idx}
+
+    shown = list(range(n))
+    w = widths(shown)
+    moved: list[int] = []
+    if not wide and sum(w.values()) + 2 * (n - 1) > total and long:
+        moved = [i for i in shown if i in long]
+        shown = [i for i in shown if i not in long]
+        w = {i: w[i] for i in shown}
+    # still too wide: the other text columns follow, the widest first (numbers and keys stay)
+    while not wide and sum(w.values()) + 2 * (len(shown) - 1) > total:
+        text = [i for i in shown if i not in keys and i not in right]
+        if not text:
+            break
+        i = max(text, key=lambda j: w[j])
+        moved.append(i)
+        shown.remove(i)
+        del w[i]
+    moved.sort()
+    legend: dict[str, int] = {}
+    if not wide and sum(w.values()) + 2 * (len(shown) - 1) > total:
+        # headings no wider than their cells, then the keys cut down to what is left
+        for i in shown:
+            body = max([len(r[i]) for r in cells], default=0)
+            if len(heads[i]) > max(body, 4):
+                heads[i] = _shorten(heads[i], max(body, 4), legend)
+        w = widths(shown)
+        excess = sum(w.values()) + 2 * (len(shown) - 1) - total
+        for i in [i for i in shown if i in keys]:
+            if excess <= 0:
+                break
+            room = max(MIN_KEY, len(heads[i]), w[i] - excess)
+            if room < w[i]:
+                for r in cells:
+                    r[i] = _shorten(r[i], room, legend)
+                excess -= w[i] - room
+                w[i] = max([len(heads[i])] + [len(r[i]) for r in cells])
+    # the last resort before running over: one space between columns
+    gap = "  " if wide or sum(w.values()) + 2 * (len(shown) - 1) <= total else " "
+    out = []
+    if moved and all(i in keys for i in shown) and len(shown) == 1:
+        # the grid would be one column of keys: write "key: text" lines instead
+        import textwrap
+
+        i = shown[0]
+        wrap = textwrap.TextWrapper(width=max(total, 40), subsequent_indent="    ", break_on_hyphens=False)
+        out.append(f"{columns[i]}: " + ", ".join(columns[j] for j in moved))
+        for orig, row in zip(rows, cells, strict=True):
+            text = f"  {orig[i]}: " + "; ".join(row[j] for j in moved if row[j])
+            out.extend(wrap.wrap(text) if len(text) > total else [text])
+        return out
+    for j, row in enumerate([heads] + cells):
+        parts = [(row[i].rjust(w[i]) if i in right else row[i].ljust(w[i])) for i in shown]
+        out.append(gap.join(parts).rstrip())
+        if j == 0:
+            out.append(gap.join("-" * w[i] for i in shown))
+    if moved:
+        import textwrap
+
+        key = next((i for i in range(n) if i in keys), None)
+        pad = len(str(len(cells))) + 2
+        wrap = textwrap.TextWrapper(width=max(total, 40), subsequent_indent=" " * pad, break_on_hyphens=False)
+        for k, (orig, row) in enumerate(zip(rows, cells, strict=True), 1):
+            bits = [f"{columns[i]}: {row[i]}" for i in moved if row[i]]
+            if not bits:
+                continue
+            who = f"{orig[key]}: " if key is not None else ""
+            text = f"{k}.".ljust(pad) + who + "; ".join(bits)
+            out.extend(wrap.wrap(text) if len(text) > total else [text])
+    for full, k in legend.items():
+        out.append(f"…{k} = {full}")
+    return out
+
+
+def table(columns: list[str], rows: list[list], *, title: str | None = None, caption: str | None = None,
+          right: set[int] | None = None, long: set[int] | None = None, keys: set[int] | None = None,
+          legend: list[str] | None = None) -> None:
+    """Print a table that fits the width (see :func:`grid_lines`); the title above, ``legend`` lines and the
+    caption below. On a terminal the heading line is bold."""
+    lines = grid_lines(columns, rows, right=right, long=long, keys=keys)
+    total = width()
+    out = [title] if title else []
+    out += lines
+    for text in (legend or []) + ([caption] if caption else []):
+        out.extend(wrap_text(text, total))
+    if is_terminal() and lines:
+        head = 1 if title else 0
+        c = console()
         from rich.text import Text
 
-        for r in rows:
-            t.add_row(*[Text("" if v is None else str(v)) for v in r])
-        console().print(t)
+        for i, line in enumerate(out):
+            c.print(Text(line, style="bold" if i == head else ""), overflow="ignore", crop=False)
         return
-    cells = [[str(c) for c in columns]] + [["" if v is None else str(v) for v in r] for r in rows]
-    widths = [max(len(row[i]) for row in cells) for i in range(len(columns))]
-    out = []
-    if title:
-        out.append(title)
-    for j, row in enumerate(cells):
-        parts = [(row[i].rjust(widths[i]) if i in right else row[i].ljust(widths[i])) for i in range(len(row))]
-        out.append("  ".join(parts).rstrip())
-        if j == 0:
-            out.append("  ".join("-" * w for w in widths))
-    if caption:
-        out.append(caption)
     sys.stdout.write("\n".join(out) + "\n")
+
+
+def wrap_text(text: str, total: int | None = None, indent: str = "") -> list[str]:
+    """Prose wrapped to the width (continuation lines indented by ``indent``)."""
+    import textwrap
+
+    total = width() if total is None else total
+    if len(text) <= total:
+        return [text]
+    return textwrap.wrap(text, width=max(total, 40), subsequent_indent=indent, break_on_hyphens=False,
+                         break_long_words=False) or [text]
 
 
 def esc(text) -> str:
@@ -109,12 +236,14 @@ def esc(text) -> str:
     return escape(str(text))
 
 
-def say(text: str = "", *, style: str | None = None) -> None:
+def say(text: str = "", *, style: str | None = None, wrap: bool = False) -> None:
     """A line of prose with rich markup (escape data with :func:`esc`); styled on a terminal, plain when piped."""
     if is_terminal():
         console().print(text, style=style)
     else:
-        sys.stdout.write(_strip_markup(text) + "\n")
+        plain = _strip_markup(text)
+        indent = " " * (len(plain) - len(plain.lstrip()) + 2)
+        sys.stdout.write(("\n".join(wrap_text(plain, indent=indent)) if wrap else plain) + "\n")
 
 
 def _strip_markup(text: str) -> str:
@@ -123,10 +252,34 @@ def _strip_markup(text: str) -> str:
     return Text.from_markup(text).plain
 
 
-def caution(lines: list[str]) -> None:
-    """The safety caution, set apart on a terminal."""
+QuietOpt = Annotated[bool, typer.Option("--quiet", "-q", help="Leave out the safety caution where no part is "
+                                        "sized (it is always printed with a sized part).")]
+_quiet = False
+_cautioned: set[str] = set()
+
+
+def set_quiet(on: bool) -> None:
+    global _quiet
+    _quiet = bool(on)
+
+
+def reset() -> None:
+    """Forget what this command printed once (called when a command ends)."""
+    global _quiet, _wide
+    _quiet = _wide = False
+    _cautioned.clear()
+
+
+def caution(lines: list[str], *, sized: bool = False) -> None:
+    """The safety caution, once per command, set apart on a terminal; ``--quiet`` leaves it out unless a part was
+    sized."""
+    if _quiet and not sized:
+        return
     for line in lines:
         head, sep, rest = line.partition(":")
         if sep and head.strip().lower() == "caution":
             line = rest.strip()
-        say(f"[bold yellow]CAUTION[/]: {esc(line)}")
+        if line in _cautioned:
+            continue
+        _cautioned.add(line)
+        say(f"[bold yellow]CAUTION[/]: {esc(line)}", wrap=True)

@@ -6,7 +6,7 @@ from typing import Annotated, Optional
 import typer
 
 from cli import state
-from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, SectionsOpt, StrictOpt
+from cli.output import DefaultsOpt, ExtrapolateOpt, JsonOpt, QuietOpt, SectionsOpt, StrictOpt, set_quiet
 from cli.service_opts import (AmbientOpt, CapacitanceOpt, LifeFractionOpt, LifeOpt, PackingOpt, RippleOpt,
                               SeriesResistanceOpt, ThermalResistanceOpt)
 
@@ -41,7 +41,8 @@ def parse_gap_options(gap, pressure):
 def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
             temp: TempOpt = None, area: AreaOpt = None, failure_prob: ProbOpt = None, margin: MarginOpt = 1.0,
             extrapolate: ExtrapolateOpt = False, gap: GapOpt = None, pressure: PressureOpt = None,
-            strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+            strict: StrictOpt = False, assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False,
+            quiet: QuietOpt = False):
     """Energy-density ceiling ½·ε0·εr·E² and the design density at a temperature, area and failure probability."""
     from db.query import load_materials
     from materials.errors import InputError
@@ -49,6 +50,7 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
     from materials.units import parse_option
     from ranking.ceiling import ceiling_at
 
+    set_quiet(quiet)
     temps = [parse_option(t, "temperature", name="--temp") for t in (temp or ["25"])]
     a = parse_option(area, "capacitor_area", name="--area") if area else None
     if failure_prob is not None and not 0 < failure_prob < 1:
@@ -68,27 +70,49 @@ def ceiling(keys: Annotated[list[str], typer.Argument(help="Material keys.")],
         return
     from cli.fmt import display
     from cli.output import caution, say, table
+    from cli.shortlist_cmds import marks_legend
     from materials.numfmt import fmt_celsius, fmt_number
+    from ranking.report.marks import MARKS
 
-    body = []
+    kinds = _source_kinds()
+    body, used = [], set()
     for r in rows:
+        cls = _ceiling_evidence(r, kinds)
+        used.add(cls)
+        mk = MARKS[cls] if cls else ""
         body.append([r.key, fmt_celsius(r.temperature_K), fmt_number(r.relative_permittivity),
-                     display("breakdown_field", r.breakdown_field_V_per_m), f"{fmt_number(r.ceiling_J_per_m3 / 1e6)}",
-                     display("breakdown_field", r.design_field_V_per_m), f"{fmt_number(r.design_J_per_m3 / 1e6)}",
+                     display("breakdown_field", r.breakdown_field_V_per_m), fmt_number(r.ceiling_J_per_m3 / 1e6) + mk,
+                     display("breakdown_field", r.design_field_V_per_m), fmt_number(r.design_J_per_m3 / 1e6) + mk,
                      ("extrapolated " if r.extrapolated else "") + r.method, ", ".join(r.sources)])
     cond = []
     cond.append(f"area {fmt_number(a)} m²" if a else "at the test area")
-    cond.append(f"failure probability {fmt_number(failure_prob, 6)}" if failure_prob is not None
+    cond.append(f"failure probability {fmt_number(failure_prob)}" if failure_prob is not None
                 else "Weibull scale (63.2 %)")
-    cond.append(f"margin {fmt_number(margin, 6)}")
+    cond.append(f"margin {fmt_number(margin)}")
     if gap_m is not None:
         cond.append(f"gap {fmt_number(gap_m * 1e6)} µm at {fmt_number((pressure_Pa or 101.3e3) / 1e3)} kPa")
     table(["key", "T", "εr", "E_bd", "ceiling J/cm³", "E_design", "design J/cm³", "method", "sources"], body,
-          right={2, 3, 4, 5, 6}, caption="design: " + ", ".join(cond))
+          right={2, 3, 4, 5, 6}, legend=[marks_legend(used)], caption="design: " + ", ".join(cond))
     for r in rows:
         for n in r.notes:
-            say(f"note ({r.key}, {fmt_celsius(r.temperature_K)}): {n}")
-    caution([CAUTION])
+            say(f"note ({r.key}, {fmt_celsius(r.temperature_K)}): {n}", wrap=True)
+    caution([CAUTION], sized=False)
+
+
+def _source_kinds() -> dict[str, str]:
+    """Source key → kind, for the evidence marks of ceiling and size."""
+    with state.store().reading() as conn:
+        return dict(conn.exec_driver_sql("SELECT key, kind FROM source").fetchall())
+
+
+def _ceiling_evidence(r, kinds: dict) -> str | None:
+    """One ceiling row's evidence class: its sources' kinds, held outside the data, an assumed shape or area."""
+    from ranking.report.marks import evidence
+
+    extra = ["extrapolated"] if r.extrapolated else []
+    if any(" assumed" in n for n in r.notes):  # the words of an assumed Weibull shape or test area
+        extra.append("assumed")
+    return evidence([kinds.get(k, "assumed") for k in r.sources], extra=extra)
 
 
 def size(key: Annotated[str, typer.Argument(help="Material key.")],
@@ -113,13 +137,15 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
          life_fraction: LifeFractionOpt = None,
          packing_factor: PackingOpt = None,
          strict: StrictOpt = False, extrapolate: ExtrapolateOpt = False, sections: SectionsOpt = None,
-         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False):
+         assume_defaults: DefaultsOpt = False, json_out: JsonOpt = False, quiet: QuietOpt = False):
     """Size the dielectric of one part: thickness, area, volume, mass, capacitance, fields, failure probability;
     with a ripple and thermal resistance at its hot spot, with --life for its service life."""
     from cli.service_opts import parse_service
     from db.query import get_material
     from materials.units import parse_option
     from ranking.part import size_material
+
+    set_quiet(quiet)
 
     with state.store().session(read_only=True) as s:
         m = get_material(s, key)
@@ -142,37 +168,42 @@ def size(key: Annotated[str, typer.Argument(help="Material key.")],
         print_json(res)
         return
     from cli.output import caution, say, table
-    from materials.numfmt import fmt_celsius, fmt_number, fmt_quantity
+    from cli.shortlist_cmds import marks_legend
+    from materials.numfmt import fmt_celsius, fmt_eng, fmt_number
+    from ranking.report.marks import MARKS, evidence
 
-    rows = [["thickness", fmt_quantity(res["thickness_m"], "um", "m")
-             + (f" ({res['sections']} series sections of {fmt_quantity(res['layer_thickness_m'], 'um', 'm')})"
+    kinds = _source_kinds()
+    cls = evidence([kinds.get(k, "assumed") for k in res["sources"]], res.get("flags") or [], "size")
+    mk = MARKS[cls] if cls else ""
+    rows = [["thickness", fmt_eng(res["thickness_m"], "m") + mk
+             + (f" ({res['sections']} series sections of {fmt_eng(res['layer_thickness_m'], 'm')})"
                 if res["sections"] > 1 else "")],
-            ["active area", fmt_quantity(res["area_m2"], "m**2", "m2")],
-            ["dielectric volume", fmt_quantity(res["volume_m3"], "cm**3", "m3")],
-            ["dielectric mass",
-             fmt_quantity(res["mass_kg"], "g", "kg") if res["mass_kg"] is not None else "— (no density)"],
-            ["capacitance", fmt_quantity(res["capacitance_F"], "uF", "F")],
-            ["operating field", fmt_quantity(res["operating_field_V_per_m"], "V/um", "V/m")],
-            ["design field", fmt_quantity(res["design_field_V_per_m"], "V/um", "V/m")],
-            ["energy stored", fmt_quantity(res["energy_J"], "J", "J")],
-            ["failure probability", fmt_number(res["failure_probability"], 3)],
+            ["active area", fmt_eng(res["area_m2"], "m2") + mk],
+            ["dielectric volume", fmt_eng(res["volume_m3"], "m3") + mk],
+            ["dielectric mass", fmt_eng(res["mass_kg"], "kg") + mk if res["mass_kg"] is not None else "— (no density)"],
+            ["capacitance", fmt_eng(res["capacitance_F"], "F") + mk],
+            ["operating field", fmt_eng(res["operating_field_V_per_m"], "V/m") + mk],
+            ["design field", fmt_eng(res["design_field_V_per_m"], "V/m") + mk],
+            ["energy stored", fmt_eng(res["energy_J"], "J")],
+            ["failure probability", (fmt_number(res["failure_probability"]) if res["failure_probability"] >= 1e-6
+                                     else "< 0.000001") + mk],
             ["limited by", res["limited_by"]],
             ["worst temperature", fmt_celsius(res["worst_temperature_K"])]]
     if res.get("device_energy_density_J_per_m3") is not None:
         rows.append([f"device energy density (packing {fmt_number(res['packing_factor'])})",
-                     fmt_quantity(res["device_energy_density_J_per_m3"], "J/cm**3", "J/m3")])
+                     fmt_number(res["device_energy_density_J_per_m3"] / 1e6) + " J/cm³"])
     if res.get("dissipated_power_W") is not None:
-        rows.append(["dissipated power", fmt_quantity(res["dissipated_power_W"], "W", "W")
-                     + f" (series {fmt_quantity(res['series_resistance_ohm'], 'mohm', 'ohm')} and dielectric)"])
+        rows.append(["dissipated power", fmt_eng(res["dissipated_power_W"], "W") + mk
+                     + f" (series {fmt_eng(res['series_resistance_ohm'], 'Ω')} and dielectric)"])
     rows += service_rows(res)
-    cap = (f"{fmt_quantity(res['capacitance_target_F'], 'uF', 'F')} (" if res.get("capacitance_target_F") else "")
-    table(["", res["key"]], rows, right={1}, title=f"{res['name']} for {cap}{fmt_number(res['energy_J'])} J"
-          + (") at " if cap else " at ") + 
-          f"{fmt_number(res['voltage_V'])} V, {fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
+    cap = f"{fmt_eng(res['capacitance_target_F'], 'F')} (" if res.get("capacitance_target_F") else ""
+    table(["", res["key"]], rows, right={1}, keys=set(), long=set(), legend=[marks_legend({cls} if cls else ())],
+          title=f"{res['name']} for {cap}{fmt_eng(res['energy_J'], 'J')}" + (") at " if cap else " at ")
+          + f"{fmt_eng(res['voltage_V'], 'V')}, {fmt_celsius(res['tmin_K'])} … {fmt_celsius(res['tmax_K'])}")
     for n in res["notes"]:
-        say(f"note: {n}")
-    say("sources: " + ", ".join(res["sources"]))
-    caution(res["cautions"])
+        say(f"note: {n}", wrap=True)
+    say("sources: " + ", ".join(res["sources"]), wrap=True)
+    caution(res["cautions"], sized=True)
 
 
 def service_rows(d: dict) -> list[list[str]]:

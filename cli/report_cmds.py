@@ -14,8 +14,8 @@ from cli import state
 from cli.output import DefaultsOpt, JsonOpt, StrictOpt
 
 chart_app = typer.Typer(
-    help="Charts as PNG or SVG (chosen by the --out extension): the permittivity–breakdown map, design energy "
-         "against temperature, Weibull plots of breakdown data, P–E loops.", no_args_is_help=True)
+    help="Charts as PNG or SVG (chosen by the --out extension): the headroom of a shortlist below its ceilings, "
+         "design energy against temperature, Weibull plots of breakdown data, P–E loops.", no_args_is_help=True)
 
 OutOpt = Annotated[Path, typer.Option("--out", help="Chart file, .png or .svg.", show_default=False)]
 ForceOpt = Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")]
@@ -81,8 +81,7 @@ def export(
     target: Annotated[Optional[Path], typer.Option("--target", help="Run the shortlist for this target TOML file "
                                                    "(see README) and export it.")] = None,
     method: Annotated[str, typer.Option("--method", help="With --target: topsis, weighted or pareto.")] = "topsis",
-    top: Annotated[int, typer.Option("--top", help="With --target: the k of P(top k) (at most 3 by default).")]
-    = 3,
+    k: Annotated[int, typer.Option("--k", metavar="K", help="With --target: the k of P(top k).")] = 3,
     family: FamilyOpt = None,
     temp: TempOpt = None,
     extrapolate: Annotated[bool, typer.Option("--extrapolate", help="Comparison: outside a material's data, hold "
@@ -100,10 +99,11 @@ def export(
     --target FILE.toml     a fresh shortlist of the store's materials for that target
                            (for ad-hoc options: 'holdoff shortlist ... --export FILE')
 
-    The format follows the extension of --to: CSV (one table, a sources column beside each value), XLSX
-    (comparison, excluded, sources, target and notes sheets), Markdown and HTML (footnoted sources, the HTML with
-    inline charts and print layout for A4), JSON (SI numbers). Values resting on recollection (†) or invented (‡)
-    sources, or on an assumption (*), are marked in every format.
+    The format follows the extension of --to: CSV (one table written row by row, a sources and an evidence
+    column beside each value), XLSX (comparison, excluded by reason, sources, target and notes sheets), Markdown
+    and HTML (references [n]; the HTML a review document for A4 with its charts), JSON (SI numbers, written row by
+    row). Every value carries one evidence mark (published, lab, assumed, extrapolated, imputed, recollection,
+    invented), explained under each table.
     """
     from materials.errors import InputError
     from ranking import report
@@ -121,11 +121,11 @@ def export(
         from ranking.shortlist import shortlist as run
         from ranking.target import load_target
 
-        if top < 1:
-            raise InputError("--top must be at least 1")
+        if k < 1:
+            raise InputError("--k must be at least 1")
         t = load_target(target)
         mats = _load()
-        rep = report.from_shortlist(run(mats, t, method=method, top_k=top), materials=mats)
+        rep = report.from_shortlist(run(mats, t, method=method, top_k=k), materials=mats)
     else:
         from materials.units import parse_option
 
@@ -154,38 +154,49 @@ def _save(fig, out: Path, force: bool, what: str, json_out: bool, **extra) -> No
     _wrote(path, what, json_out, skipped=[{"key": k, "reason": r} for k, r in skipped], **extra)
 
 
-@chart_app.command("map")
-def chart_map(
-    keys: Annotated[Optional[list[str]], typer.Argument(help="Material keys (default: every material, or "
-                                                        "--family).", show_default=False)] = None,
+@chart_app.command("headroom")
+def chart_headroom(
+    target: Annotated[Optional[Path], typer.Option("--target", help="Target TOML file (see README); the options "
+                                                   "below override it.")] = None,
+    voltage: Annotated[Optional[str], typer.Option("--voltage", help="Working voltage (V unless a unit).")] = None,
+    tmin: Annotated[Optional[str], typer.Option("--tmin", help="Lowest temperature (°C unless a unit).")] = None,
+    tmax: Annotated[Optional[str], typer.Option("--tmax", help="Highest temperature (°C unless a unit).")] = None,
+    energy: Annotated[Optional[str], typer.Option("--energy", help="Energy the part stores (J unless a unit).")]
+    = None,
+    energy_density: Annotated[Optional[str], typer.Option("--energy-density", help="Required design energy "
+                                                          "density, drawn as a line (J/cm³ unless a unit).")] = None,
+    segment_area: Annotated[Optional[str], typer.Option("--segment-area", help="Segment area of self-healing "
+                                                        "films (cm² unless a unit).")] = None,
     family: FamilyOpt = None,
-    highlight: Annotated[Optional[str], typer.Option("--highlight", metavar="KEYS", help="Comma-separated keys "
-                                                     "to draw filled (e.g. a shortlist).")] = None,
-    temp: TempOpt = None,
-    labels: Annotated[Optional[bool], typer.Option("--labels/--no-labels", help="Write every key beside its "
-                                                   "marker (default: all up to 20 materials, else highlighted "
-                                                   "only).", show_default=False)] = None,
+    method: Annotated[str, typer.Option("--method", help="topsis, weighted or pareto.")] = "topsis",
+    rows: Annotated[int, typer.Option("--rows", metavar="N", help="Candidates drawn, in rank order.")] = 15,
+    strict: StrictOpt = False,
     out: OutOpt = ...,
     force: ForceOpt = False,
     json_out: JsonOpt = False,
 ):
-    """Permittivity against breakdown field, log–log, with lines of constant ½·ε0·εr·E² in J/cm³."""
-    from ranking.charts import map_chart
+    """Per ranked candidate, a bar from its design energy density up to its ceiling at the worst temperature of the
+    range, in rank order, with the target as a line: how much each one gives away to area, failure probability,
+    margin and temperature."""
+    from db.query import load_table
+    from materials.errors import InputError
+    from ranking.charts import headroom_chart, worst_ceilings
+    from ranking.shortlist import shortlist as run
+    from ranking.target import target_from_options
 
     _check_chart(out, force)
-    _family(family)
-    from materials.units import parse_option
-
-    t_K = parse_option(temp, "temperature", name="--temp") if temp else None
-    mats = _load(keys, family)
-    hl = _keys(highlight)
-    missing = sorted(set(hl) - {m.key for m in mats})
-    if missing:
-        from materials.errors import InputError
-
-        raise InputError(f"--highlight: '{missing[0]}' is not among the charted materials")
-    fig = map_chart(mats, highlight=hl, temperature_K=t_K, labels=labels)
-    _save(fig, out, force, f"map of {len(mats) - len(fig.skipped)} materials", json_out)
+    if rows < 1:
+        raise InputError("--rows must be at least 1")
+    t = target_from_options(target_file=target, voltage=voltage, tmin=tmin, tmax=tmax, energy=energy,
+                            energy_density=energy_density, segment_area=segment_area, families=family,
+                            strict=strict)
+    with state.store().reading() as conn:
+        table = load_table(conn)
+    result = run(table, t, method=method, draws=0, rows=rows, excluded_rows=0)
+    fig = headroom_chart(result, worst_ceilings(table, t), rows=rows)
+    _save(fig, out, force, f"headroom of {len(fig.values)} ranked candidates", json_out,
+          values=[{"label": k, "rank": v[0], "design_J_per_m3": v[1], "ceiling_J_per_m3": v[2]}
+                  for k, v in fig.values.items()])
 
 
 @chart_app.command("ceiling")

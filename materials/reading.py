@@ -23,11 +23,15 @@ REFERENCE_FREQUENCY_HZ = 1e3
 
 
 def fmt_temperature(t_K: float) -> str:
-    return f"{t_K - 273.15:g} °C"
+    from materials.numfmt import fmt_celsius
+
+    return fmt_celsius(t_K)
 
 
 def fmt_field(e_V_per_m: float) -> str:
-    return f"{e_V_per_m / 1e6:g} V/µm"
+    from materials.numfmt import fmt_number
+
+    return f"{fmt_number(e_V_per_m / 1e6)} V/µm"
 
 
 def outside_data_message(prop: str, lo, hi, x, what=fmt_temperature) -> str:

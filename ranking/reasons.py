@@ -23,7 +23,9 @@ def _um(d_m: float) -> str:
 
 
 def _vum(e: float) -> str:
-    return f"{e / 1e6:.4g} V/µm"
+    from materials.numfmt import fmt_number
+
+    return f"{fmt_number(e / 1e6)} V/µm"
 
 
 def _h(t_s: float) -> str:

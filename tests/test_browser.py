@@ -92,3 +92,35 @@ def test_report_prints_on_a4_pages(report_html, tmp_path):
     sizes = np.array([[float(w), float(h)] for w, h in boxes])
     assert np.allclose(sizes, A4_PT, atol=1.5), sizes[:3]
     assert 2 <= len(boxes) <= 20
+
+
+def _pages(pdf: Path) -> int:
+    return len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
+
+
+def test_review_document_prints_on_few_a4_pages_without_cut_columns(report_html, tmp_path):
+    """Printed by headless Chromium: A4 portrait, the main part and the appendix on a handful of pages; laid out at
+    the A4 text width (186 mm), no table is wider than the page and no cell's content spills out of it."""
+    pdf = tmp_path / "review.pdf"
+    run = _chromium(tmp_path, report_html, f"--print-to-pdf={pdf}", "--no-pdf-header-footer")
+    assert pdf.exists(), run.stderr[-2000:]
+    assert 2 <= _pages(pdf) <= 10
+    # a copy with a measuring script (the report itself has none), at the printed text width of 186 mm = 703 px
+    probe = tmp_path / "probe.html"
+    script = """<script>
+    window.addEventListener('load', () => {
+      const bad = [];
+      const page = document.body.clientWidth;
+      for (const t of document.querySelectorAll('table')) {
+        if (t.scrollWidth > page + 1) bad.push('table ' + t.className + ' ' + t.scrollWidth + '>' + page);
+        for (const c of t.querySelectorAll('td, th'))
+          if (c.scrollWidth > c.clientWidth + 1) bad.push('cell ' + c.textContent.trim().slice(0, 30));
+      }
+      const out = document.createElement('pre'); out.id = 'overflow'; out.textContent = JSON.stringify(bad);
+      document.body.appendChild(out);
+    });</script>"""
+    probe.write_text(report_html.read_text().replace("</body>", script + "</body>"))
+    run = _chromium(tmp_path, probe, "--dump-dom", "--window-size=703,1000", "--virtual-time-budget=3000")
+    found = re.search(r'<pre id="overflow">(.*?)</pre>', run.stdout, re.S)
+    assert found, run.stderr[-2000:]
+    assert found.group(1) == "[]", found.group(1)[:2000]

@@ -40,57 +40,88 @@ def mats(make_material):
             m("x7r", 2500.0, 20e6, "ceramic-class-2")]
 
 
-# --- map ------------------------------------------------------------------------------------------------------
+# --- headroom -------------------------------------------------------------------------------------------------
 
-def test_map_axes_series_and_highlight(mats, make_material):
-    lonely = make_material("no-breakdown", [("relative_permittivity", 3.0, "handbook")])
-    fig = charts.map_chart(mats + [lonely], highlight=["pp"])
-    ax = fig.axes[0]
-    assert ax.get_xscale() == "log" and ax.get_yscale() == "log"
-    assert "breakdown field" in ax.get_xlabel() and "V/µm" in ax.get_xlabel()
-    assert "relative permittivity" in ax.get_ylabel()
-    markers = _lines(fig, "material:")
-    assert sorted(a.get_gid() for a in markers) == ["material:c0g", "material:pet", "material:pp", "material:x7r"]
-    assert fig.skipped and fig.skipped[0][0] == "no-breakdown"
-    pp = next(a for a in markers if a.get_gid() == "material:pp")
-    x, y = pp.get_xdata()[0], pp.get_ydata()[0]
-    assert (x, y) == pytest.approx((700.0, 2.2))
-    assert pp.get_markerfacecolor() == "black"
-    other = next(a for a in markers if a.get_gid() == "material:pet")
-    assert other.get_markerfacecolor() == "white"
-    legend = [t.get_text() for t in fig.legends[0].get_texts()]
-    assert legend[1:] == ["other", "highlighted"] or set(legend[1:]) == {"other", "highlighted"}
+def _target(**kw):
+    from ranking.target import Target
+
+    base = dict(voltage_V=800.0, tmin_K=233.15, tmax_K=378.15, energy_J=50.0, failure_probability=0.01, margin=1.2)
+    return Target(**{**base, **kw})
 
 
-def test_map_constant_energy_lines_have_slope_minus_two_and_the_right_level(mats):
-    """U = ½·ε0·εr·E² held constant is εr ∝ E⁻²: slope −2 on log–log axes; ε0 from scipy.constants."""
+def test_headroom_bars_run_from_the_design_value_to_the_worst_temperature_ceiling(mats):
+    """Each bar starts at the shortlist's own design energy density and ends at ½·ε0·εr·E_bd² with the values of
+    the worst temperature (ε0 from scipy.constants); rank order top to bottom, target line where asked."""
     from scipy.constants import epsilon_0
 
-    fig = charts.map_chart(mats)
-    lines = _lines(fig, "energy-line:")
-    assert len(lines) >= 3
-    levels = sorted(float(a.get_gid().split(":")[1]) for a in lines)
-    assert 1.0 in levels and 10.0 in levels  # the data span 0.4–5 J/cm³: decade lines around them
-    for line in lines:
-        x = np.asarray(line.get_xdata()) * 1e6  # V/m
-        y = np.asarray(line.get_ydata())
-        slope = np.polyfit(np.log10(x), np.log10(y), 1)[0]
-        assert slope == pytest.approx(-2.0, abs=1e-9)
-        u = float(line.get_gid().split(":")[1]) * 1e6
-        assert 0.5 * epsilon_0 * y * x ** 2 == pytest.approx(np.full(x.size, u), rel=1e-9)
-    labels = [t.get_text() for t in fig.axes[0].texts if "J/cm³" in t.get_text()]
-    assert labels, "constant-energy lines are labelled"
+    from ranking.shortlist import shortlist
+
+    target = _target(energy_density_J_per_m3=0.05e6)
+    result = shortlist(mats[:3], target, draws=0)
+    ceilings = charts.worst_ceilings(mats[:3], target)
+    fig = charts.headroom_chart(result, ceilings)
+    for r in result["ranked"]:
+        rank, design, ceiling = fig.values[r["label"]]
+        assert rank == r["rank"] and design == r["criteria"]["energy"]
+        bar = _by_gid(fig, f"headroom:{r['label']}")[0]
+        assert bar.get_x() == pytest.approx(design / 1e6)
+        assert bar.get_x() + bar.get_width() == pytest.approx(ceiling / 1e6)
+    # the fixture's values do not change with temperature: the ceiling is the 25 °C one
+    eps, ebd = 2.2, 700e6
+    assert fig.values["pp"][2] == pytest.approx(0.5 * epsilon_0 * eps * ebd ** 2, rel=1e-9)
+    ys = [_by_gid(fig, f"headroom:{r['label']}")[0].get_y() for r in result["ranked"]]
+    assert ys == sorted(ys, reverse=True)
+    (tline,) = [a for a in _lines(fig, "target") if a.get_gid() == "target"]
+    assert tline.get_xdata()[0] == pytest.approx(0.05)
+    texts = [t.get_text() for t in fig.axes[0].texts]
+    assert {str(r["rank"]) for r in result["ranked"]} <= set(texts)
 
 
-def test_map_error_bars_span_the_value_ranges(mats):
-    fig = charts.map_chart(mats[:1])
-    ax = fig.axes[0]
-    cont = ax.containers[0]
-    segs = [seg for coll in cont.lines[2] for seg in coll.get_segments()]
-    xs = sorted({round(float(p[0]), 6) for seg in segs for p in seg})
-    ys = sorted({round(float(p[1]), 6) for seg in segs for p in seg})
-    assert xs[0] == pytest.approx(560.0) and xs[-1] == pytest.approx(770.0)   # 700 V/µm, range 0.8…1.1
-    assert ys[0] == pytest.approx(1.98) and ys[-1] == pytest.approx(2.42)     # εr 2.2 ± 10 %
+def test_every_plotted_value_is_its_table_cell(mats, tmp_path):
+    """The report's figures and its table come from one evaluation: every design value drawn (headroom bar start,
+    the worst-case segment of the temperature figure) equals the table cell it stands for, as the table prints
+    it; the temperature figure honours a segment area and a fixed layer."""
+    from ranking.report import document, from_shortlist, report_charts
+    from ranking.shortlist import shortlist
+
+    for kw in ({}, {"segment_area_m2": 4e-4}, {"thicknesses_m": (4e-6,), "energy_J": None,
+                                               "energy_density_J_per_m3": None}):
+        target = _target(**kw)
+        result = shortlist(mats[:3], target, draws=0)
+        rep = from_shortlist(result, materials=mats[:3])
+        doc = document(rep)
+        col = [c["label"] for c in doc["columns"]].index("design energy density")
+        table = {r["label"]: r["cells"][col]["value"] for r in doc["rows"]}
+        figs = {title: fig for title, _cap, fig in report_charts(rep)}
+        head = figs["Headroom by rank"]
+        temp = figs["Design energy density across the operating range"]
+        from materials.numfmt import fmt_number
+
+        for label, cell in table.items():
+            assert fmt_number(head.values[label][1] / 1e6) == cell
+            assert fmt_number(temp.values[label] / 1e6) == cell
+            seg = _by_gid(temp, f"table:{label}")[0]
+            assert fmt_number(seg.get_ydata()[0]) == cell
+            # the range ends are evaluated, and no point lies outside the range
+            t, _u = temp.curves[label]
+            assert t[0] == pytest.approx(target.tmin_K) and t[-1] == pytest.approx(target.tmax_K)
+            # with values flat in temperature, every evaluated point is the table's worst case
+            assert np.nanmax(np.abs(_u - temp.values[label])) <= 1e-9 * temp.values[label]
+
+
+def test_the_comparison_figure_plots_the_ceiling_column(mats):
+    """The comparison's figure plots the ceiling (its axis says so) and at the table's temperature gives the
+    table's ceiling column."""
+    from ranking.report import from_materials, report_charts
+    from materials.lookup import REFERENCE_TEMPERATURE_K
+
+    rep = from_materials(mats)
+    ((title, cap, fig),) = report_charts(rep)
+    assert "ceiling" in fig.axes[0].get_ylabel() and "no area scaling" in cap
+    for r in rep.rows:
+        temps, u, _ex = fig.curves[r.key]
+        j = int(np.argmin(np.abs(temps - REFERENCE_TEMPERATURE_K)))
+        assert u[j] == pytest.approx(r.values["ceiling"], rel=1e-12)
 
 
 # --- ceiling --------------------------------------------------------------------------------------------------
@@ -223,7 +254,7 @@ def test_loop_chart_refuses_mismatched_arrays():
 # --- files ----------------------------------------------------------------------------------------------------
 
 def test_save_png_and_svg_by_extension(mats, tmp_path):
-    fig = charts.map_chart(mats)
+    fig = charts.ceiling_chart(mats, [233.15, 298.15, 358.15])
     png = charts.save(fig, tmp_path / "m.png")
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     svg = charts.save(fig, tmp_path / "m.svg")
@@ -249,14 +280,17 @@ def test_score_chart_bars(mats):
 
 # --- CLI ------------------------------------------------------------------------------------------------------
 
-def test_cli_chart_map_and_ceiling(cli, mini_catalog, tmp_path):
-    out = tmp_path / "map.svg"
-    code, stdout, stderr = cli(["chart", "map", "--highlight", "mini-film", "--out", out], catalog=mini_catalog)
+def test_cli_chart_headroom_and_ceiling(cli, mini_catalog, tmp_path):
+    out = tmp_path / "headroom.svg"
+    code, stdout, stderr = cli(["chart", "headroom", "--voltage", "400", "--tmin", "-20", "--tmax", "85",
+                                "--energy-density", "0.01", "--out", out, "--json"], catalog=mini_catalog)
     assert code == 0, stderr
     assert "<svg" in out.read_text()
-    code, _o, stderr = cli(["chart", "map", "--highlight", "nope", "--out", tmp_path / "m2.png"],
-                           catalog=mini_catalog)
-    assert code == 2 and "nope" in stderr
+    values = json.loads(stdout)["values"]
+    assert values and [v["rank"] for v in values] == sorted(v["rank"] for v in values)
+    assert all(v["ceiling_J_per_m3"] >= v["design_J_per_m3"] for v in values)
+    code, _o, stderr = cli(["chart", "map", "--out", tmp_path / "m2.png"], catalog=mini_catalog)
+    assert code == 2 and "No such command" in stderr
     out = tmp_path / "ceil.png"
     code, stdout, stderr = cli(["chart", "ceiling", "mini-film", "--tmin", "-40", "--tmax", "105",
                                 "--target-density", "1", "--range", "-20,85", "--out", out, "--json"],
@@ -310,21 +344,28 @@ def test_cli_chart_weibull_of_stored_sets(cli, tmp_path):
     assert code == 2 and "no stored breakdown sets" in stderr
 
 
-def test_a_big_map_draws_the_rest_as_one_marker_set(make_material):
-    """Thousands of separate error-bar artists take minutes to draw; beyond a limit the rest are one set."""
-    n = charts.MAP_SINGLE_ARTISTS + 50
-    many = [make_material(f"m{i}", [("relative_permittivity", 2.0 + i / n, "handbook"),
-                                    ("breakdown_field", 3e8 + 1e5 * i, "handbook")]) for i in range(n)]
-    fig = charts.map_chart(many, highlight=["m1", "m2"])
-    assert sorted(a.get_gid() for a in _lines(fig, "material:")) == ["material:m1", "material:m2"]
-    (rest,) = _lines(fig, "materials:others")
-    assert len(rest.get_xdata()) == n - 2
-    assert any(t.get_text() == f"other ({n - 2})" for t in fig.legends[0].get_texts())
-
-
 def test_the_score_chart_shows_the_head_of_a_long_ranking():
     ranked = [{"rank": i + 1, "key": f"m{i}", "label": f"m{i}", "score": 1 - i / 100, "p_top": 0.0}
               for i in range(charts.SCORE_ROWS + 20)]
     fig = charts.score_chart({"ranked": ranked, "method": "topsis", "counts": {"ranked": 5000}})
     assert len(_by_gid(fig, "score:")) == charts.SCORE_ROWS
     assert fig.axes[0].get_title(loc="left") == f"Ranking: the first {charts.SCORE_ROWS} of 5000"
+
+
+def test_dense_series_are_thinned_for_the_picture_not_for_the_numbers():
+    """A loop of 20,000 points and a breakdown set of 3,000 draw at most a few hundred points each; the energies
+    and the fit still use every point (the loop's worked example: lost = Pr·Emax/2 = 1.2 J/cm³)."""
+    from ranking.charts.common import THIN_LIMIT
+
+    t = np.linspace(0.0, 1.0, 20_001)
+    e = 30e6 * np.sin(np.pi * t)
+    p_ch = 0.3 * np.tanh(e / 15e6)
+    p = np.where(t <= 0.5, p_ch, p_ch + 0.08 * (1 - e / 30e6))
+    fig = charts.loop_chart(e, p)
+    (line,) = _lines(fig, "loop")
+    assert len(line.get_xdata()) <= THIN_LIMIT + 2 and max(line.get_xdata()) == pytest.approx(300.0)
+    assert fig.energies.lost_J_per_m3 == pytest.approx(1.2e6, rel=2e-3)
+    x = _sample(4, 3000)
+    fig = charts.weibull_chart([("big", x)])
+    assert len(_lines(fig, "data:")[0].get_xdata()) <= THIN_LIMIT
+    assert fig.fits["big"].n == 3000

@@ -247,7 +247,7 @@ def test_a_scattered_lab_set_stops_no_one_else(cli, tmp_path):
     code, out, err = cli(["breakdown", "import", str(path), "--material", "pps-film"])
     assert code == 0, err
     code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "25", "--tmax", "25", "--energy", "80",
-                          "--json", "--draws", "50"])
+                          "--json", "--draws", "100"])
     assert code == 0, err
     res = json.loads(out)
     assert res["ranked"] and "pps-film" not in {r["key"] for r in res["ranked"]}

@@ -171,7 +171,7 @@ def test_size_and_shortlist_json_carry_the_service_figures(cli):
     assert d["dissipated_power_W"] > 3600 * 1e-3
     assert d["binding_limit"] == "life" and d["limited_by"] == "life"
     assert d["b_life_s"] == pytest.approx(30000 * HOUR, rel=1e-6)
-    code, out, err = cli(["shortlist", "--target", "examples/dc-link-life-target.toml", "--draws", "50", "--json"])
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-life-target.toml", "--draws", "100", "--json"])
     assert code == 0, err
     res = json.loads(out)
     top = res["ranked"][0]["design"]

@@ -18,8 +18,8 @@ def test_the_text_holds_the_value_rounded_as_python_rounds_significant_figures(x
     assert float(fmt_number(x, digits)) == float(format(x, f".{digits}g"))
 
 
-@given(st.floats(min_value=1e-4, max_value=9.9e6) | st.floats(min_value=-9.9e6, max_value=-1e-4))
-def test_positional_between_1e_minus_4_and_1e7(x):
+@given(st.floats(min_value=1e-6, max_value=9.9e8) | st.floats(min_value=-9.9e8, max_value=-1e-6))
+def test_positional_between_1e_minus_6_and_1e9(x):
     text = fmt_number(x)
     assert "e" not in text
     assert not (("." in text) and text.endswith("0"))  # no trailing zeros after the point
@@ -27,7 +27,8 @@ def test_positional_between_1e_minus_4_and_1e7(x):
 
 @pytest.mark.parametrize("value,digits,text", [
     (2.5, 4, "2.5"), (73060.0, 4, "73060"), (725060.3, 3, "725000"), (0.0002, 4, "0.0002"),
-    (1.447e-05, 4, "1.447e-05"), (1.5e-05, 4, "1.5e-05"), (1.35e7, 3, "1.35e+07"), (9999999.7, 4, "1e+07"),
+    (1.447e-05, 4, "0.00001447"), (1.5e-05, 4, "0.000015"), (1.35e7, 3, "13500000"), (9999999.7, 4, "10000000"),
+    (1.447e-07, 4, "1.447e-07"), (1.35e9, 3, "1.35e+09"),
     (9.99996, 4, "10"), (-40.0, 4, "-40"), (0.0, 4, "0"), (None, 4, MISSING), (math.nan, 4, MISSING),
     (math.inf, 4, "inf")])
 def test_number_examples(value, digits, text):
@@ -61,3 +62,15 @@ def test_quantities_in_display_units():
     assert fmt_quantity(None, "V/um", "V/m") == MISSING
     assert to_display(378.15, "K", "degC") == pytest.approx(105.0)
     assert fmt_celsius(378.15) == "105 °C" and fmt_celsius(None) == MISSING
+
+
+@pytest.mark.parametrize("value,unit,text", [
+    (4.7e-6, "F", "4.7 µF"), (0.005093, "W", "5.09 mW"), (1e4, "Hz", "10 kHz"), (2.689e-2, "m3", "26.9 L"),
+    (37.65, "kg", "37.6 kg"), (0.9996, "F", "1 F"), (8.1e-7, "m3", "810 mm³"), (0.5, "J", "500 mJ"),
+    (147.3e6, "V/m", "147 V/µm"), (None, "F", MISSING), (0.0, "W", "0 W")])
+def test_engineering_prefix_per_value(value, unit, text):
+    """Three significant figures with the prefix that puts the number between 1 and 1000 (SI brochure, 9th ed.,
+    section 3: prefixes are chosen so that the numerical value lies between 0.1 and 1000)."""
+    from materials.numfmt import fmt_eng
+
+    assert fmt_eng(value, unit) == text

@@ -27,7 +27,7 @@ def test_readme_usage_example_runs(command, cli, tmp_path, monkeypatch):
     (tmp_path / "examples").symlink_to(ROOT / "examples")
     monkeypatch.chdir(tmp_path)
     args = shlex.split(command)[1:]
-    extra = ["--draws", "50"] if args[0] == "shortlist" else []
+    extra = ["--draws", "100"] if args[0] == "shortlist" else []
     code, out, err = cli(args + extra)
     # A shortlist that ranks nothing exits 1 and still prints its table: the README may show one (--strict).
     assert code == (1 if "--strict" in args else 0), err
@@ -62,3 +62,12 @@ def _means_something(args, extra, cli):
         code, out, err = cli(args + ["--json"])
         data = json.loads(out)
         assert data["stack_breakdown_V"] > 0 and data["first_to_fail"] in [ly["key"] for ly in data["layers"]]
+
+
+def test_readme_marks_table_is_the_programs():
+    """The README's table of evidence marks is the one the program prints (ranking.report.marks)."""
+    from ranking.report.marks import LEGEND, MARKS
+
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    rows = dict(re.findall(r"^\| `(.)` \| (.+?) \|$", text, re.M))
+    assert rows == {MARKS[c]: LEGEND[c] for c in MARKS}

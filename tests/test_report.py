@@ -50,7 +50,9 @@ def result():
          "contributions": {"energy": 0.5, "volume": 0.2, "drift": 0.05, "confidence": 0.06}, "p_top": 0.7,
          "p_top_k": 0.95, "binding": "breakdown at 105 °C", "versus_winner": "", "dominated_by": None,
          "confidence": 0.9, "sources": {"energy": ["hb-1"], "volume": ["hb-1"], "drift": ["hb-1"],
-                                         "confidence": ["hb-1"]}, "flags": []},
+                                         "confidence": ["hb-1"]}, "flags": [],
+         "source_kinds": {"energy": ["handbook"], "volume": ["handbook"], "drift": ["handbook"],
+                          "confidence": ["handbook"]}},
         {"rank": 2, "key": "film-b", "name": "Film B", "family": "polymer-film", "thickness_m": None,
          "label": "film-b", "score": 0.64, "criteria": {"energy": 1.9e6, "volume": 2.6e-5, "drift": 0.05,
                                                           "confidence": 0.35},
@@ -58,7 +60,9 @@ def result():
          "p_top_k": 0.9, "binding": "breakdown at 105 °C", "versus_winner": "behind on design energy density",
          "dominated_by": "film-a", "confidence": 0.35,
          "sources": {"energy": ["mem-1", "hb-1"], "volume": ["mem-1"], "drift": [], "confidence": ["mem-1"]},
-         "flags": ["drift missing: worst of the field assumed", "recollection"]},
+         "flags": ["drift missing: worst of the field assumed", "recollection"],
+         "source_kinds": {"energy": ["handbook", "recollection"], "volume": ["recollection"], "drift": ["assumed"],
+                          "confidence": ["recollection"]}},
     ]
     return {
         "target": {"name": "test bank", "voltage_V": 800.0, "tmin_K": 233.15, "tmax_K": 378.15,
@@ -149,16 +153,44 @@ def test_comparison_outside_the_data_is_left_empty_unless_extrapolated(make_mate
 
 # --- traceability marks -----------------------------------------------------------------------------------------
 
-def test_marks_recollection_invented_and_assumed(result, materials):
+def test_one_evidence_mark_per_cell_the_weakest_that_applies(result, materials):
+    from ranking.report.marks import LEGEND, MARKS, ORDER
+
+    assert len(set(MARKS.values())) == len(ORDER) == 7 and set(LEGEND) == set(MARKS)
+    assert not any(m.isalnum() or m in "+-.eE°%" for m in MARKS.values())  # never read as a digit, sign or unit
     rep = report.from_shortlist(result)
     a, b = rep.rows
-    assert rep.mark(a, "energy") == ""
-    assert rep.mark(b, "energy") == "†"
-    assert rep.mark(b, "drift") == "*"  # imputed: the worst of the field, no source of its own
+    assert rep.mark(a, "energy") == MARKS["published"]
+    assert rep.mark(b, "energy") == MARKS["recollection"]   # a handbook value beside a recollection: the weaker
+    assert rep.mark(b, "drift") == MARKS["imputed"]         # the worst of the field, no source of its own
     cmp_rep = report.from_materials(materials)
     demo = next(r for r in cmp_rep.rows if r.key == "demo-ceramic")
-    assert cmp_rep.mark(demo, "relative_permittivity") == "‡"
-    assert cmp_rep.mark(demo, "loss_tangent") == ""  # the loss tangent rests on a handbook
+    assert cmp_rep.mark(demo, "relative_permittivity") == MARKS["invented"]
+    assert cmp_rep.mark(demo, "loss_tangent") == MARKS["published"]  # the loss tangent rests on a handbook
+
+
+def test_the_same_mark_in_every_format(result, tmp_path):
+    """Terminal rule (row_evidence on the shortlist row), JSON, CSV, XLSX, Markdown and HTML agree cell by cell."""
+    from ranking.report.marks import MARKS, row_evidence
+
+    rep = report.from_shortlist(result)
+    names = [c.name for c in rep.columns]
+    data = json.loads(report.write(result, tmp_path / "r.json").read_text())
+    csv = pd.read_csv(report.write(result, tmp_path / "r.csv"))
+    xlsx = pd.read_excel(report.write(result, tmp_path / "r.xlsx"), sheet_name="comparison")
+    md = report.write(result, tmp_path / "r.md").read_text()
+    html = report.write(result, tmp_path / "r.html", charts=False).read_text()
+    for i, (raw, row) in enumerate(zip(result["ranked"], rep.rows, strict=True)):
+        terminal = row_evidence(raw, names)
+        for c in rep.columns:
+            cls = rep.evidence(row, c.name)
+            assert terminal[c.name] == cls == data["ranked"][i]["evidence"][c.name]
+            assert data["ranked"][i]["marks"][c.name] == MARKS[cls]
+            assert csv[f"{c.label}: evidence"][i] == cls == xlsx[f"{c.label}: evidence"][i]
+    assert "1.9 ? [2,1]" in md and "| 5 \\_ |" in md
+    assert 'class="num ev-recollection' in html and 'class="num ev-imputed' in html
+    for text in (md, html):
+        assert "recollection: remembered, not checked" in text and "imputed: missing" in text
 
 
 def test_footnote_numbers_cover_every_cited_source(result):
@@ -175,8 +207,9 @@ def test_xlsx_reads_back_equal_to_the_table(result, tmp_path):
     assert_same_table(back, df)
     sheets = pd.read_excel(path, sheet_name=None)
     assert set(sheets) == {"comparison", "excluded", "sources", "target", "notes"}
-    assert list(sheets["excluded"]["key"]) == ["demo-ceramic"]
-    assert "weibull_shape missing" in sheets["excluded"]["reasons"][0]
+    ex = sheets["excluded"].set_index("reason")
+    assert ex.loc["weibull_shape missing", "materials"] == "demo-ceramic"
+    assert ex.loc["rated to 85 °C (max); target needs 105 °C", "candidates"] == 1
     src = sheets["sources"].set_index("key")
     assert src.loc["mem-1", "kind"] == "recollection"
     assert src.loc["hb-1", "citation"] == "A Handbook, 3rd ed., table 4"
@@ -192,10 +225,12 @@ def test_xlsx_layout_frozen_header_number_formats_flagged_cells(result, tmp_path
     col = headers.index("design energy density [J/cm³]") + 1
     assert ws.cell(row=2, column=col).number_format == "0.000"
     assert ws.cell(row=2, column=headers.index("P(first)") + 1).number_format == "0%"
-    flagged = ws.cell(row=3, column=col)  # film-b's energy rests on a recollection
-    assert flagged.comment is not None and "recollection" in flagged.comment.text
-    assert flagged.fill.fgColor.rgb.endswith("E6E6E6")
-    assert ws.cell(row=2, column=col).comment is None
+    # the evidence sits in the column beside each value, no comment per cell
+    ev = headers.index("design energy density: evidence") + 1
+    assert ws.cell(row=3, column=ev).value == "recollection" and ws.cell(row=2, column=ev).value == "published"
+    assert all(c.comment is None for row in ws.iter_rows() for c in row)
+    notes = [c.value for row in load_workbook(path)["notes"].iter_rows() for c in row]
+    assert any(v and v.startswith("? recollection:") for v in notes)
 
 
 def test_xlsx_of_a_comparison(materials, tmp_path):
@@ -226,11 +261,12 @@ def test_json_round_trip_through_load_json(result, materials, tmp_path):
 def test_markdown_has_footnotes_marks_and_legend(result, tmp_path):
     text = report.write(result, tmp_path / "r.md").read_text()
     assert "| 1 | Film A (`film-a`)" in text
-    assert "[^1]: `hb-1` (handbook): A Handbook, 3rd ed., table 4" in text
-    assert "[^2]: `mem-1` (recollection, †)" in text
-    assert "1.9† [^2][^1]" in text
-    assert "\\*" in text and "not in the data" in text  # the assumed mark, escaped for Markdown
-    assert "## Excluded" in text and "rated to 85 °C" in text
+    assert "- [1] `hb-1` (handbook, =): A Handbook, 3rd ed., table 4" in text
+    assert "- [2] `mem-1` (recollection, ?)" in text
+    assert "1.9 ? [2,1]" in text and "[^" not in text  # references [n], never footnote superscripts
+    assert "| 5 \\_ |" in text and "imputed: missing" in text  # the imputed mark, escaped for Markdown
+    assert "| P(top 2) |" in text
+    assert "## Excluded, by reason" in text and "rated to 85 °C" in text
     assert "**Caution:** Screening estimates" in text
 
 
@@ -288,7 +324,7 @@ def test_html_is_self_contained_and_holds_table_sources_and_svg(result, material
     p = _parse(text)
     body = " ".join(p.text)
     assert p.tags.count("table") >= 3  # target, ranking, excluded
-    assert p.tags.count("svg") >= 2   # scores and the map (no ceiling: hand-made data has no Weibull shape)
+    assert p.tags.count("svg") >= 1   # scores (the engine's figures need a target the hand-made result lacks)
     assert "style" in p.tags and "script" not in p.tags and "link" not in p.tags
     assert "Film A" in body and "rated to 85 °C (max)" in body
     assert "A Handbook, 3rd ed., table 4" in body and "remembered by the curators" in body
@@ -303,9 +339,11 @@ def test_html_is_self_contained_and_holds_table_sources_and_svg(result, material
     assert len(ids) == len(set(ids))
     targets = {a["href"][1:] for t, a in p.attrs if t == "a" and a.get("href", "").startswith("#src-")}
     assert targets == {"src-1", "src-2"} and targets <= set(ids)
-    assert "@page { size: A4" in text and "@media print" in text
+    assert "@page { size: A4 portrait" in text and "counter(pages)" in text and "@media print" in text
+    assert 'class="refs">[<a href="#src-2"' in text and "<sup" not in text  # references [n], not superscripts
+    assert "P(top 2)" in body and "prepared by" in body and "checked by" in body
     # the flagged value carries its mark; the legend explains it
-    assert "1.9<span class=\"mark\">†</span>" in text and "remembered but not checked" in text
+    assert '1.9&#8239;<span class="mark">?</span>' in text and "remembered, not checked" in text
 
 
 def test_hostile_text_comes_out_escaped(result, tmp_path):
@@ -337,12 +375,12 @@ def test_hostile_text_comes_out_escaped(result, tmp_path):
     assert md.count("<script>") == md.count("\\<script>")
 
 
-def test_html_of_a_comparison_has_map_and_ceiling_charts(materials, tmp_path):
+def test_html_of_a_comparison_has_the_ceiling_chart(materials, tmp_path):
     text = report.write(materials, tmp_path / "c.html").read_text()
     p = _parse(text)
-    assert p.tags.count("svg") == 2
-    assert "Permittivity and breakdown field" in text and "Design energy density against temperature" in text
-    assert "‡" in text and "invented demo data" in text
+    assert p.tags.count("svg") == 1
+    assert "Ceiling against temperature" in text and "ceiling energy density" in text
+    assert '<span class="mark">!</span>' in text and "invented: demo data" in text
 
 
 def test_shortlist_of_the_real_catalog_exports_to_every_format(mem_store, tmp_path):
@@ -413,14 +451,14 @@ def test_cli_export_from_a_target_file(cli, tmp_path):
 
 
 def test_every_new_command_has_help(cli):
-    for args in (["export"], ["chart"], ["chart", "map"], ["chart", "ceiling"], ["chart", "weibull"],
+    for args in (["export"], ["chart"], ["chart", "headroom"], ["chart", "ceiling"], ["chart", "weibull"],
                  ["chart", "loop"]):
         code, stdout, _e = cli([*args, "--help"])
         assert code == 0 and len(stdout) > 200, args
 
 
-@pytest.mark.parametrize("value,text", [(2.5, "2.5"), (73060.0, "73060"), (0.0002, "0.0002"), (1.447e-05,
-                                                                                             "1.447e-05"),
+@pytest.mark.parametrize("value,text", [(2.5, "2.5"), (73060.0, "73100"), (0.0002, "0.0002"), (1.447e-05,
+                                                                                             "0.0000145"),
                                         (None, "—"), (math.nan, "—"), (0.0, "0")])
 def test_number_formatting(value, text):
     assert report.fmt_number(value) == text

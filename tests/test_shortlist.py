@@ -263,7 +263,7 @@ def test_shortlist_cli_table_and_json(cli):
     assert "ranked" in out and "excluded" in out and "CAUTION" in out
     assert "polypropylene" in out  # listed among the excluded, with its reason
     code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80",
-                          "--assume-defaults", "--draws", "50", "--json"])
+                          "--assume-defaults", "--draws", "100", "--json"])
     data = json.loads(out)
     assert {"target", "method", "ranked", "excluded"} <= set(data)
     assert {"rank", "key", "score", "criteria", "contributions", "p_top"} <= set(data["ranked"][0])
@@ -278,7 +278,7 @@ def test_shortlist_cli_bad_option_is_one_line(cli):
 
 
 def test_demo_target_runs(cli):
-    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--draws", "50"])
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--draws", "100"])
     assert code == 0, err
     assert "KR-8" in out
 
@@ -332,7 +332,7 @@ def test_ranked_rows_say_what_their_numbers_rest_on(make_material):
 
 
 def test_shortlist_text_prints_the_evidence_line(cli):
-    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--top", "3", "--draws", "50"])
+    code, out, err = cli(["shortlist", "--target", "examples/dc-link-target.toml", "--top", "3", "--draws", "100"])
     assert code == 0, err
     assert re.search(r"the top 3 rest on \d+% published, \d+% lab, \d+% common-practice and \d+% assumed or "
                      r"recollected values", " ".join(out.split()))
@@ -366,6 +366,6 @@ def test_sources_used_reports_the_evidence_behind_a_shortlist(cli):
 
 def test_nothing_ranked_prints_the_reasons_not_an_empty_grid(cli):
     code, out, err = cli(["shortlist", "--voltage", "800", "--tmin", "-40", "--tmax", "125", "--energy", "80",
-                          "--strict", "--draws", "50"])
+                          "--strict", "--draws", "100"])
     assert code == 1
     assert "0 ranked" in out and "p_top0" not in out and "weibull_shape missing" in out and "--strict" in out

@@ -18,7 +18,7 @@ def _target_numbers(target) -> dict:
 
 
 def ceiling_chart(materials, temps_K, *, target=None, area_m2=None, failure_probability: float | None = None,
-                  margin: float | None = None, assume_defaults: bool | None = None):
+                  margin: float | None = None, assume_defaults: bool | None = None, quantity: str = "design"):
     """Design energy density (J/cm³) against temperature (°C) for each material, with the target marked.
 
     The density at each temperature is :func:`ranking.ceiling.ceiling_at`'s design density: the breakdown field
@@ -36,6 +36,8 @@ def ceiling_chart(materials, temps_K, *, target=None, area_m2=None, failure_prob
         failure_probability, margin: design conditions passed to ``ceiling_at``.
         assume_defaults: let ``ceiling_at`` take common-practice Weibull defaults where the data lack them
             (default: the target's setting, else True).
+        quantity: "design" (the design density) or "ceiling" (``½·ε0·εr·E_bd²``, or the energy at E_bd on the
+            material's own curve, no area scaling): what is plotted, named on the axis.
 
     Returns:
         The figure; ``fig.curves`` maps key to ``(temps_K, J_per_m3, extrapolated)`` arrays and ``fig.skipped``
@@ -70,7 +72,8 @@ def ceiling_chart(materials, temps_K, *, target=None, area_m2=None, failure_prob
             except DataError as exc:
                 reason = str(exc)
                 continue
-            d = c.design_J_per_m3 if not isinstance(c, dict) else c["design_J_per_m3"]
+            name = "ceiling_J_per_m3" if quantity == "ceiling" else "design_J_per_m3"
+            d = getattr(c, name) if not isinstance(c, dict) else c[name]
             u[j] = d if d is not None else np.nan
             ex[j] = c.extrapolated if not isinstance(c, dict) else c["extrapolated"]
         if np.all(np.isnan(u)):
@@ -88,7 +91,8 @@ def ceiling_chart(materials, temps_K, *, target=None, area_m2=None, failure_prob
             ax.plot(tc[ex], uc[ex], linestyle="none", marker=st["marker"], color=st["color"],
                     markerfacecolor="white", markersize=4)
     ax.set_xlabel("temperature (°C)")
-    ax.set_ylabel("design energy density (J/cm³)")
+    what = "ceiling energy density" if quantity == "ceiling" else "design energy density"
+    ax.set_ylabel(f"{what} (J/cm³)")
     bits = []
     if isinstance(area, dict):
         bits.append("each part's own area")
@@ -98,7 +102,7 @@ def ceiling_chart(materials, temps_K, *, target=None, area_m2=None, failure_prob
         bits.append(f"failure probability {fmt_number(pf, 6)}")
     if mg and mg != 1.0:
         bits.append(f"margin {fmt_number(mg, 6)}")
-    ax.set_title("Design energy density against temperature" + ("\n" + ", ".join(bits) if bits else ""),
+    ax.set_title(what[:1].upper() + what[1:] + " against temperature" + ("\n" + ", ".join(bits) if bits else ""),
                  loc="left", fontsize=10)
     finite = np.concatenate([c[1][~np.isnan(c[1])] for c in curves.values()]) if curves else np.array([])
     u_target = t.get("energy_density_J_per_m3")
@@ -137,3 +141,105 @@ def rated_range(m):
         except DataError:
             out.append(None)
     return tuple(out)
+
+
+def as_target(target):
+    """A :class:`ranking.target.Target` from itself or from its dict (``Target.to_dict``, a saved shortlist)."""
+    from dataclasses import fields
+
+    from ranking.target import Target
+
+    if isinstance(target, dict):
+        names = {f.name for f in fields(Target)}
+        d = {k: v for k, v in target.items() if k in names}
+        d["families"] = tuple(d.get("families") or ())
+        d["thicknesses_m"] = tuple(d.get("thicknesses_m") or ())
+        d["weights"] = dict(d.get("weights") or {})
+        target = Target(**d)
+    return target
+
+
+def target_at(target, temperature_K: float):
+    """``target`` (a :class:`ranking.target.Target` or its dict) with its whole range at one temperature."""
+    from dataclasses import replace
+
+    return replace(as_target(target), tmin_K=float(temperature_K), tmax_K=float(temperature_K))
+
+
+def data_temperatures(materials, lo_K: float, hi_K: float) -> list[float]:
+    """The temperatures inside ``lo_K``…``hi_K`` at which the materials state a permittivity or breakdown field."""
+    out = set()
+    for m in materials:
+        for v in m.values:
+            if v.property in ("relative_permittivity", "breakdown_field") and v.temperature_K is not None \
+                    and lo_K <= v.temperature_K <= hi_K:
+                out.add(float(v.temperature_K))
+    return sorted(out)
+
+
+def design_temperature_chart(materials, target, rows, *, points: int = 13):
+    """Design energy density against temperature for shortlist ``rows``, from the evaluation engine.
+
+    Each temperature is evaluated by :func:`ranking.engine.evaluate` with the target's whole range at that
+    temperature and everything else as given (voltage, energy or area, segment area, failure probability, margin,
+    and the row's fixed layer thickness), over the range's ends, ``points`` steps between them and every stated
+    data temperature inside. The table's own worst-case value over the range is drawn as a thick segment across the
+    range. ``rows`` are shortlist rows (``key``, ``label``, ``thickness_m``, ``criteria``).
+
+    Returns the figure; ``fig.curves`` maps a row's label to ``(temps_K, J_per_m3)`` and ``fig.values`` to its
+    table value (J/m³), the number the segment is drawn at.
+    """
+    from materials.table import ValueTable
+    from ranking.engine import evaluate
+
+    t0 = target["tmin_K"] if isinstance(target, dict) else target.tmin_K
+    t1 = target["tmax_K"] if isinstance(target, dict) else target.tmax_K
+    full = target_at(target, t0)
+    by_key = {m.key: m for m in materials}
+    rows = [r for r in rows if r["key"] in by_key]
+    chosen = list(dict.fromkeys(r["key"] for r in rows))
+    table = ValueTable.from_materials([by_key[k] for k in chosen])
+    where = {k: i for i, k in enumerate(table.keys)}
+    temps = np.array(sorted(set(np.linspace(t0, t1, points).tolist())
+                            | set(data_temperatures([by_key[k] for k in chosen], t0, t1))))
+    layers = sorted({r.get("thickness_m") for r in rows}, key=lambda x: -1 if x is None else x)
+    u = {th: np.full((temps.size, len(chosen)), np.nan) for th in layers}
+    for j, tk in enumerate(temps):
+        tt = target_at(full, tk)
+        for th in layers:
+            cols = evaluate(table, tt, thickness_m=th)
+            val = np.asarray(cols.values["energy"], dtype=float)
+            out_of_rating = cols.fails["rated-outside-max"] | cols.fails["rated-outside-min"]
+            u[th][j] = np.where(out_of_rating, np.nan, val)
+    fig, ax = new_figure(7.5, 5.0)
+    fig.curves, fig.values = {}, {}
+    tc = temps - 273.15
+    for i, r in enumerate(rows):
+        st = style(i)
+        series = u[r.get("thickness_m")][:, where[r["key"]]]
+        fig.curves[r["label"]] = (temps, series)
+        (line,) = ax.plot(tc, series / J_PER_M3_PER_J_PER_CM3, color=st["color"], linestyle=st["linestyle"],
+                          marker=st["marker"], markersize=3.5, linewidth=1.1, label=f"{r['rank']}. {r['label']}")
+        line.set_gid(f"design:{r['label']}")
+        value = r["criteria"].get("energy")
+        if value is not None:
+            (seg,) = ax.plot([t0 - 273.15, t1 - 273.15], [value / J_PER_M3_PER_J_PER_CM3] * 2, color=st["color"],
+                             linewidth=3.0, alpha=0.55, solid_capstyle="butt")
+            seg.set_gid(f"table:{r['label']}")
+            fig.values[r["label"]] = float(value)
+    finite = np.concatenate([c[1][np.isfinite(c[1])] for c in fig.curves.values()] + [np.array(list(
+        fig.values.values()))]) if fig.curves else np.array([])
+    if finite.size and finite.min() > 0 and finite.max() / finite.min() > 30:
+        ax.set_yscale("log")
+    t = full.to_dict()
+    if t.get("energy_density_J_per_m3"):
+        line = ax.axhline(t["energy_density_J_per_m3"] / J_PER_M3_PER_J_PER_CM3, color="black", linewidth=1.0,
+                          linestyle=(0, (6, 3)), label="target")
+        line.set_gid("target")
+    ax.set_xlim(t0 - 273.15, t1 - 273.15)
+    ax.set_xlabel("temperature (°C)")
+    ax.set_ylabel("design energy density (J/cm³)")
+    ax.set_title("Design energy density across the operating range", loc="left", fontsize=10)
+    ax.grid(True, color="0.9", linewidth=0.5)
+    fig.legend(loc="outside right upper", fontsize=7, frameon=False)
+    return fig

@@ -75,3 +75,16 @@ def plain_log_axis(axis, lo: float, hi: float) -> None:
         axis.set_minor_formatter(fmt)
     else:
         axis.set_minor_formatter(ticker.NullFormatter())
+
+
+THIN_LIMIT = 400  # points one series draws; a denser series is thinned for the picture (numbers use all of them)
+
+
+def thin(n: int, limit: int = THIN_LIMIT, keep=()):
+    """Indices of at most ``limit`` (plus ``keep``) evenly spread points of a series of ``n``, both ends kept."""
+    import numpy as np
+
+    if n <= limit:
+        return np.arange(n)
+    idx = np.unique(np.r_[np.linspace(0, n - 1, limit).round().astype(int), np.asarray(keep, dtype=int)])
+    return idx

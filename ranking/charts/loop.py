@@ -6,7 +6,7 @@ import numpy as np
 
 from materials.errors import InputError
 from materials.numfmt import fmt_number
-from ranking.charts.common import new_figure
+from ranking.charts.common import new_figure, thin
 
 
 def _branches(field, pol):
@@ -69,6 +69,8 @@ def loop_chart(field, polarization, *, title: str | None = None):
     charge, discharge = _branches(e, p)
     ce, cp = _zero_end(ek, pu, charge)
     de, dp = _zero_end(ek, pu, discharge)
+    ce, cp = ce[thin(ce.size)], cp[thin(cp.size)]
+    de, dp = de[thin(de.size)], dp[thin(dp.size)]
     rec = Polygon(np.column_stack([np.r_[de, 0.0, 0.0], np.r_[dp, dp[-1], dp[0]]]), closed=True,
                   facecolor="0.8", edgecolor="none", hatch="", zorder=1, label="recovered")
     rec.set_gid("recovered")
@@ -77,7 +79,8 @@ def loop_chart(field, polarization, *, title: str | None = None):
                    facecolor="white", edgecolor="0.4", hatch="////", linewidth=0, zorder=1, label="lost")
     lost.set_gid("lost")
     ax.add_patch(lost)
-    (line,) = ax.plot(ek, pu, color="black", linewidth=1.2, label="measured loop", zorder=3)
+    k = thin(ek.size, keep=[int(np.argmax(ek)), int(np.argmin(ek))])
+    (line,) = ax.plot(ek[k], pu[k], color="black", linewidth=1.2, label="measured loop", zorder=3)
     line.set_gid("loop")
     ax.axhline(0, color="0.6", linewidth=0.6)
     ax.axvline(0, color="0.6", linewidth=0.6)

@@ -6,7 +6,7 @@ import numpy as np
 
 from materials.errors import InputError
 from materials.numfmt import fmt_number
-from ranking.charts.common import V_PER_M_PER_V_PER_UM, new_figure, plain_log_axis, style
+from ranking.charts.common import V_PER_M_PER_V_PER_UM, new_figure, plain_log_axis, style, thin
 
 
 def _weibull_y(p):
@@ -59,7 +59,8 @@ def weibull_chart(sets, *, confidence: float = 0.9):
         st = style(i)
         xe = x / V_PER_M_PER_V_PER_UM
         e_all.append(xe)
-        (pts,) = ax.plot(xe, _weibull_y(f), linestyle="none", marker=st["marker"], color=st["color"],
+        k = thin(xe.size)
+        (pts,) = ax.plot(xe[k], _weibull_y(f[k]), linestyle="none", marker=st["marker"], color=st["color"],
                          markerfacecolor="white" if i % 2 else st["color"], markersize=5,
                          label=f"{d['label']} (n = {fit.n}" + (f", {fit.n_censored} censored)" if fit.n_censored
                                                                  else ")"))

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 from ranking.outfile import check_output
@@ -20,9 +19,9 @@ def write(obj, path, *, force: bool = False, charts: bool = True) -> Path:
     path, ext = check_output(path, FORMATS, force=force, aliases=ALIASES)
     rep = as_report(obj)
     if ext == "csv":
-        from ranking.report.frames import comparison_frame
+        from ranking.report.frames import write_csv
 
-        comparison_frame(rep).to_csv(path, index=False, encoding="utf-8")
+        write_csv(rep, path)
     elif ext == "xlsx":
         from ranking.report.xlsx import write_xlsx
 
@@ -36,10 +35,10 @@ def write(obj, path, *, force: bool = False, charts: bool = True) -> Path:
 
         path.write_text(to_html(rep, charts=charts), encoding="utf-8")
     else:
-        from ranking.report.json_out import plain, to_json
+        from ranking.report.json_out import stream_json, to_json
 
-        path.write_text(json.dumps(plain(to_json(rep)), indent=2, ensure_ascii=False, allow_nan=False) + "\n",
-                        encoding="utf-8")
+        with open(path, "w", encoding="utf-8") as fh:
+            stream_json(to_json(rep), fh)
     return path
 
 

@@ -1,65 +1,69 @@
-"""The charts a report shows: the ranking's scores, the permittivity–breakdown map, design energy against
-temperature (figures from :mod:`ranking.charts`)."""
+"""The charts a report shows, each from the same evaluation as its tables: the headroom of the ranked candidates and
+their design energy density across the operating range (shortlist), the ceiling against temperature (comparison)."""
 
 from __future__ import annotations
 
 from ranking.report.model import as_report
 
 
-def report_charts(obj, *, top: int = 6) -> list[tuple[str, str, object]]:
-    """(title, caption, figure) of the charts a report can show: the ranking's scores (shortlist), and with
-    materials attached the property map and design energy against temperature."""
+def report_charts(obj, *, top: int = 6, bars: int = 15) -> list[tuple[str, str, object]]:
+    """(title, caption, figure) of the charts a report can show. A shortlist with its materials attached gives the
+    headroom chart and the design energy density of its first ``top`` rows across the range; a comparison gives
+    the ceiling against temperature; the captions say exactly what is plotted."""
     import numpy as np
 
+    from materials.numfmt import fmt_celsius, fmt_number
     from ranking import charts
 
     rep = as_report(obj)
     out = []
+    mats = rep.materials or []
     if rep.kind == "shortlist" and rep.rows and rep.raw is not None:
+        if mats and rep.target and rep.target.get("tmin_K") is not None:
+            from materials.table import ValueTable
+
+            target = charts.as_target(rep.target)
+            ceilings = charts.worst_ceilings(ValueTable.from_materials(mats), target)
+            rng = f"{fmt_celsius(target.tmin_K)} … {fmt_celsius(target.tmax_K)}"
+            out.append(("Headroom by rank",
+                        "Per ranked candidate, a bar from its design energy density (the table's value: breakdown "
+                        "scaled to the part's area or segment and failure probability, divided by the margin, at "
+                        f"the worst temperature of {rng}) up to its ceiling at that worst temperature; the rank is "
+                        "at the left end, the ratio ceiling / design at the right"
+                        + (f", the dashed line the target {fmt_number(target.energy_density_J_per_m3 / 1e6)} J/cm³"
+                           if target.energy_density_J_per_m3 else "") + ".",
+                        charts.headroom_chart(rep.raw, ceilings, rows=bars)))
+            rows = rep.raw["ranked"][:top]
+            fig = charts.design_temperature_chart(mats, rep.target, rows)
+            if fig.curves:
+                out.append(("Design energy density across the operating range",
+                            f"Design energy density of the first {len(rows)} candidates, evaluated by the same "
+                            f"engine as the table with the whole range at each temperature from {rng} (its ends, "
+                            "evenly between and at every stated data temperature), with the same voltage, energy, "
+                            "area or segment area, layer thickness, failure probability and margin; the thick "
+                            "segment across the range is the table's worst-case value"
+                            + (", the dashed line the target" if target.energy_density_J_per_m3 else "") + ".",
+                            fig))
         out.append(("Scores", f"Score of each ranked candidate ({rep.method}); P(first) is the share of Monte "
                     "Carlo draws, with weights and values varied within their ranges, in which it ranks first.",
                     charts.score_chart(rep.raw)))
-    mats = rep.materials or []
-    if not mats:
         return out
-    shown = {r.key for r in rep.rows[:top]} if rep.kind == "shortlist" else set()
-    fig = charts.map_chart(mats, highlight=shown, highlight_label=f"top {len(shown)} of the shortlist")
-    out.append(("Permittivity and breakdown field",
-                "Small-signal εr against breakdown field at about 25 °C, bars spanning each value's range; grey "
-                "lines hold ½·ε0·εr·E² constant (J/cm³)." + (" Filled markers: the top of the shortlist." if shown
-                                                              else ""), fig))
-    by_key = {m.key: m for m in mats}
-    area = None
-    if rep.kind == "shortlist" and rep.target and rep.target.get("tmin_K") is not None:
-        t0, t1 = rep.target["tmin_K"], rep.target["tmax_K"]
-        keys: dict[str, None] = {}
-        for r in rep.rows:
-            if r.key in by_key:
-                keys.setdefault(r.key)
-                if len(keys) == top:
-                    break
-        chosen = [by_key[k] for k in keys]
-        pad = max(10.0, 0.1 * (t1 - t0))
-        temps = np.linspace(t0 - pad, t1 + pad, 15)
-        cap = ("Design energy density (breakdown field scaled to the part's area and failure probability, divided "
-               "by the margin) of the top candidates; the band is the operating range, the dashed line the target.")
-        target = rep.target
-        if target.get("area_m2") is None:
-            area = {r.key: (rep.raw or {}).get("ranked", [{}])[i].get("design", {}).get("area_m2")
-                    for i, r in enumerate(rep.rows) if rep.raw}
-            area = {k: v for k, v in area.items() if v}
-    else:
-        chosen = list(mats)
-        ranges = [charts.rated_range(m) for m in mats]
-        lo = [r[0] for r in ranges if r[0] is not None]
-        hi = [r[1] for r in ranges if r[1] is not None]
-        t0 = max(min(lo), 213.15) if lo else 233.15
-        t1 = min(max(hi), 473.15) if hi else 398.15
-        temps = np.linspace(t0, t1, 15)
-        cap = "Ceiling ½·ε0·εr·E_bd² against temperature over the materials' rated range (no area scaling)."
-        target = None
-    if chosen:
-        fig = charts.ceiling_chart(chosen, temps, target=target, area_m2=area)
-        if fig.curves:
-            out.append(("Design energy density against temperature", cap, fig))
+    if not mats or rep.kind != "comparison":
+        return out
+    from materials.lookup import REFERENCE_TEMPERATURE_K
+
+    ranges = [charts.rated_range(m) for m in mats]
+    lo = [r[0] for r in ranges if r[0] is not None]
+    hi = [r[1] for r in ranges if r[1] is not None]
+    t0 = max(min(lo), 213.15) if lo else 233.15
+    t1 = min(max(hi), 473.15) if hi else 398.15
+    at = rep.condition.get("temperature_K") or REFERENCE_TEMPERATURE_K
+    temps = sorted(set(np.linspace(t0, t1, 13).tolist()) | set(charts.data_temperatures(mats, t0, t1)) | {at})
+    fig = charts.ceiling_chart(mats, temps, quantity="ceiling")
+    if fig.curves:
+        out.append(("Ceiling against temperature",
+                    "Ceiling ½·ε0·εr·E_bd² (the energy at E_bd on the material's own curve for a nonlinear one) "
+                    f"against temperature, at the test coupons' area (no area scaling), evaluated at "
+                    f"{fmt_celsius(t0)} … {fmt_celsius(t1)}, at every stated data temperature and at the table's "
+                    f"{fmt_celsius(at)}, which gives the table's ceiling column.", fig))
     return out

@@ -6,23 +6,31 @@ document templates read these.
 
 from __future__ import annotations
 
-from materials.numfmt import fmt_celsius, fmt_number, to_display
-from ranking.report.model import FLAG_KINDS, MARKS, Report, Row, as_report
+from materials.numfmt import fmt_celsius, fmt_eng, fmt_number, to_display
+from ranking.report.marks import KIND_CLASS, MARKS
+from ranking.report.model import FLAG_KINDS, Report, Row, as_report
 
 
-def comparison_frame(obj):
-    """The comparison table as a pandas DataFrame: display units in the headers, a sources column per value.
+# Columns whose numbers are yes/no (0/1 stored).
+BOOLEAN = ("self_healing", "healing")
 
-    ``obj`` is a :class:`Report`, a shortlist result dict or a list of materials. Numbers are in the display
-    unit named in each header; the ``…: sources`` column beside each value lists the source keys it rests on,
-    with a flagged kind (recollection, invented) named in brackets.
+
+def evidence_header(c) -> str:
+    return f"{c.label}: evidence"
+
+
+def comparison_records(obj):
+    """The comparison table one row at a time (dicts in column order): numbers in the display unit named in each
+    header, yes/no for a yes/no property, a ``…: sources`` column (the source keys behind the value, a flagged
+    kind named in brackets) and a ``…: evidence`` column (the value's evidence class,
+    :mod:`ranking.report.marks`) beside each value.
+
+    ``obj`` is a :class:`Report`, a shortlist result dict or a list of materials.
     """
-    import pandas as pd
-
     rep = as_report(obj)
-    records = []
     layers = rep.has_thickness  # (once: each is a pass over every row)
     any_top_k = any(x.p_top_k is not None for x in rep.rows)
+    top_k = f"P(top {rep.top_k})" if rep.top_k else "P(top k)"
     for r in rep.rows:
         d = {}
         if rep.kind == "shortlist":
@@ -34,10 +42,14 @@ def comparison_frame(obj):
             d["score"] = r.score
             d["P(first)"] = r.p_top
             if any_top_k:
-                d[f"P(top {rep.top_k})" if rep.top_k else "P(top k)"] = r.p_top_k
+                d[top_k] = r.p_top_k
         for c in rep.columns:
-            d[c.header] = to_display(r.values.get(c.name), c.unit, c.display_unit)
+            v = to_display(r.values.get(c.name), c.unit, c.display_unit)
+            if c.name in BOOLEAN and v is not None:
+                v = "yes" if v >= 0.5 else "no"
+            d[c.header] = v
             d[c.sources_header] = rep.source_text(r, c.name) or None
+            d[evidence_header(c)] = rep.evidence(r, c.name)
         if rep.kind == "shortlist":
             d["binding"] = r.binding or None
             d["versus winner"] = r.versus_winner or None
@@ -45,14 +57,49 @@ def comparison_frame(obj):
         d["flags"] = row_flags(rep, r) or None
         if rep.kind == "comparison":
             d["notes"] = "; ".join(f"{k}: {v}" for k, v in r.notes.items()) or None
-        records.append(d)
-    df = pd.DataFrame.from_records(records)
+        yield d
+
+
+def comparison_frame(obj):
+    """The comparison table (:func:`comparison_records`) as a pandas DataFrame, numeric columns as floats."""
+    import pandas as pd
+
+    rep = as_report(obj)
+    df = pd.DataFrame.from_records(list(comparison_records(rep)))
     if df.empty:
         df = pd.DataFrame(columns=["key", "name", "family"])
     for c in rep.columns:
-        if c.header in df:
+        if c.header in df and c.name not in BOOLEAN:
             df[c.header] = pd.to_numeric(df[c.header], errors="coerce").astype(float)
     return df
+
+
+def round_sig(v, digits: int = 6):
+    """A float rounded to ``digits`` significant figures (no binary noise such as 0.8000000000000007); anything
+    else as it is."""
+    import math
+
+    if not isinstance(v, float) or v == 0 or not math.isfinite(v):
+        return v
+    return float(f"{v:.{digits}g}")
+
+
+def write_csv(obj, path) -> None:
+    """The comparison table as CSV, written row by row; floats to 6 significant figures, none lost that the data
+    hold."""
+    import csv
+
+    rows = comparison_records(obj)
+    first = next(rows, None)
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        if first is None:
+            csv.writer(fh).writerow(["key", "name", "family"])
+            return
+        w = csv.DictWriter(fh, fieldnames=list(first))
+        w.writeheader()
+        w.writerow({k: round_sig(v) for k, v in first.items()})
+        for d in rows:
+            w.writerow({k: round_sig(v) for k, v in d.items()})
 
 
 def row_flags(rep: Report, r: Row) -> str:
@@ -62,13 +109,15 @@ def row_flags(rep: Report, r: Row) -> str:
 
 
 def excluded_frame(obj):
-    """Excluded materials with their reasons (one row each, reasons joined by '; ')."""
+    """Exclusions grouped by reason (:func:`ranking.report.exclusions.group_exclusions`): one row per reason with
+    the materials it excludes and how many candidates that is."""
     import pandas as pd
 
+    from ranking.report.exclusions import group_exclusions
+
     rep = as_report(obj)
-    return pd.DataFrame([{"key": e["label"], "name": e["name"], "family": e["family"],
-                          "reasons": "; ".join(e["reasons"])} for e in rep.excluded],
-                        columns=["key", "name", "family", "reasons"])
+    return pd.DataFrame([{"reason": g["reason"], "candidates": g["count"], "materials": ", ".join(g["members"])}
+                         for g in group_exclusions(rep.excluded)], columns=["reason", "candidates", "materials"])
 
 
 def sources_frame(obj):
@@ -82,8 +131,8 @@ def sources_frame(obj):
         s = rep.sources.get(k) or {}
         kind = s.get("kind", "unknown")
         rows.append({"no.": n, "key": k, "kind": kind, "citation": s.get("citation", ""),
-                     "flag": MARKS.get(kind, "")})
-    return pd.DataFrame(rows, columns=["no.", "key", "kind", "citation", "flag"])
+                     "mark": MARKS.get(KIND_CLASS.get(kind, ""), "")})
+    return pd.DataFrame(rows, columns=["no.", "key", "kind", "citation", "mark"])
 
 
 def target_rows(rep: Report) -> list[tuple[str, str]]:
@@ -97,7 +146,7 @@ def target_rows(rep: Report) -> list[tuple[str, str]]:
         t = rep.condition.get("temperature_K")
         f = rep.condition.get("frequency_Hz")
         out.append(("temperature", "reference, about 25 °C" if t is None else fmt_celsius(t, 6)))
-        out.append(("frequency", "nearest to 1 kHz" if f is None else f"{g(f)} Hz"))
+        out.append(("frequency", "nearest to 1 kHz" if f is None else fmt_eng(f, "Hz", 6)))
         out.append(("outside the data", "end value held, flagged" if rep.condition.get("extrapolate")
                     else "left empty"))
         return out
@@ -117,7 +166,7 @@ def target_rows(rep: Report) -> list[tuple[str, str]]:
     add("margin on the design field", "margin", g)
     add("active area", "area_m2", lambda v: f"{g(v)} m²")
     add("maximum loss tangent", "max_loss_tangent", g)
-    add("frequency", "frequency_Hz", lambda v: f"{g(v)} Hz")
+    add("frequency", "frequency_Hz", lambda v: fmt_eng(v, "Hz", 6))
     add("families", "families", lambda v: ", ".join(v))
     add("layer thicknesses", "thicknesses_m", lambda v: ", ".join(g(x * 1e6) for x in v) + " µm")
     if t.get("assume_defaults"):

@@ -24,12 +24,34 @@ def plain(obj):
     return obj
 
 
+# Lists written one element at a time: the rows of a large shortlist or comparison.
+STREAMED = ("ranked", "excluded", "rows")
+
+
+def stream_json(data: dict, fh) -> None:
+    """``data`` as JSON into the open file ``fh``, the long lists (:data:`STREAMED`) one element per line, so that a
+    result of 100,000 rows is never held as one string; NaN and infinities become null."""
+    fh.write("{")
+    for i, (k, v) in enumerate(data.items()):
+        fh.write(("," if i else "") + "\n  " + json.dumps(str(k)) + ": ")
+        if k in STREAMED and isinstance(v, list):
+            fh.write("[")
+            for j, item in enumerate(v):
+                fh.write(("," if j else "") + "\n    " + json.dumps(plain(item), ensure_ascii=False, allow_nan=False))
+            fh.write("\n  ]" if v else "]")
+        else:
+            fh.write(json.dumps(plain(v), ensure_ascii=False, allow_nan=False))
+    fh.write("\n}\n")
+
+
 def to_json(obj) -> dict:
     """The report as a JSON-ready dict (SI units). A shortlist gives back its result, readable by
     :func:`load_json`; a comparison gives ``{kind, title, condition, columns, rows, sources, cautions}``."""
     rep = as_report(obj)
     if rep.kind == "shortlist" and rep.raw is not None:
-        out = dict(rep.raw)
+        from ranking.report.marks import with_marks
+
+        out = with_marks(rep.raw)
         out.setdefault("sources", rep.sources)
         out.setdefault("cautions", rep.cautions)
         return out
@@ -39,7 +61,9 @@ def to_json(obj) -> dict:
         "columns": [{"name": c.name, "label": c.label, "unit": c.unit, "display_unit": c.display_unit,
                      "formula": c.formula} for c in rep.columns],
         "rows": [{"key": r.key, "name": r.name, "family": r.family, "values": r.values, "low": r.low,
-                  "high": r.high, "sources": r.sources, "flags": r.flags, "notes": r.notes} for r in rep.rows],
+                  "high": r.high, "sources": r.sources, "flags": r.flags, "notes": r.notes,
+                  "cell_flags": r.cell_flags, "evidence": {c.name: rep.evidence(r, c.name) for c in rep.columns}}
+                 for r in rep.rows],
         "excluded": rep.excluded, "sources": rep.sources, "cautions": rep.cautions,
     }
 

@@ -2,9 +2,9 @@
 
 A :class:`Report` is built either from a shortlist result (:func:`from_shortlist`, the dict of
 :func:`ranking.shortlist.shortlist`) or from a list of materials compared at one condition
-(:func:`from_materials`). Every number in it keeps the source keys it rests on; a value resting on a
-``recollection`` or ``invented`` source is flagged with a mark (``†`` recollection, ``‡`` invented) that every
-format explains, and ``*`` marks a value that rests on an assumption.
+(:func:`from_materials`). Every number in it keeps the source keys it rests on and carries one evidence mark
+(:mod:`ranking.report.marks`: published, lab, assumed, extrapolated, imputed, recollection, invented) that every
+format explains in a legend under its table.
 """
 
 from __future__ import annotations
@@ -14,12 +14,9 @@ from dataclasses import dataclass, field
 from materials.errors import InputError
 from materials.numfmt import fmt_celsius, pretty_unit
 
+from ranking.report.marks import LEGEND, MARKS, ORDER, evidence  # noqa: F401 - LEGEND: part of the model's words
+
 FLAG_KINDS = ("recollection", "invented")
-MARKS = {"recollection": "†", "invented": "‡", "assumed": "*"}
-LEGEND = {"recollection": "rests on a value remembered but not checked against its source (recollection)",
-          "invented": "rests on invented demo data, not a measurement or a publication",
-          "assumed": "not in the data: an assumed value (the worst among the candidates, or a common-practice "
-                     "default), see the notes"}
 # Shortlist row flags that put an assumption under other criteria than the one they name.
 ASSUMPTION_COLUMNS = {"density": ("mass",), "assumed-shape": ("energy", "volume", "mass"),
                       "assumed-test-area": ("energy", "volume", "mass")}
@@ -71,6 +68,8 @@ class Row:
     versus_winner: str = ""
     dominated_by: str | None = None
     notes: dict = field(default_factory=dict)
+    kinds: dict = field(default_factory=dict)        # column -> source kinds (a shortlist row's source_kinds)
+    cell_flags: dict = field(default_factory=dict)   # column -> evidence classes of that cell alone
 
 
 @dataclass
@@ -123,14 +122,26 @@ class Report:
                 out.append(f)
         return out
 
+    def evidence(self, row: Row, column: str) -> str | None:
+        """The one evidence class of a value (:func:`ranking.report.marks.evidence`); None for an empty cell."""
+        if row.values.get(column) is None:
+            return None
+        kinds = row.kinds.get(column)
+        if kinds is None:
+            kinds = [self.kind_of(k) for k in row.sources.get(column, [])]
+        # a comparison's flags belong to single cells (cell_flags); a shortlist row's reach several criteria
+        flags = row.flags if self.kind == "shortlist" else ()
+        return evidence(kinds, flags, column, extra=row.cell_flags.get(column, ()))
+
     def mark(self, row: Row, column: str) -> str:
-        """``†`` recollection, ``‡`` invented, ``*`` assumed: what a reader must know about one value."""
-        marks = "".join(MARKS[k] for k in self.flags_of(row, column))
-        return marks + (MARKS["assumed"] if self.assumed(row, column) else "")
+        """The evidence mark of one value ('' for an empty cell)."""
+        c = self.evidence(row, column)
+        return MARKS[c] if c else ""
 
     def marks_used(self) -> list[str]:
-        used = {ch for r in self.rows for c in self.columns for ch in self.mark(r, c.name)}
-        return [k for k, m in MARKS.items() if m in used]
+        """The evidence classes the table uses, strongest first (the order of the legend)."""
+        used = {self.evidence(r, c.name) for r in self.rows for c in self.columns}
+        return [k for k in reversed(ORDER) if k in used]
 
     def any_flagged(self) -> bool:
         return bool(self.marks_used())
@@ -171,8 +182,10 @@ def from_shortlist(result: dict, *, materials=None) -> Report:
             high=dict(r.get("criteria_high") or {}),
             sources={k: list(v) for k, v in (r.get("sources") or {}).items()}, flags=list(r.get("flags") or []),
             binding=r.get("binding") or "", versus_winner=r.get("versus_winner") or "",
-            dominated_by=r.get("dominated_by")))
+            dominated_by=r.get("dominated_by"),
+            kinds={k: list(v) for k, v in (r.get("source_kinds") or {}).items()}))
     excluded = [{"key": e["key"], "label": e.get("label") or e["key"], "name": e.get("name") or e["key"],
+                 "thickness_m": e.get("thickness_m"),
                  "family": e.get("family") or "", "reasons": list(e.get("reasons") or [])}
                 for e in result.get("excluded") or []]
     target = result.get("target") or {}
@@ -234,8 +247,10 @@ def from_materials(materials, *, temperature_K: float | None = None, frequency_H
                 continue
             row.values[c.name], row.low[c.name], row.high[c.name] = va.value, va.low, va.high
             row.sources[c.name] = va.sources
-            if va.extrapolated and "extrapolated" not in row.flags:
-                row.flags.append("extrapolated")
+            if va.extrapolated:
+                row.cell_flags[c.name] = ["extrapolated"]
+                if "extrapolated" not in row.flags:
+                    row.flags.append("extrapolated")
         _add_ceiling(row, m, temperature_K, extrapolate)
         rows.append(row)
     used = {k for r in rows for lst in r.sources.values() for k in lst}
@@ -259,6 +274,8 @@ def _add_ceiling(row: Row, m, temperature_K, extrapolate) -> None:
         return
     row.values["ceiling"] = c.ceiling_J_per_m3
     row.sources["ceiling"] = list(c.sources)
+    if c.extrapolated and temperature_K is not None:
+        row.cell_flags["ceiling"] = ["extrapolated"]
     if c.method != "linear":
         row.notes["ceiling"] = f"{m.response} response: the linear ceiling overstates its energy"
     if c.extrapolated and temperature_K is not None and "extrapolated" not in row.flags:
@@ -291,7 +308,8 @@ def _comparison_from_json(d: dict) -> Report:
     rows = [Row(key=r["key"], name=r.get("name") or r["key"], family=r.get("family") or "", label=r["key"],
                 values=dict(r.get("values") or {}), low=dict(r.get("low") or {}), high=dict(r.get("high") or {}),
                 sources={k: list(v) for k, v in (r.get("sources") or {}).items()},
-                flags=list(r.get("flags") or []), notes=dict(r.get("notes") or {})) for r in d["rows"]]
+                flags=list(r.get("flags") or []), notes=dict(r.get("notes") or {}),
+                cell_flags={k: list(v) for k, v in (r.get("cell_flags") or {}).items()}) for r in d["rows"]]
     return Report(kind="comparison", title=d.get("title") or "Dielectric comparison", columns=columns, rows=rows,
                   excluded=list(d.get("excluded") or []), sources=dict(d.get("sources") or {}),
                   cautions=list(d.get("cautions") or [CAUTION]), condition=dict(d.get("condition") or {}))

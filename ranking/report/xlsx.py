@@ -1,15 +1,24 @@
-"""The report as an XLSX workbook: comparison, excluded, sources, target (or condition) and notes sheets."""
+"""The report as an XLSX workbook, written row by row (openpyxl's write-only mode): comparison, excluded, sources,
+target (or condition) and notes sheets. Each value has its evidence in the column beside it (no comment per cell);
+the notes sheet holds the legend of the evidence classes and marks."""
 
 from __future__ import annotations
 
 import math
 
-from ranking.report.frames import comparison_frame, excluded_frame, sources_frame, target_rows
-from ranking.report.model import FLAG_KINDS, LEGEND, MARKS, Report, as_report
+from ranking.report.frames import (
+    BOOLEAN,
+    comparison_records,
+    excluded_frame,
+    sources_frame,
+    target_rows,
+)
+from ranking.report.marks import LEGEND, MARKS, ORDER
+from ranking.report.model import Report, as_report
 
 
 def _number_format(values) -> str:
-    vals = [abs(v) for v in values if v is not None and not (isinstance(v, float) and math.isnan(v))]
+    vals = [abs(v) for v in values if isinstance(v, (int, float)) and not (isinstance(v, float) and math.isnan(v))]
     if not vals:
         return "General"
     big, small = max(vals), min((v for v in vals if v > 0), default=0.0)
@@ -22,77 +31,102 @@ def _number_format(values) -> str:
     return "0.0000"
 
 
+# Rows sampled to choose a numeric column's format (the sheet is written in one pass).
+FORMAT_SAMPLE = 200
+
+
 def write_xlsx(obj, path) -> None:
-    """XLSX with sheets comparison (units in headers, frozen header row, number formats, flagged cells shaded
-    with a comment), excluded, sources, target (or condition) and notes."""
-    import pandas as pd
-    from openpyxl.comments import Comment
-    from openpyxl.styles import Alignment, Font, PatternFill
+    """XLSX in write-only mode: the comparison sheet (units in headers, frozen header row and key column, number
+    formats, an evidence column beside each value), excluded (grouped by reason), sources, target (or condition)
+    and notes (cautions, the legend of the evidence marks, the formulas)."""
+    import itertools
+
+    from openpyxl import Workbook
+    from openpyxl.cell import WriteOnlyCell
+    from openpyxl.styles import Alignment, Font
     from openpyxl.utils import get_column_letter
 
     rep = as_report(obj)
-    df = comparison_frame(rep)
-    flagged_fill = PatternFill("solid", fgColor="E6E6E6")
-    with pd.ExcelWriter(path, engine="openpyxl") as xw:
-        df.to_excel(xw, sheet_name="comparison", index=False)
-        excluded_frame(rep).to_excel(xw, sheet_name="excluded", index=False)
-        sources_frame(rep).to_excel(xw, sheet_name="sources", index=False)
-        tsheet = "target" if rep.kind == "shortlist" else "condition"
-        pd.DataFrame(target_rows(rep), columns=["parameter", "value"]).to_excel(xw, sheet_name=tsheet, index=False)
-        pd.DataFrame({"note": notes(rep)}).to_excel(xw, sheet_name="notes", index=False)
-        ws = xw.sheets["comparison"]
-        headers = list(df.columns)
-        key_col = headers.index("key") + 1
-        ws.freeze_panes = ws.cell(row=2, column=key_col + 1).coordinate
-        for j, h in enumerate(headers, 1):
-            cell = ws.cell(row=1, column=j)
-            cell.font = Font(bold=True)
-            cell.alignment = Alignment(wrap_text=True, vertical="top")
-            letter = get_column_letter(j)
-            numeric = pd.api.types.is_numeric_dtype(df[h]) and h not in ("rank",)
-            width = max(10, min(40, len(str(h)) // 2 + 4)) if numeric else 24 if "sources" in h else 16
-            ws.column_dimensions[letter].width = width
-            if h == "rank":
-                fmt = "0"
-            elif h.startswith("P("):
-                fmt = "0%"
-            elif h == "score":
-                fmt = "0.000"
-            elif numeric:
-                fmt = _number_format(df[h].tolist())
+    wb = Workbook(write_only=True)
+    bold = Font(bold=True)
+    records = comparison_records(rep)
+    head = list(itertools.islice(records, FORMAT_SAMPLE))
+    headers = list(head[0]) if head else ["key", "name", "family"]
+    value_headers = {c.header for c in rep.columns if c.name not in BOOLEAN}
+    fmts = {}
+    for h in headers:
+        if h == "rank":
+            fmts[h] = "0"
+        elif h.startswith("P("):
+            fmts[h] = "0%"
+        elif h == "score":
+            fmts[h] = "0.000"
+        elif h in value_headers or h == "layer thickness [µm]":
+            fmts[h] = _number_format([d.get(h) for d in head])
+    ws = wb.create_sheet("comparison")
+    key_col = headers.index("key") + 1 if "key" in headers else 1
+    ws.freeze_panes = f"{get_column_letter(key_col + 1)}2"
+    for j, h in enumerate(headers, 1):
+        width = 12 if h in fmts else 30 if ("sources" in h or h in ("binding", "versus winner", "notes")) else 16
+        ws.column_dimensions[get_column_letter(j)].width = width
+    ws.row_dimensions[1].height = 45
+    top = []
+    for h in headers:
+        cell = WriteOnlyCell(ws, value=h)
+        cell.font = bold
+        cell.alignment = Alignment(wrap_text=True, vertical="top")
+        top.append(cell)
+    ws.append(top)
+    for d in itertools.chain(head, records):
+        row = []
+        for h in headers:
+            v = d.get(h)
+            if isinstance(v, float) and not math.isfinite(v):
+                v = None
+            if h in fmts and v is not None:
+                cell = WriteOnlyCell(ws, value=v)
+                cell.number_format = fmts[h]
+                row.append(cell)
             else:
-                continue
-            for i in range(2, len(df) + 2):
-                ws.cell(row=i, column=j).number_format = fmt
-        ws.row_dimensions[1].height = 45
-        col_of = {c.name: headers.index(c.header) + 1 for c in rep.columns if c.header in headers}
-        for i, r in enumerate(rep.rows, 2):
-            for c in rep.columns:
-                kinds = rep.flags_of(r, c.name)
-                assumed = rep.assumed(r, c.name)
-                if (kinds or assumed) and c.name in col_of:
-                    cell = ws.cell(row=i, column=col_of[c.name])
-                    text = []
-                    if kinds:
-                        cell.fill = flagged_fill
-                        keys = [k for k in r.sources.get(c.name, []) if rep.kind_of(k) in FLAG_KINDS]
-                        text.append(f"rests on {', '.join(kinds)} source(s): {', '.join(keys)}")
-                    text += assumed
-                    cell.comment = Comment(f"{rep.mark(r, c.name)} " + "; ".join(text), "holdoff")
-        for name, widths in (("excluded", (24, 30, 18, 90)), ("sources", (6, 28, 16, 100, 6)),
-                             (tsheet, (30, 60)), ("notes", (140,))):
-            sh = xw.sheets[name]
-            sh.freeze_panes = "A2"
-            for j, w in enumerate(widths, 1):
-                sh.column_dimensions[get_column_letter(j)].width = w
-                sh.cell(row=1, column=j).font = Font(bold=True)
+                row.append(v)
+        ws.append(row)
+    _sheet(wb, "excluded", excluded_frame(rep), (70, 12, 100))
+    _sheet(wb, "sources", sources_frame(rep), (6, 28, 16, 100, 6))
+    tsheet = "target" if rep.kind == "shortlist" else "condition"
+    _rows(wb, tsheet, ["parameter", "value"], target_rows(rep), (30, 60))
+    _rows(wb, "notes", ["note"], [[n] for n in notes(rep)], (140,))
+    wb.save(path)
+
+
+def _sheet(wb, name, df, widths) -> None:
+    _rows(wb, name, list(df.columns), df.itertuples(index=False, name=None), widths)
+
+
+def _rows(wb, name, header, rows, widths) -> None:
+    from openpyxl.cell import WriteOnlyCell
+    from openpyxl.styles import Font
+    from openpyxl.utils import get_column_letter
+
+    ws = wb.create_sheet(name)
+    ws.freeze_panes = "A2"
+    for j, w in enumerate(widths, 1):
+        ws.column_dimensions[get_column_letter(j)].width = w
+    cells = []
+    for h in header:
+        c = WriteOnlyCell(ws, value=h)
+        c.font = Font(bold=True)
+        cells.append(c)
+    ws.append(cells)
+    for r in rows:
+        ws.append(list(r))
 
 
 def notes(rep: Report) -> list[str]:
-    """The notes sheet: cautions, what each mark means, how each column is computed."""
+    """The notes sheet: cautions, what each evidence class and mark means, how each column is computed."""
     out = [f"CAUTION: {c}" for c in rep.cautions]
-    out += [f"{MARKS[k]} {LEGEND[k]}" + ("; shaded cells in the comparison sheet" if k in FLAG_KINDS else "")
-            for k in MARKS]
+    out.append("Evidence (the '…: evidence' column beside each value; the mark other formats print after the "
+               "number):")
+    out += [f"{MARKS[k]} {LEGEND[k]}" for k in reversed(ORDER)]
     out.append("Each value's sources column lists the source keys it rests on; the sources sheet gives the "
                "full citation and the evidence kind of each key.")
     for c in rep.columns:
