@@ -8,6 +8,7 @@ here: ``git grep`` for any of them finds this file.
 from __future__ import annotations
 
 from materials.lookup import fmt_temperature as _c
+from materials.numfmt import fmt_number
 from materials.priors import assumed_area_note, assumed_life_note, assumed_shape_note, shape_prior
 
 #: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
@@ -19,12 +20,10 @@ EXTRAPOLATE_HINT = "--extrapolate, or extrapolate = true in a target file, uses 
 
 
 def _um(d_m: float) -> str:
-    return f"{d_m * 1e6:g} µm"
+    return f"{fmt_number(d_m * 1e6)} µm"
 
 
 def _vum(e: float) -> str:
-    from materials.numfmt import fmt_number
-
     return f"{fmt_number(e / 1e6)} V/µm"
 
 
@@ -47,7 +46,7 @@ TEXT = {
                                         f"({DEFAULTS_HINT})"),
     "test-area-missing": lambda q: ("breakdown test electrode area not stated: cannot scale to the part's area "
                                     f"({DEFAULTS_HINT})"),
-    "value-invalid": lambda q: (f"stored {q['prop']} {q['value']:.4g} (source {q['source']}) is not a positive "
+    "value-invalid": lambda q: (f"stored {q['prop']} {fmt_number(q['value'])} (source {q['source']}) is not a positive "
                                 "number: the candidate cannot be evaluated"),
     "shape-too-low": lambda q: (f"Weibull shape {q['shape']:.3g} (source {q['source']}) is 1 or less: a larger part "
                                 "is weaker faster than it stores more, so no self-consistent size exists"),
@@ -103,7 +102,7 @@ TEXT = {
     "stack-over-design": lambda q: (f"{q['key']} (layer {q['layer']} of {q['layers']}) runs at "
                                     f"{_vum(q['field_V_per_m'])} at {_c(q['temperature_K'])}, above its design field "
                                     f"{_vum(q['design_V_per_m'])}: the stack fails first there, at "
-                                    f"{q['fails_at_V']:.4g} V"),
+                                    f"{fmt_number(q['fails_at_V'])} V"),
     "stack-energy-short": lambda q: (f"stores {q['energy_J_per_m3'] / 1e6:.3g} J/cm³ of dielectric at "
                                      f"{q['voltage_V']:g} V, below the target {q['target_J_per_m3'] / 1e6:.3g} J/cm³ "
                                      f"(set by {q['key']})"),

@@ -46,7 +46,7 @@ def _fmt_criterion(name: str, value: float) -> str:
     from materials.numfmt import fmt_quantity
 
     c = CRITERIA[name]
-    return fmt_quantity(value, c.display_unit, c.unit, 3 if c.display_unit in ("", "%") else 4)
+    return fmt_quantity(value, c.display_unit, c.unit, 3)
 
 
 def _label(key: str, thickness_m: float | None) -> str:

@@ -308,7 +308,7 @@ def test_shortlist_reports_a_target_files_fixed_layered_candidate_and_why_it_is_
     assert first["margin"] == min(ly["margin"] for ly in row["layers"]) < 1
     assert ex["reasons"][0].startswith(f"{first['key']} (layer {k + 1} of 2) runs at "
                                        f"{first['field_V_per_m'] / 1e6:.3g} V/µm")
-    assert f"at {1000 * first['margin']:.4g} V" in ex["reasons"][0]
+    assert f"at {1000 * first['margin']:.3g} V" in ex["reasons"][0]
     assert res["target"]["stacks"] == [{"name": "pet-film + ptfe-film", "fixed": True,
                                         "layers": [{"key": "pet-film", "thickness_m": 10e-6},
                                                    {"key": "ptfe-film", "thickness_m": 20e-6}]}]
