@@ -164,7 +164,13 @@ def render(result: dict, *, top: int) -> None:
         c = crit[name]
         if v is None:
             return "—"
-        text = fmt_eng(v, unit) if unit else fmt_number(to_display(v, c["unit"], c["display_unit"]))
+        shown = to_display(v, c["unit"], c["display_unit"]) if not unit else None
+        if unit:
+            text = fmt_eng(v, unit)
+        elif name == "energy" and 0 < abs(shown) < 1e-3:
+            text = fmt_eng(shown, "J") + "/cm³"   # a prefix, not an exponent: 1.13 nJ/cm³
+        else:
+            text = fmt_number(shown)
         return text + (MARKS[cls] if cls else "")
 
     cols = ["#", "key", "score", *[h for _n, h, _u in shown], "P(1st)", f"P(top {k})", "conf."]

@@ -11,6 +11,8 @@ from materials.lookup import fmt_temperature as _c
 from materials.numfmt import fmt_number
 from materials.priors import assumed_area_note, assumed_life_note, assumed_shape_note, shape_prior
 
+_n = fmt_number  # the one number formatter, short for the sentences below
+
 #: How to let missing breakdown data take the stated priors (assumptions priced by the Monte Carlo).
 DEFAULTS_HINT = "without --strict, or strict = true in a target file, the family's stated range is assumed"
 
@@ -46,65 +48,65 @@ TEXT = {
                                         f"({DEFAULTS_HINT})"),
     "test-area-missing": lambda q: ("breakdown test electrode area not stated: cannot scale to the part's area "
                                     f"({DEFAULTS_HINT})"),
-    "value-invalid": lambda q: (f"stored {q['prop']} {fmt_number(q['value'])} (source {q['source']}) is not a positive "
+    "value-invalid": lambda q: (f"stored {q['prop']} {_n(q['value'])} (source {q['source']}) is not a positive "
                                 "number: the candidate cannot be evaluated"),
-    "shape-too-low": lambda q: (f"Weibull shape {q['shape']:.3g} (source {q['source']}) is 1 or less: a larger part "
+    "shape-too-low": lambda q: (f"Weibull shape {_n(q['shape'])} (source {q['source']}) is 1 or less: a larger part "
                                 "is weaker faster than it stores more, so no self-consistent size exists"),
-    "no-size": lambda q: (f"no self-consistent size found for {q['energy_J']:g} J at {q['voltage_V']:g} V "
+    "no-size": lambda q: (f"no self-consistent size found for {_n(q['energy_J'])} J at {_n(q['voltage_V'])} V "
                           "(the sizing did not converge)"),
     "above-loop": lambda q: (f"runs at {_vum(q['field_V_per_m'])}, above the largest field of its loop data "
                              f"({_vum(q['loop_V_per_m'])}): its energy there is not known"),
     "loop-top": lambda q: (f"loop data stop at {_vum(q['loop_V_per_m'])}: energy taken there, not at "
                            f"{_vum(q['field_V_per_m'])}"),
-    "area-impractical": lambda q: (f"needs {q['area_m2']:.3g} m² of active area (more than {q['limit_m2']:g} m²): "
-                                   f"with Weibull shape {q['shape']:.3g} the weakest-link derating leaves no practical "
+    "area-impractical": lambda q: (f"needs {_n(q['area_m2'])} m² of active area (more than {_n(q['limit_m2'])} m²): "
+                                   f"with Weibull shape {_n(q['shape'])} the weakest-link derating leaves no practical "
                                    "part"),
     "thinner-than-made": lambda q: (f"{_um(q['thickness_m'])} is thinner than the thinnest layer made "
                                     f"({_um(q['min_thickness_m'])})"),
-    "over-design-field": lambda q: (f"{_um(q['thickness_m'])} at {q['voltage_V']:g} V runs at "
+    "over-design-field": lambda q: (f"{_um(q['thickness_m'])} at {_n(q['voltage_V'])} V runs at "
                                     f"{_vum(q['field_V_per_m'])}, above the design field {_vum(q['design_V_per_m'])} "
-                                    f"(breakdown at {_c(q['breakdown_K'])}, β {q['shape']:.3g}, "
-                                    f"p {q['failure_probability']:g})"),
-    "energy-short": lambda q: (f"stores {q['energy_J_per_m3'] / 1e6:.3g} J/cm³ at {q['voltage_V']:g} V, below the "
-                               f"target {q['target_J_per_m3'] / 1e6:.3g} J/cm³"
+                                    f"(breakdown at {_c(q['breakdown_K'])}, β {_n(q['shape'])}, "
+                                    f"p {_n(q['failure_probability'])})"),
+    "energy-short": lambda q: (f"stores {_n(q['energy_J_per_m3'] / 1e6)} J/cm³ at {_n(q['voltage_V'])} V, below the "
+                               f"target {_n(q['target_J_per_m3'] / 1e6)} J/cm³"
                                + (f" (needs a layer thinner than the {_um(q['min_thickness_m'])} that can be made)"
                                   if q['at_min'] else
                                   f" (design field {_vum(q['design_V_per_m'])}, breakdown at {_c(q['breakdown_K'])})")),
     "heat-unknown": lambda q: "loss_tangent missing: the heating by the ripple current cannot be computed",
-    "thermal-runaway": lambda q: (f"thermal runaway: {q['power_W']:.3g} W of ripple loss at {_c(q['ambient_K'])} "
-                                  f"ambient through {q['rth_K_per_W']:g} K/W finds no steady hot spot"),
-    "hot-spot-over-rating": lambda q: (f"hot spot {_c(q['hot_K'])} ({q['power_W']:.3g} W through "
-                                       f"{q['rth_K_per_W']:g} K/W) above its rated {_c(q['rated_K'])}"),
-    "life-no-size": lambda q: (f"life law (n {q['n']:.3g}) leaves an effective Weibull shape {q['shape']:.3g}: a "
+    "thermal-runaway": lambda q: (f"thermal runaway: {_n(q['power_W'])} W of ripple loss at {_c(q['ambient_K'])} "
+                                  f"ambient through {_n(q['rth_K_per_W'])} K/W finds no steady hot spot"),
+    "hot-spot-over-rating": lambda q: (f"hot spot {_c(q['hot_K'])} ({_n(q['power_W'])} W through "
+                                       f"{_n(q['rth_K_per_W'])} K/W) above its rated {_c(q['rated_K'])}"),
+    "life-no-size": lambda q: (f"life law (n {_n(q['n'])}) leaves an effective Weibull shape {_n(q['shape'])}: a "
                                "larger part loses life faster than it gains volume, so no size holds the life"),
-    "life-short": lambda q: (f"{_um(q['thickness_m'])} at {q['voltage_V']:g} V runs at {_vum(q['field_V_per_m'])}, "
+    "life-short": lambda q: (f"{_um(q['thickness_m'])} at {_n(q['voltage_V'])} V runs at {_vum(q['field_V_per_m'])}, "
                              f"above the field {_vum(q['life_V_per_m'])} that holds {_h(q['life_s'])} at "
-                             f"{q['fraction']:g} failed (n {q['n']:.3g})"),
-    "loss-over": lambda q: f"loss tangent {q['loss']:.3g} above the limit {q['limit']:.3g}",
+                             f"{_n(q['fraction'])} failed (n {_n(q['n'])})"),
+    "loss-over": lambda q: f"loss tangent {_n(q['loss'])} above the limit {_n(q['limit'])}",
     "loss-missing": lambda q: "loss_tangent missing (the target limits it)",
     # what binds a ranked candidate
     "binding-fixed": lambda q: f"fixed layer {_um(q['thickness_m'])}: {q['ratio']:.0%} of the design field",
-    "binding-min-thickness": lambda q: (f"thinnest layer made ({_um(q['min_thickness_m'])}) at {q['voltage_V']:g} V:"
+    "binding-min-thickness": lambda q: (f"thinnest layer made ({_um(q['min_thickness_m'])}) at {_n(q['voltage_V'])} V:"
                                         f" field {_vum(q['field_V_per_m'])}, below the design field "
                                         f"{_vum(q['design_V_per_m'])}"),
     "binding-breakdown": lambda q: (f"breakdown at {_c(q['breakdown_K'])} ({_vum(q['breakdown_V_per_m'])} → design "
                                     f"{_vum(q['design_V_per_m'])})"),
-    "binding-sections": lambda q: f"as {q['sections']:g} series sections of {_um(q['layer_m'])}",
-    "binding-life": lambda q: (f"life: {_h(q['life_s'])} with {q['fraction']:.3g} failed needs "
+    "binding-sections": lambda q: f"as {_n(q['sections'])} series sections of {_um(q['layer_m'])}",
+    "binding-life": lambda q: (f"life: {_h(q['life_s'])} with {_n(q['fraction'])} failed needs "
                                f"{_vum(q['life_V_per_m'])} (short-term design {_vum(q['short_V_per_m'])}; "
-                               f"n {q['n']:.3g})"),
+                               f"n {_n(q['n'])})"),
     "binding-heat": lambda q: (f"heat: breakdown at the hot spot {_c(q['breakdown_K'])} "
                                f"({_vum(q['breakdown_V_per_m'])} → design {_vum(q['design_V_per_m'])})"),
     # layered candidates (ranking.stack_size)
     "stack-layer": lambda q: f"layer {q['key']}: {q['reason']}",
-    "stack-no-size": lambda q: (f"no total thickness with these layer ratios holds {q['voltage_V']:g} V at every "
+    "stack-no-size": lambda q: (f"no total thickness with these layer ratios holds {_n(q['voltage_V'])} V at every "
                                 "layer's design field"),
     "stack-over-design": lambda q: (f"{q['key']} (layer {q['layer']} of {q['layers']}) runs at "
                                     f"{_vum(q['field_V_per_m'])} at {_c(q['temperature_K'])}, above its design field "
                                     f"{_vum(q['design_V_per_m'])}: the stack fails first there, at "
-                                    f"{fmt_number(q['fails_at_V'])} V"),
-    "stack-energy-short": lambda q: (f"stores {q['energy_J_per_m3'] / 1e6:.3g} J/cm³ of dielectric at "
-                                     f"{q['voltage_V']:g} V, below the target {q['target_J_per_m3'] / 1e6:.3g} J/cm³ "
+                                    f"{_n(q['fails_at_V'])} V"),
+    "stack-energy-short": lambda q: (f"stores {_n(q['energy_J_per_m3'] / 1e6)} J/cm³ of dielectric at "
+                                     f"{_n(q['voltage_V'])} V, below the target {_n(q['target_J_per_m3'] / 1e6)} J/cm³ "
                                      f"(set by {q['key']})"),
     "binding-stack": lambda q: (f"breakdown of {q['key']} (layer {q['layer']} of {q['layers']}) at "
                                 f"{_c(q['temperature_K'])}: {_vum(q['field_V_per_m'])} = its design field"),
@@ -123,30 +125,30 @@ TEXT = {
                             f"value there: a lower bound, as breakdown strength does not rise on warming "
                             f"({q['source']})"),
     "thickness-outside": lambda q: (f"breakdown measured on {_um(q['test_thickness_m'])} specimens, used for a "
-                                    f"{_um(q['thickness_m'])} layer (more than {q['factor']:g}× away: beyond what "
+                                    f"{_um(q['thickness_m'])} layer (more than {_n(q['factor'])}× away: beyond what "
                                     "a thickness law may carry)"),
     "thickness-scaled": lambda q: (f"breakdown carried from {_um(q['test_thickness_m'])} specimens to the "
-                                   f"{_um(q['thickness_m'])} layer by E ∝ d^-n, n = {q['n']:.3g} ({q['source']})"),
+                                   f"{_um(q['thickness_m'])} layer by E ∝ d^-n, n = {_n(q['n'])} ({q['source']})"),
     "assumed-life-exponent": lambda q: assumed_life_note(q["n"], q["source"]),
-    "ramp-time": lambda q: (f"life from the short-term breakdown as a ramp test reaching it in {q['t_r']:g} s (range "
-                            f"{q['low']:g}–{q['high']:g} s, {q['source']}), cumulative exposure under E^-n"),
-    "loss-frequency": lambda q: (f"loss tangent for the {q['frequency_Hz']:g} Hz ripple read from data at "
-                                 f"{q['stored']} (not within a factor {q['factor']:g})"),
+    "ramp-time": lambda q: (f"life from the short-term breakdown as a ramp test reaching it in {_n(q['t_r'])} s (range "
+                            f"{_n(q['low'])}–{_n(q['high'])} s, {q['source']}), cumulative exposure under E^-n"),
+    "loss-frequency": lambda q: (f"loss tangent for the {_n(q['frequency_Hz'])} Hz ripple read from data at "
+                                 f"{q['stored']} (not within a factor {_n(q['factor'])})"),
     "loss-outside": lambda q: ("loss tangent at the hot spot not measured: held at the end of its data, or stated "
                                "at no temperature"),
     "outside-data": lambda q: (f"{q['notes']}: refused ({EXTRAPOLATE_HINT})"),
     "thicker-than-made": lambda q: (
         f"needs {_um(q['thickness_m'])} of dielectric; the thickest single layer made is {_um(q['max_thickness_m'])}"
-        f" ({q['source']})" + (f", and {q['sections']:g} series sections of it are more than the "
-                               f"{q['allowed']:g} the target allows" if q['allowed'] > 1 else
+        f" ({q['source']})" + (f", and {_n(q['sections'])} series sections of it are more than the "
+                               f"{_n(q['allowed'])} the target allows" if q['allowed'] > 1 else
                                " (allow series sections with --sections N, or max_sections = N in a target file)")),
-    "sections": lambda q: (f"built as {q['sections']:g} series sections of {_um(q['layer_m'])} (the thickest "
+    "sections": lambda q: (f"built as {_n(q['sections'])} series sections of {_um(q['layer_m'])} (the thickest "
                            f"single layer made is {_um(q['max_thickness_m'])}, {q['source']}): weakest link over "
-                           f"{q['sections']:g}× the area, breakdown at the section thickness"),
+                           f"{_n(q['sections'])}× the area, breakdown at the section thickness"),
     "outside-rating": lambda q: f"outside the rated range: {q['prop']} is {_c(q['rated_K'])}",
     "gas-no-area": lambda q: ("a gas gap is not scaled by electrode area: its strength is set by gap and "
                               "pressure (Paschen's law)"),
-    "gas-stored-gap": lambda q: (f"gas breakdown as stored for a {q['thickness_m'] * 1e3:g} mm gap; give --gap (and "
+    "gas-stored-gap": lambda q: (f"gas breakdown as stored for a {_n(q['thickness_m'] * 1e3)} mm gap; give --gap (and "
                                  "--pressure) for another gap" if q["thickness_m"] == q["thickness_m"] else
                                  "gas breakdown as stored, gap not stated; give --gap (and --pressure)"),
     "gas-gap-law": lambda q: (f"gas gap {_um(q['gap_m'])}: "
@@ -156,7 +158,7 @@ TEXT = {
                               + (" (Townsend constants used beyond their fitted E/p range)"
                                  if q["law"] == "Paschen-beyond-fit" else "")),
     "gas-no-law": lambda q: "no Townsend constants or published formula stored for this gas: breakdown as stored",
-    "liquid-gap-assumed": lambda q: (f"liquid breakdown figure states no gap: {q['thickness_m'] * 1e3:g} mm (the "
+    "liquid-gap-assumed": lambda q: (f"liquid breakdown figure states no gap: {_n(q['thickness_m'] * 1e3)} mm (the "
                                      "quality-test gap) assumed"),
     "segment-ignored": lambda q: ("segment area ignored: the material is not self-healing, so the whole area "
                                   "counts"),

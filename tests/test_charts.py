@@ -107,6 +107,11 @@ def test_every_plotted_value_is_its_table_cell(mats, tmp_path):
             assert t[0] == pytest.approx(target.tmin_K) and t[-1] == pytest.approx(target.tmax_K)
             # with values flat in temperature, every evaluated point is the table's worst case
             assert np.nanmax(np.abs(_u - temp.values[label])) <= 1e-9 * temp.values[label]
+            # both figures carry the row's evidence mark, the same one
+            (tick,) = [x.get_text() for x in head.axes[0].get_yticklabels() if x.get_text().startswith(label)]
+            mark = tick[len(label):].strip()
+            assert [x.get_text() for x in temp.legends[0].get_texts()
+                    if x.get_text().split(". ", 1)[1].startswith(label)][0].endswith(f"{label} {mark}".strip())
 
 
 def test_the_comparison_figure_plots_the_ceiling_column(mats):

@@ -211,15 +211,22 @@ def design_temperature_chart(materials, target, rows, *, points: int = 13):
             val = np.asarray(cols.values["energy"], dtype=float)
             out_of_rating = cols.fails["rated-outside-max"] | cols.fails["rated-outside-min"]
             u[th][j] = np.where(out_of_rating, np.nan, val)
+    from ranking.report.marks import MARKS, legend_lines, row_evidence
+
     fig, ax = new_figure(7.5, 5.0)
     fig.curves, fig.values = {}, {}
     tc = temps - 273.15
+    used = set()
     for i, r in enumerate(rows):
         st = style(i)
         series = u[r.get("thickness_m")][:, where[r["key"]]]
         fig.curves[r["label"]] = (temps, series)
+        # the row's evidence mark for its energy, as in the table
+        cls = row_evidence(r, ["energy"])["energy"] if "source_kinds" in r else None
+        used.add(cls)
+        label = f"{r['rank']}. {r['label']}" + (f" {MARKS[cls]}" if cls else "")
         (line,) = ax.plot(tc, series / J_PER_M3_PER_J_PER_CM3, color=st["color"], linestyle=st["linestyle"],
-                          marker=st["marker"], markersize=3.5, linewidth=1.1, label=f"{r['rank']}. {r['label']}")
+                          marker=st["marker"], markersize=3.5, linewidth=1.1, label=label)
         line.set_gid(f"design:{r['label']}")
         value = r["criteria"].get("energy")
         if value is not None:
@@ -242,4 +249,7 @@ def design_temperature_chart(materials, target, rows, *, points: int = 13):
     ax.set_title("Design energy density across the operating range", loc="left", fontsize=10)
     ax.grid(True, color="0.9", linewidth=0.5)
     fig.legend(loc="outside right upper", fontsize=7, frameon=False)
+    foot = legend_lines(c for c in used if c)
+    if foot:
+        fig.supxlabel("marks: " + "; ".join(foot), fontsize=6, color="0.3", wrap=True)
     return fig
