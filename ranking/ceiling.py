@@ -52,22 +52,19 @@ def _one(material: MaterialData, temperature_K: float, assume_defaults: bool):
     return worst_inputs(r, tmin_K=temperature_K, tmax_K=temperature_K, assume_defaults=assume_defaults)
 
 
-def check_inputs(inp, i: int, *, key: str, temperature_K: float, extrapolate: bool) -> None:
+def check_inputs(inp, i: int, *, key: str, extrapolate: bool) -> None:
     """Refuse material ``i`` of the engine's inputs without a permittivity or a breakdown field, or with one (or its
     loop) held outside its temperatures (unless ``extrapolate``; breakdown held below its coldest point is a lower
     bound and passes)."""
-    from materials.lookup import outside_data_message
+    from ranking.explain import held_notes
+    from ranking.reasons import words
 
-    for prop, has, lk, c in (("relative_permittivity", inp.eps_has, inp.eps_g, inp.c_eps),
-                             ("breakdown_field", inp.ebd_has, inp.ebd_g, inp.c_ebd)):
+    for prop, has in (("relative_permittivity", inp.eps_has), ("breakdown_field", inp.ebd_has)):
         if not has[i]:
             raise DataError(f"{key} has no {prop}")
-        carried = prop == "breakdown_field" and inp.cold[c[i]]   # held below the coldest point: a lower bound
-        if lk.extrapolated[c[i]] and not extrapolate and not carried:
-            raise DataError(f"{key}: " + outside_data_message(prop, lk.lo_x[c[i]], lk.hi_x[c[i]], temperature_K))
-    if inp.loop_out[i] and not extrapolate:
-        raise DataError(f"{key}: " + outside_data_message("loop energy", inp.loop_lo[i], inp.loop_hi[i],
-                                                          temperature_K))
+    # the engine's own rule (inputs.extrapolated), in the shortlist's words
+    if inp.extrapolated[i] and not extrapolate:
+        raise DataError(f"{key}: " + words("outside-data", notes="; ".join(held_notes(inp, i))))
 
 
 def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float | None = None,
@@ -90,7 +87,7 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
     from ranking.reasons import words
 
     inp = _one(material, temperature_K, assume_defaults)
-    check_inputs(inp, 0, key=material.key, temperature_K=temperature_K, extrapolate=extrapolate)
+    check_inputs(inp, 0, key=material.key, extrapolate=extrapolate)
     eps, ebd = float(inp.eps_v[0]), float(inp.ebd_v[0])
     notes: list[str] = []
     kind = int(inp.kind[0])

@@ -305,7 +305,10 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
     cols = _evaluate(inp, target, thickness_m)
     if inp.parts.get("built_for") is target:
         drop = _farther_specimens(inp.reader, cols.parts["layer"])
-        if drop.any():
+        # only when a row the answer read is set aside: otherwise the second pass would read the same rows
+        lk = inp.ebd_g
+        read = np.concatenate([lk.used0, lk.used1, lk.shape0, lk.shape1])
+        if drop[read[read >= 0]].any():
             cols = _evaluate(inputs_for(inp.reader.without(drop), target), target, thickness_m)
     return cols
 

@@ -135,7 +135,12 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
 def outside_notes(cols: Columns, i: int) -> list[str]:
     """Where candidate ``i`` uses a value outside its data: temperatures beyond the measured ones, or a layer
     thickness beyond what a thickness law may carry."""
-    inp = cols.parts["inputs"]
+    return held_notes(cols.parts["inputs"], i) + _thickness_outside(cols, i)
+
+
+def held_notes(inp, i: int) -> list[str]:
+    """Where material ``i`` of the engine's inputs reads permittivity, breakdown (other than below its coldest
+    point) or a loop outside the temperatures of its data."""
     out = []
     if inp.extrapolated[i]:
         cells = np.arange(int(inp.g_start[i]), int(inp.g_start[i + 1]))
@@ -151,7 +156,6 @@ def outside_notes(cols: Columns, i: int) -> list[str]:
         at = inp.tmin_K if inp.tmin_K < inp.loop_lo[i] else inp.tmax_K
         out.append(words("extrapolated", prop="loop energy", lo_K=float(inp.loop_lo[i]), hi_K=float(inp.loop_hi[i]),
                          at_K=float(at)))
-    out.extend(_thickness_outside(cols, i))
     return out
 
 

@@ -136,7 +136,7 @@ TEXT = {
                                  f"{q['stored']} (not within a factor {_n(q['factor'])})"),
     "loss-outside": lambda q: ("loss tangent at the hot spot not measured: held at the end of its data, or stated "
                                "at no temperature"),
-    "outside-data": lambda q: (f"{q['notes']}: refused ({EXTRAPOLATE_HINT})"),
+    "outside-data": lambda q: (f"{q['notes']}: outside the data, refused ({EXTRAPOLATE_HINT})"),
     "thicker-than-made": lambda q: (
         f"needs {_um(q['thickness_m'])} of dielectric; the thickest single layer made is {_um(q['max_thickness_m'])}"
         f" ({q['source']})" + (f", and {_n(q['sections'])} series sections of it are more than the "

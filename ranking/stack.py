@@ -70,7 +70,7 @@ def evaluate_stack(materials, thicknesses_m, *, voltage_V: float, dc: bool = Fal
     inp = worst_inputs(table, tmin_K=temperature_K, tmax_K=temperature_K, assume_defaults=assume_defaults)
     keys = [m.key for m in materials]
     for i, k in enumerate(keys):
-        check_inputs(inp, i, key=k, temperature_K=temperature_K, extrapolate=extrapolate)
+        check_inputs(inp, i, key=k, extrapolate=extrapolate)
         if not assume_defaults and not (inp.shape_found[i] and (inp.area_found[i] or area_m2 is None)):
             raise DataError(f"{k}: weibull_shape or breakdown test area missing (--strict refuses assumptions)")
     gaps = apply_gap_laws(inp, d, pressure_Pa=pressure_Pa, temperature_K=temperature_K)
