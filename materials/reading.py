@@ -122,8 +122,7 @@ class Lookup:
 
     def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
         # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
-        val, lo_r, hi_r = (np.append(a, np.nan) for a in (t.value, _filled(t.low, t.value),
-                                                          _filled(t.high, t.value)))
+        val, lo_r, hi_r = t.padded()
         n = curve.n[q]
         pts = n > 0
         x = np.where(np.isnan(x) & pts, REFERENCE_TEMPERATURE_K, x)
@@ -345,8 +344,8 @@ def bias_curves(r: Reader, temperature_K: np.ndarray, zero: Lookup, *, prop: str
     row[:, 0] = zero.used0
     fields[rm, slot] = t.field_V_per_m[rows]
     eps[rm, slot] = t.value[rows]
-    low[rm, slot] = _filled(t.low, t.value)[rows]
-    high[rm, slot] = _filled(t.high, t.value)[rows]
+    low[rm, slot] = t.padded()[1][rows]
+    high[rm, slot] = t.padded()[2][rows]
     row[rm, slot] = rows
     n = np.where(has, n_b + 1, 0)
     # pad with the last point so that every column past n holds the curve's end

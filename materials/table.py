@@ -71,6 +71,16 @@ class ValueTable:
         """Material index of every row."""
         return np.repeat(np.arange(len(self.keys)), np.diff(self.start))
 
+    def padded(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The value, low and high columns (low and high filled with the value where they are missing), each with
+        one NaN past the end, so that "no row" (-1) indexes a NaN; built once per table (its columns are never
+        changed after it is built)."""
+        if "padded" not in self._py:
+            self._py["padded"] = tuple(np.append(a, np.nan) for a in (
+                self.value, np.where(np.isnan(self.low), self.value, self.low),
+                np.where(np.isnan(self.high), self.value, self.high)))
+        return self._py["padded"]
+
     def code(self, prop: str) -> int:
         """The code of ``prop`` in this table, -1 if no row holds it."""
         try:
@@ -83,7 +93,7 @@ class ValueTable:
 
     def materials(self, indices=None) -> list[MaterialData]:
         """Materials ``indices`` (all by default) as :class:`MaterialData` with their values."""
-        if not self._py:
+        if "ids" not in self._py:
             self._py.update({c: getattr(self, c).tolist() for c in FLOAT_COLUMNS})
             self._py["ids"] = self.ids.tolist()
             self._py["prop"] = [self.prop_names[c] for c in self.prop.tolist()]

@@ -170,23 +170,38 @@ def _screenable_problem(seed=0, m=2000, n=5, spread=0.1):
     return _ranged_problem(seed, m=m, n=n, spread=spread)
 
 
+def _agree(a, c, draws):
+    """Two independent binomial estimates from ``draws`` draws each: their difference has standard deviation
+    sqrt(2 p (1 - p) / draws) (p pooled). Allowed: 4 of those, plus one draw for the discreteness."""
+    p = (a + c) / 2
+    return (np.abs(a - c) <= 4 * np.sqrt(2 * p * (1 - p) / draws) + 1 / draws).all()
+
+
 @pytest.mark.parametrize("method", ["topsis", "weighted"])
-def test_screening_that_screens_nothing_is_the_plain_run(method):
-    # Candidates on a trade-off (the first criterion rises as the second falls): nobody dominates anybody.
+def test_screening_that_screens_nothing_agrees_with_the_plain_run(method):
+    # Candidates on a trade-off (the first criterion rises as the second falls): nobody dominates anybody. The
+    # column-by-column draws use other random numbers than the plain run's stacked draws: equal in distribution.
     rng = np.random.default_rng(4)
     t = np.sort(rng.random(40))
     typ = np.column_stack([t, 1.0 - t, rng.random(40)]) + 1.0
     w, b = [1.0, 2.0, 0.5], [True, True, False]
+    draws = 4000
     for low, high in ((typ, typ), (typ * 0.9, typ * 1.1)):
-        plain = monte_carlo(low, typ, high, w, b, method=method, draws=700, seed=3, rank_stats=False)
-        screened = monte_carlo(low, typ, high, w, b, method=method, draws=700, seed=3, rank_stats=False,
+        plain = monte_carlo(low, typ, high, w, b, method=method, draws=draws, seed=3, rank_stats=False)
+        screened = monte_carlo(low, typ, high, w, b, method=method, draws=draws, seed=3, rank_stats=False,
                                screen=True)
         assert plain.screened is None and not screened.screened.any()
-        for field in ("p_first", "p_top_k", "score_mean"):
-            np.testing.assert_array_equal(getattr(screened, field), getattr(plain, field))
+        for field in ("p_first", "p_top_k"):
+            assert _agree(getattr(plain, field), getattr(screened, field), draws), field
+        # the mean score: the same closeness in every draw when nothing varies
+        if (low == high).all():
+            np.testing.assert_allclose(screened.score_mean, plain.score_mean, rtol=0, atol=0.02)
+        again = monte_carlo(low, typ, high, w, b, method=method, draws=draws, seed=3, rank_stats=False,
+                            screen=True)
+        np.testing.assert_array_equal(again.p_top_k, screened.p_top_k)
 
 
-def test_screening_falls_back_on_the_plain_run_if_a_firm_weight_draws_zero(monkeypatch):
+def test_screening_runs_again_with_nothing_screened_if_a_firm_weight_draws_zero(monkeypatch):
     from ranking import robustness
     low, typ, high, w, b = _screenable_problem(1, m=300, n=3)
     draw = robustness._draw_weights
@@ -198,11 +213,11 @@ def test_screening_falls_back_on_the_plain_run_if_a_firm_weight_draws_zero(monke
 
     assert monte_carlo(low, typ, high, w, b, draws=200, seed=5, rank_stats=False, screen=True).screened.any()
     monkeypatch.setattr(robustness, "_draw_weights", with_a_zero)
-    plain = monte_carlo(low, typ, high, w, b, draws=200, seed=5, rank_stats=False)
-    screened = monte_carlo(low, typ, high, w, b, draws=200, seed=5, rank_stats=False, screen=True)
+    screened = monte_carlo(low, typ, high, w, b, draws=2000, seed=5, rank_stats=False, screen=True)
     assert not screened.screened.any()
-    for field in ("p_first", "p_top_k", "score_mean"):
-        np.testing.assert_array_equal(getattr(screened, field), getattr(plain, field))
+    plain = monte_carlo(low, typ, high, w, b, draws=2000, seed=5, rank_stats=False)
+    for field in ("p_first", "p_top_k"):
+        assert _agree(getattr(plain, field), getattr(screened, field), 2000), field
 
 
 def test_a_criterion_with_alpha_below_one_gives_no_strict_advantage():
@@ -238,15 +253,11 @@ def test_screened_candidates_never_reach_the_top_and_survivors_agree(method):
     assert (plain.p_top_k[out] == 0).all()
     assert (fast.p_first[out] == 0).all() and (fast.p_top_k[out] == 0).all() and np.isnan(fast.score_mean[out]).all()
     assert fast.p_first.sum() == pytest.approx(1.0) and fast.p_top_k.sum() == pytest.approx(k)
-    # Survivors: two independent binomial estimates from 2,000 draws each; their difference has standard
-    # deviation sqrt(2 p (1 - p) / draws) (p pooled). Allowed: 4 of those, plus one draw for the discreteness.
-    # The screened run holds the screened candidates at typical values in the normalisation, a shift far below
+    # Survivors: two independent binomial estimates (_agree). The screened run holds the screened candidates at typical values in the normalisation, a shift far below
     # this (they are never near the top; the differences seen are within 2 standard deviations).
     keep = ~out
     for field in ("p_first", "p_top_k"):
-        a, c = getattr(plain, field)[keep], getattr(fast, field)[keep]
-        p = (a + c) / 2
-        assert (np.abs(a - c) <= 4 * np.sqrt(2 * p * (1 - p) / draws) + 1 / draws).all(), field
+        assert _agree(getattr(plain, field)[keep], getattr(fast, field)[keep], draws), field
     assert np.isfinite(fast.score_mean[keep]).all()
 
 
