@@ -1173,3 +1173,67 @@ def test_remembered_film_flags_and_floors_replaced(catalog):
         assert not rows(catalog, key, "self_healing"), key
     assert not [v for v in rows(catalog, "polyimide-pmda-oda", "relative_permittivity")
                 if sources[v.source].kind == "recollection"]
+# --- class 2 dissipation-factor maxima, ceramic class checks and oxide/fluid/glass figures (makers' specification
+#     tables, EIA-198 letters, Murata 2012) ---------------------------------------------------------------------------
+
+@pytest.mark.parametrize("key, source, df, df_high", [
+    ("mlcc-x5r", "mlcc-maker-x5r-y5v-datasheet", 0.025, 0.035),   # X5R: 2.5 % (50 V), 3.5 % (6.3-25 V)
+    ("mlcc-y5v", "mlcc-maker-x5r-y5v-datasheet", 0.05, 0.10),     # Y5V: 5 % (50-100 V) ... 10 % (6.3-10 V)
+    ("mlcc-z5u", "mlcc-maker-leaded-class2-specification", 0.04, 0.04),  # Z5U: 4 % at 1 kHz, 0.5 Vrms
+])
+def test_class2_dissipation_maxima_maker_specification_tables(catalog, key, source, df, df_high):
+    """'Performance specifications' (X5R/Y5V chip datasheet) and 'Electrical Specification' class II/III table."""
+    v = one(catalog, key, "loss_tangent", source, frequency_Hz=1e3, temperature_K=25 + C0)
+    assert v.value == pytest.approx(df)
+    assert (v.high if v.high is not None else v.value) == pytest.approx(df_high)
+
+
+@pytest.mark.parametrize("key, source", [("mlcc-x7r", "mil-prf-123d")])
+def test_x7r_dissipation_agrees_with_two_maker_tables(catalog, key, source):
+    """MIL-PRF-123D para. 3.12 (BX: 2.5 %), the film-capacitor maker's comparison table (X7R 2.5 % at 1 kHz) and the
+    leaded class II table (X7R 2.5 % max) print the same maximum; the catalog stores it once, from the standard."""
+    assert one(catalog, key, "loss_tangent", source).value == pytest.approx(0.025)
+    for s in ("film-capacitor-maker-dielectric-table", "mlcc-maker-leaded-class2-specification"):
+        assert "2.5 %" in catalog[0][s].note
+
+
+@pytest.mark.parametrize("key, lo, hi, t_lo, t_hi", [
+    ("mlcc-x5r", -0.15, 0.15, -55, 85), ("mlcc-x7r", -0.15, 0.15, -55, 125), ("mlcc-x8r", -0.15, 0.15, -55, 150),
+    ("mlcc-x7s", -0.22, 0.22, -55, 125), ("mlcc-y5v", -0.82, 0.22, -30, 85), ("mlcc-z5u", -0.56, 0.22, 10, 85),
+])
+def test_class2_capacitance_envelope_eia_198_letters(catalog, key, lo, hi, t_lo, t_hi):
+    """EIA-198-1-F letters R = +/-15 %, S = +/-22 %, U = +22/-56 %, V = +22/-82 % at both ends of the code's range;
+    the Y5V maker's datasheet prints the same +22/-82 % over -30...85 degC."""
+    for t in (t_lo, t_hi):
+        v = one(catalog, key, "capacitance_change", "eia-198-1-f", temperature_K=t + C0)
+        assert (v.low, v.high) == (pytest.approx(lo), pytest.approx(hi)), (key, t)
+
+
+@pytest.mark.parametrize("key, lo, hi", [("mlcc-c0g", 12, 40)])
+def test_c0g_permittivity_inside_maker_table_np0_range(catalog, key, lo, hi):
+    """Film-capacitor maker's comparison table, 'Dielectric constant 1 kHz/23 degC', NP0: 12...40. The stored C0G
+    curve (a recollection) must stay inside that published range."""
+    for v in rows(catalog, key, "relative_permittivity"):
+        assert lo <= v.value <= hi, v
+
+
+def test_tantalum_pentoxide_density_reference_note(catalog):
+    """beta-Ta2O5 8.18 g/cm3, alpha-Ta2O5 8.37 g/cm3."""
+    v = one(catalog, "tantalum-pentoxide", "density", "ta2o5-reference-note")
+    assert (v.value, v.high) == (pytest.approx(8180), pytest.approx(8370))
+
+
+def test_ester_permittivity_range_insulating_oil_note(catalog):
+    """'Ester-based oils: generally also in the range of 2.5 to 3.5' (power frequency, 20-25 degC)."""
+    v = one(catalog, "synthetic-ester", "relative_permittivity", "insulating-oil-permittivity-note")
+    assert (v.low, v.high) == (2.5, 3.5) and v.frequency_Hz == 50
+
+
+def test_alkali_free_glass_thinnest_tested_murata_2012(catalog):
+    """Murata et al., J. Am. Ceram. Soc. 95(6) 1915 (2012): glass from 58 um down to 5 um; the thinnest layer stored
+    is the thinnest the paper tested, and its strongest characteristic field belongs to that thickness."""
+    d = one(catalog, "alkali-free-thin-glass", "min_thickness", "murata-2012-jacers-glass").value
+    assert d == pytest.approx(5e-6)
+    strongest = max(rows(catalog, "alkali-free-thin-glass", "breakdown_field", "murata-2012-jacers-glass"),
+                    key=lambda v: v.value)
+    assert strongest.thickness_m == pytest.approx(d)

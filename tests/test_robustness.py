@@ -253,8 +253,9 @@ def test_screened_candidates_never_reach_the_top_and_survivors_agree(method):
     assert (plain.p_top_k[out] == 0).all()
     assert (fast.p_first[out] == 0).all() and (fast.p_top_k[out] == 0).all() and np.isnan(fast.score_mean[out]).all()
     assert fast.p_first.sum() == pytest.approx(1.0) and fast.p_top_k.sum() == pytest.approx(k)
-    # Survivors: two independent binomial estimates (_agree). The screened run holds the screened candidates at typical values in the normalisation, a shift far below
-    # this (they are never near the top; the differences seen are within 2 standard deviations).
+    # Survivors: two independent binomial estimates (_agree). The screened run holds the screened candidates at
+    # typical values in the normalisation, a shift far below this (they are never near the top; the differences
+    # seen are within 2 standard deviations).
     keep = ~out
     for field in ("p_first", "p_top_k"):
         assert _agree(getattr(plain, field)[keep], getattr(fast, field)[keep], draws), field
