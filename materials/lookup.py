@@ -11,7 +11,12 @@ The reading rules, written once:
   general figure), else the thickest specimen (breakdown falls with thickness: the conservative one), then the
   first entered;
 * piecewise-linear interpolation between temperatures; outside the data the end value is held and flagged
-  (``extrapolated``), and the single-material :func:`value_at` refuses it unless asked.
+  (``extrapolated``), and the single-material :func:`value_at` refuses it unless asked;
+* permittivity over temperature from a stated band of capacitance change (a class code's limits, e.g. −15 … +15 %
+  against 25 °C over −55 … 125 °C) where the band is stronger evidence than the permittivity's own temperature
+  curve: the 25 °C value, and anywhere else in the band's span that value at the band's lowest end (the band
+  bounds the change at every temperature of its span, so this is the most the data guarantee); ``banded`` marks
+  it.
 
 DC-bias curves (:func:`bias_curves`) are read the same way at the temperature asked: the bias rows at the stated
 temperature nearest to it, one row per field by evidence, and the small-signal value at that temperature as the
@@ -48,6 +53,7 @@ class ValueAt:
     rows: tuple[StoredValue, ...] = field(default_factory=tuple)
     covered: tuple[float, float] | None = None  # abscissa range of the data (K or V/m), None if a single value
     lent: bool = False   # the shape over temperature comes from weaker evidence, anchored to the stronger value
+    banded: bool = False  # taken at the lowest end of a stated band of capacitance change over temperature
 
     @property
     def sources(self) -> list[str]:
@@ -93,7 +99,8 @@ def value_at(material: MaterialData, prop: str, *, temperature_K: float | None =
         raise DataError(outside_data_message(prop, lk.lo_x[0], lk.hi_x[0], temperature_K))
     covered = None if np.isnan(lk.lo_x[0]) else (float(lk.lo_x[0]), float(lk.hi_x[0]))
     return ValueAt(prop, float(lk.value[0]), float(lk.low[0]), float(lk.high[0]), bool(lk.extrapolated[0]),
-                   _stored(stored, lk.used0[0], lk.used1[0], lk.shape0[0], lk.shape1[0]), covered, bool(lk.lent[0]))
+                   _stored(stored, lk.used0[0], lk.used1[0], lk.shape0[0], lk.shape1[0]), covered, bool(lk.lent[0]),
+                   bool(lk.banded[0]))
 
 
 def _bias_value_at(material, r, stored, prop, temperature_K, e, extrapolate) -> ValueAt:

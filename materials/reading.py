@@ -100,6 +100,7 @@ class Lookup:
                  lend: np.ndarray | None = None):
         self._read(t, curve, q, x)
         self.lent = np.zeros(q.size, dtype=bool)
+        self.banded = np.zeros(q.size, dtype=bool)
         self.shape0 = self.shape1 = np.full(q.size, -1, dtype=np.int64)
         if weak is None or lend is None or not lend[q].any():
             return
@@ -119,6 +120,29 @@ class Lookup:
         self.shape0, self.shape1 = self.shape0.copy(), self.shape1.copy()
         self.shape0[k], self.shape1[k] = at_x.used0[ok], at_x.used1[ok]
         self.lent[k] = True
+
+    def within_band(self, t: ValueTable, curve: Curve, band: Band, q: np.ndarray, x: np.ndarray):
+        """Answers of the materials whose stated band of capacitance change is stronger evidence than the shape
+        of their permittivity over temperature (``band.applies``): the value at 25 °C, and anywhere else in the
+        band's span that value times ``1 + band.worst`` (the band bounds the change at every temperature of its
+        span, not only at its ends; its lowest end is taken). Beyond the span the answer is extrapolated."""
+        k = np.flatnonzero(band.applies[q])
+        if not k.size:
+            return
+        qk, xk = q[k], x[k]
+        anchor = _Read(t, curve, qk, np.full(k.size, REFERENCE_TEMPERATURE_K))
+        at_ref = np.isnan(xk) | (np.abs(xk - REFERENCE_TEMPERATURE_K) <= 1e-6)
+        f = np.where(at_ref, 1.0, 1.0 + band.worst[qk])
+        self.value[k], self.low[k], self.high[k] = anchor.value * f, anchor.low * f, anchor.high * f
+        lo_x, hi_x = band.lo_x[qk], band.hi_x[qk]
+        tol = 1e-9 * np.maximum(1.0, hi_x)
+        self.extrapolated[k] = ~np.isnan(xk) & ((xk < lo_x - tol) | (xk > hi_x + tol))
+        self.lo_x[k], self.hi_x[k] = lo_x, hi_x
+        self.used0[k], self.used1[k] = anchor.used0, anchor.used1
+        self.shape0, self.shape1 = self.shape0.copy(), self.shape1.copy()
+        self.shape0[k], self.shape1[k] = np.where(at_ref, -1, band.row[qk]), -1
+        self.lent[k] = False
+        self.banded[k] = ~at_ref
 
     def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
         # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
@@ -210,6 +234,54 @@ def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
     return lab[t.source], tier[t.source]
 
 
+@dataclass
+class Band:
+    """Per material (length M), the stated band of its capacitance change against 25 °C over temperature (the
+    ``capacitance_change`` rows that state a temperature and no bias field, of the strongest evidence it holds):
+    the lowest change the band allows (``worst``, a fraction) and the row stating it, the span of temperatures it
+    covers (25 °C, its reference, included), and whether it applies to the permittivity (``applies``: it is
+    stronger evidence than whatever gives the material's permittivity a shape over temperature)."""
+
+    worst: np.ndarray
+    row: np.ndarray
+    lo_x: np.ndarray
+    hi_x: np.ndarray
+    applies: np.ndarray
+
+
+def _band(r: Reader, frequency_Hz: float | None) -> Band:
+    t, m, none = r.t, r.m, np.iinfo(np.int64).max
+    rows = r.rows_of("capacitance_change")
+    temp, e = t.temperature_K[rows], t.field_V_per_m[rows]
+    rows = rows[np.isfinite(temp) & (np.isnan(e) | (e == 0))]
+    rm = r.mat[rows]
+    tier = np.full(m, none)
+    np.minimum.at(tier, rm, r.tier[rows])
+    rows = rows[r.tier[rows] == tier[rm]]
+    rm, temp, low = r.mat[rows], t.temperature_K[rows], t.padded()[1][rows]
+    o = np.lexsort((rows, low, rm))
+    first = np.ones(o.size, dtype=bool)
+    first[1:] = rm[o][1:] != rm[o][:-1]
+    worst, row = np.full(m, np.nan), np.full(m, -1, dtype=np.int64)
+    worst[rm[o][first]], row[rm[o][first]] = low[o][first], rows[o][first]
+    lo_x, hi_x = np.full(m, REFERENCE_TEMPERATURE_K), np.full(m, REFERENCE_TEMPERATURE_K)
+    np.minimum.at(lo_x, rm, temp)
+    np.maximum.at(hi_x, rm, temp)
+    # the tier of the evidence that shapes the permittivity over temperature: a curve of the strongest rows, else
+    # a weaker curve that lends its shape, else none
+    strong, _, lend = r.curves("relative_permittivity", frequency_Hz)
+    eps = pick_rows(t, r.rows_of("relative_permittivity"), r.mat, m, frequency_Hz)
+    em = r.mat[eps]
+    best = np.full(m, none)
+    np.minimum.at(best, em, r.tier[eps])
+    weak = np.isfinite(t.temperature_K[eps]) & (r.tier[eps] > best[em])
+    weak_tier = np.full(m, none)
+    np.minimum.at(weak_tier, em[weak], r.tier[eps][weak])
+    shape_tier = np.where(strong.n >= 2, best, np.where(lend, weak_tier, none))
+    applies = (row >= 0) & (tier < shape_tier) & strong.has & (worst > -1)
+    return Band(worst=worst, row=row, lo_x=lo_x, hi_x=hi_x, applies=applies)
+
+
 class Reader:
     """A table prepared for lookups: active rows, their material, lab flag and evidence tier, computed once."""
 
@@ -258,10 +330,22 @@ class Reader:
         """The curve of the strongest evidence each material holds for ``prop``."""
         return self.curves(prop, frequency_Hz)[0]
 
+    def band(self, frequency_Hz: float | None = None) -> Band:
+        """Every material's stated band of capacitance change over temperature (:class:`Band`), prepared once."""
+        key = ("band", frequency_Hz)
+        if key not in self._curves:
+            self._curves[key] = _band(self, frequency_Hz)
+        return self._curves[key]
+
     def lookup(self, prop: str, q: np.ndarray, x: np.ndarray, *, frequency_Hz: float | None = None) -> Lookup:
-        """``prop`` of materials ``q`` at temperatures ``x`` by the evidence order (see :class:`Lookup`)."""
+        """``prop`` of materials ``q`` at temperatures ``x`` by the evidence order (see :class:`Lookup`); the
+        permittivity of a material whose stated band of capacitance change is the stronger evidence of its
+        behaviour over temperature within that band (:meth:`Lookup.within_band`)."""
         strong, weak, lend = self.curves(prop, frequency_Hz)
-        return Lookup(self.t, strong, q, x, weak=weak, lend=lend)
+        lk = Lookup(self.t, strong, q, x, weak=weak, lend=lend)
+        if prop == "relative_permittivity":
+            lk.within_band(self.t, strong, self.band(frequency_Hz), q, np.asarray(x, dtype=float))
+        return lk
 
     def at(self, prop: str, temperature_K=None, *, frequency_Hz: float | None = None,
            materials: np.ndarray | None = None) -> Lookup:

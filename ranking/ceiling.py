@@ -141,8 +141,12 @@ def ceiling_at(material: MaterialData, *, temperature_K: float, area_m2: float |
         notes.append(words("loop-top", loop_V_per_m=top, field_V_per_m=e_design))
     method = METHOD_NAMES[int(inp.kind[0])]
     t = inp.reader.t
-    rows = [inp.eps_g.used0[inp.c_eps[0]], inp.eps_g.used1[inp.c_eps[0]], inp.ebd_g.used0[inp.c_ebd[0]],
-            inp.ebd_g.used1[inp.c_ebd[0]]]
+    from ranking.explain import band_notes
+
+    notes.extend(band_notes(inp, 0))
+    # the rows behind each answer, and the rows that gave it its shape over temperature (a weaker curve, a band)
+    rows = [getattr(lk, a)[c] for lk, c in ((inp.eps_g, inp.c_eps[0]), (inp.ebd_g, inp.c_ebd[0]))
+            for a in ("used0", "used1", "shape0", "shape1")]
     if inp.shape_found[0]:
         rows += [inp.sh.used0[0], inp.sh.used1[0]]
     rows += getattr(inp, "gap_rows", [])

@@ -157,6 +157,7 @@ def worst_inputs(table: ValueTable | Reader, *, tmin_K: float, tmax_K: float, fr
         held_cold=np.bincount(gm[cold], minlength=m) > 0, cold=cold, test_thickness=d0,
         law_n=law_n, law_source=law_src, has_law=np.isfinite(law_n) & np.isfinite(d0), gap_assumed=gap_assumed,
         lent=np.bincount(gm[eps_g.lent | ebd_g.lent], minlength=m) > 0,
+        banded=np.bincount(gm[eps_g.banded], minlength=m) > 0,
         sh=sh, shape_found=sh.present, beta=np.where(sh.present, sh.value, prior_typ),
         beta_lo=np.where(sh.present, sh.value, prior_lo), beta_hi=np.where(sh.present, sh.value, prior_hi),
         test_area=np.where(area_found, test_area, TEST_AREA.typical), area_found=area_found,

@@ -138,6 +138,16 @@ def outside_notes(cols: Columns, i: int) -> list[str]:
     return held_notes(cols.parts["inputs"], i) + _thickness_outside(cols, i)
 
 
+def band_notes(inp, i: int) -> list[str]:
+    """Where material ``i`` of the engine's inputs reads its permittivity from a stated band of capacitance change
+    over temperature (:meth:`materials.reading.Lookup.within_band`)."""
+    if not inp.banded[i]:
+        return []
+    band = inp.reader.band()
+    return [words("permittivity-band", lo_K=float(band.lo_x[i]), hi_K=float(band.hi_x[i]),
+                  worst=float(band.worst[i]), source=_source_key(inp.reader.t, band.row[i]))]
+
+
 def held_notes(inp, i: int) -> list[str]:
     """Where material ``i`` of the engine's inputs reads permittivity, breakdown (other than below its coldest
     point) or a loop outside the temperatures of its data."""
@@ -170,7 +180,7 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
                          max_thickness_m=float(inp.d_max[i]),
                          source=_source_key(inp.reader.t, inp.thickmax.used0[i])))
     out.extend(_gap_assumed(cols, i) + _thickness_scaled(cols, i))
-    out.extend(outside_notes(cols, i))
+    out.extend(band_notes(inp, i) + outside_notes(cols, i))
     if inp.held_cold[i]:
         from materials.priors import COLD_HOLD
 
@@ -318,6 +328,8 @@ def explain(cols: Columns, i: int) -> Evaluation:
         ev.flags.append("assumed-gap")
     if inp.lent[i]:
         ev.flags.append("shape-lent")
+    if inp.banded[i]:
+        ev.flags.append("permittivity-band")
     if P["thick_out"][i]:
         ev.flags.append("thickness-extrapolated")
     elif P["scaled"][i]:

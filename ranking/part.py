@@ -101,6 +101,7 @@ def size_material(material: MaterialData, *, energy_J: float | None = None, volt
     if inp.has_loss[0]:
         rows += [inp.ls.used0[inp.c_loss[0]], inp.ls.used1[inp.c_loss[0]]]
     flags = [f for f, on in (("extrapolated", inp.extrapolated[0]), ("held-cold", inp.held_cold[0]),
+                             ("permittivity-band", inp.banded[0]),
                              ("assumed-shape", not inp.shape_found[0]),
                              ("assumed-test-area", not inp.area_found[0])) if on]
     out = {"key": material.key, "name": material.name, "voltage_V": voltage_V, "tmin_K": tmin_K, "tmax_K": tmax_K,

@@ -121,6 +121,9 @@ TEXT = {
                                + (f"at {_c(q['lo_K'])}" if q['lo_K'] == q['hi_K'] else
                                   f"from {_c(q['lo_K'])} to {_c(q['hi_K'])}")
                                + f" only, held at the end of its data at {_c(q['at_K'])}"),
+    "permittivity-band": lambda q: (f"permittivity from {_c(q['lo_K'])} to {_c(q['hi_K'])} taken at the lowest end "
+                                    f"of its stated band of capacitance change, {_n(100 * q['worst'])} % against "
+                                    f"25 °C ({q['source']})"),
     "held-cold": lambda q: (f"breakdown below {_c(q['coldest_K'])}, the coldest temperature measured, held at its "
                             f"value there: a lower bound, as breakdown strength does not rise on warming "
                             f"({q['source']})"),

@@ -235,3 +235,50 @@ def test_interpolation_stays_within_the_data_and_refuses_outside(make_material, 
     got = value_at(m, "relative_permittivity", temperature_K=t + C)
     assert min(ys) - 1e-9 <= got.value <= max(ys) + 1e-9
     assert not got.extrapolated
+
+
+# --- a stated band of capacitance change over temperature ----------------------------------------------------
+
+def _banded(curve_kind: str, band_kind: str):
+    """A class 2 body: εr 2000 at 25 °C and 1800 at 125 °C (``curve_kind``), a −15 … +15 % band at −55 and 125 °C
+    (``band_kind``, as EIA-198 letter R states it), and a DC-bias curve at 25 °C."""
+    from materials.records import MaterialData, SourceRef, StoredValue
+
+    curve, band = SourceRef("c", curve_kind, "curve"), SourceRef("b", band_kind, "band")
+    rows = [StoredValue(id=1, property="relative_permittivity", value=2000.0, source=curve, temperature_K=25 + C),
+            StoredValue(id=2, property="relative_permittivity", value=1800.0, source=curve, temperature_K=125 + C)]
+    rows += [StoredValue(id=3 + i, property="capacitance_change", value=-0.15, low=-0.15, high=0.15, source=band,
+                         temperature_K=t + C) for i, t in enumerate((-55.0, 125.0))]
+    rows += [StoredValue(id=10 + i, property="relative_permittivity", value=v, source=curve, temperature_K=25 + C,
+                         field_V_per_m=e) for i, (e, v) in enumerate(BIAS)]
+    return MaterialData(key="x7r", name="x7r", family="ceramic-class-2", response="nonlinear", values=rows)
+
+
+@pytest.mark.parametrize("t_C", [-55.0, -20.0, 60.0, 125.0])
+def test_a_stronger_band_bounds_the_permittivity_over_its_span(t_C):
+    # A standard's band outranks a remembered curve: anywhere in −55 … 125 °C but 25 °C the permittivity is the
+    # 25 °C value at the band's lower end, 2000 × 0.85 = 1700; the band's row is behind it.
+    m = _banded("recollection", "standard")
+    got = value_at(m, "relative_permittivity", temperature_K=t_C + C)
+    assert got.value == pytest.approx(1700.0, rel=1e-12) and got.banded and not got.extrapolated
+    assert got.covered == (pytest.approx(-55 + C), pytest.approx(125 + C))
+    assert {r.source.key for r in got.rows} == {"c", "b"}
+    at_25 = value_at(m, "relative_permittivity", temperature_K=25 + C)
+    assert at_25.value == 2000.0 and not at_25.banded
+
+
+def test_a_band_beyond_its_span_is_refused_and_a_weaker_band_is_ignored():
+    with pytest.raises(DataError, match="outside the data"):
+        value_at(_banded("recollection", "standard"), "relative_permittivity", temperature_K=130 + C)
+    # the same band from weaker evidence than the curve: the curve's own interpolation (numpy.interp)
+    m = _banded("lab", "standard")
+    got = value_at(m, "relative_permittivity", temperature_K=75 + C)
+    assert got.value == pytest.approx(np.interp(75.0, [25.0, 125.0], [2000.0, 1800.0])) and not got.banded
+
+
+def test_the_bias_curve_follows_the_band():
+    # At 125 °C the DC-bias curve measured at 25 °C is scaled by εr(125 °C)/εr(25 °C) = 0.85, the band's end.
+    m = _banded("recollection", "standard")
+    e, v = BIAS[1]
+    got = value_at(m, "relative_permittivity", temperature_K=125 + C, field_V_per_m=e)
+    assert got.value == pytest.approx(v * 0.85, rel=1e-12)
