@@ -13,7 +13,9 @@ at a time, which is also the fast way through a big set of which little can be s
 
 from __future__ import annotations
 
+import os
 from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -29,6 +31,9 @@ from ranking.screening import _screen
 _CHUNK_CELLS = 1 << 21
 # Cells (draws × survivors) of one drawn column at once in a screened run: small enough to stay in cache.
 _SCREEN_CELLS = 1 << 15
+# A screened run of at least this many cells (draws × survivors) is drawn in _STREAMS parts side by side.
+_SPLIT_CELLS = 1 << 22
+_STREAMS = 2
 
 
 @dataclass(frozen=True)
@@ -127,15 +132,29 @@ def _screened_tally(rng, draws, kk, lo, ty, hi, w, b, firm, method, concentratio
     lo_v, ty_v, hi_v = (np.ascontiguousarray(a[:, varied].T) for a in (lo, ty, hi))
 
     check = out.any()
-
-    def scores(k):
-        wk = _draw_weights(rng, k, w, concentration)
-        if check and not (wk[:, firm] > 0).all():
-            raise _ZeroWeight
-        return scorer(_draw_columns(rng, k, lo_v, ty_v, hi_v), wk)
-
     s = lo.shape[0]
-    return _tally(rng, draws, max(1, _SCREEN_CELLS // s), s, kk, False, scores)
+
+    def run(g: np.random.Generator, n_draws: int):
+        def scores(k):
+            wk = _draw_weights(g, k, w, concentration)
+            if check and not (wk[:, firm] > 0).all():
+                raise _ZeroWeight
+            return scorer(_draw_columns(g, k, lo_v, ty_v, hi_v), wk)
+
+        return _tally(g, n_draws, max(1, _SCREEN_CELLS // s), s, kk, False, scores)
+
+    if s * draws < _SPLIT_CELLS:
+        return run(rng, draws)
+    # A big run: the draws in _STREAMS fixed parts, each from its own child generator of ``rng`` (so the result
+    # depends on the seed and the problem, never on the number of processors), run side by side in threads
+    # (numpy releases the interpreter lock in its array loops) and added up in order.
+    parts = [draws // _STREAMS + (i < draws % _STREAMS) for i in range(_STREAMS)]
+    with ThreadPoolExecutor(max_workers=min(_STREAMS, os.cpu_count() or 1)) as pool:
+        done = list(pool.map(run, rng.spawn(_STREAMS), parts))
+    first, in_top, score_sum, _ = done[0]
+    for f, t, ssum, _ in done[1:]:
+        first, in_top, score_sum = first + f, in_top + t, score_sum + ssum
+    return first, in_top, score_sum, None
 
 
 def monte_carlo(matrix_low: ArrayLike | None, matrix_typ: ArrayLike | None, matrix_high: ArrayLike | None,
