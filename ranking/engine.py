@@ -294,6 +294,12 @@ class Columns:
     def __len__(self) -> int:
         return self.ok.size
 
+    def own(self, i: int) -> Columns:
+        """The columns that hold the whole answer of material ``i`` (its inputs and design as well as its verdict):
+        these, or for a material whose breakdown specimens :func:`evaluate` chose again, the second pass's."""
+        redo = self.parts.get("redo")
+        return redo[1] if redo is not None and redo[0][i] else self
+
 
 def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns:
     """Every material's verdict and criteria for ``target`` (a :class:`ranking.target.Target`); ``thickness_m``
@@ -310,8 +316,35 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
         lk = inp.ebd_g
         read = np.concatenate([lk.used0, lk.used1, lk.shape0, lk.shape1])
         if drop[read[read >= 0]].any():
-            cols = _evaluate(inputs_for(inp.reader.without(drop), target), target, thickness_m)
+            r = inp.reader
+            again = np.zeros(r.m, dtype=bool)
+            again[r.mat[drop]] = True
+            if again.all():
+                return _evaluate(inputs_for(r.without(drop), target), target, thickness_m)
+            # Only the materials with a row set aside are read again: each material's answer is its own, so the
+            # others' rows are left out of the second pass and their first answers kept.
+            redo = _evaluate(inputs_for(r.without(drop | ~again[r.mat]), target), target, thickness_m)
+            cols = _splice(cols, redo, again)
     return cols
+
+
+def _splice(first: Columns, redo: Columns, take: np.ndarray) -> Columns:
+    """``first`` with the per-material arrays of the materials ``take`` from ``redo``; ``redo`` is kept whole for
+    their words (:meth:`Columns.own`)."""
+    m = take.size
+
+    def pick(a, b):
+        if isinstance(a, np.ndarray) and isinstance(b, np.ndarray) and a.ndim and a.shape[0] == m \
+                and b.shape == a.shape:
+            return np.where(take.reshape((m,) + (1,) * (a.ndim - 1)), b, a)
+        return a
+
+    out = Columns(ok=pick(first.ok, redo.ok), fails={k: pick(v, redo.fails[k]) for k, v in first.fails.items()},
+                  **{name: {k: pick(v, getattr(redo, name)[k]) for k, v in getattr(first, name).items()}
+                     for name in ("values", "low", "high")},
+                  parts={k: pick(v, redo.parts.get(k)) for k, v in first.parts.items()})
+    out.parts["redo"] = (take, redo)
+    return out
 
 
 def _farther_specimens(r: Reader, layer: np.ndarray) -> np.ndarray:

@@ -388,3 +388,34 @@ def test_a_loop_used_outside_its_temperatures_is_refused_unless_extrapolating(ma
     assert not ev.ok and "loop energy known at 25 °C only, held at the end of its data at -40 °C" in ev.reasons[0]
     held = evaluate_material(m, target(extrapolate=True, **tg))
     assert held.ok and "extrapolated" in held.flags
+
+
+def _glass(make_material, key="g"):
+    """Breakdown stated on 58 µm and on 5 µm specimens (400 and 1100 MV/m, as Murata et al., J. Am. Ceram. Soc.
+    95 (2012) give for alkali-free glass), one evidence tier, no temperature; the thinnest layer made 5 µm."""
+    rows = [("relative_permittivity", 6.0, "paper", {"temperature_K": 25 + C}),
+            ("breakdown_field", 400e6, "paper", {"thickness_m": 58e-6, "area_m2": 1e-5}),
+            ("breakdown_field", 1100e6, "paper", {"thickness_m": 5e-6, "area_m2": 1e-5}),
+            ("weibull_shape", 20.0, "paper"), ("max_temperature", 150 + C, "paper"),
+            ("min_temperature", -55 + C, "paper"), ("density", 2400.0, "paper"), ("min_thickness", 5e-6, "paper")]
+    return make_material(key, rows, family="glass")
+
+
+def test_specimens_chosen_again_for_one_material_leave_the_others_as_they_were(make_material):
+    """A material whose design is redone from the specimens nearest its layer gets the same answer, words
+    included, in a table of many as alone; the other materials' answers are those of a table without it."""
+    mats = [film(make_material, "f1"), _glass(make_material), film(make_material, "f2", eps=3.0, ebd=500e6)]
+    tg = target(tmin_K=-40 + C, tmax_K=105 + C)
+    many = evaluate(ValueTable.from_materials(mats), tg)
+    assert "redo" in many.parts and many.parts["redo"][0].tolist() == [False, True, False]
+    for i, m in enumerate(mats):
+        alone = evaluate(ValueTable.from_materials([m]), tg)
+        assert many.ok[i] == alone.ok[0]
+        for name in many.values:
+            np.testing.assert_array_equal(many.values[name][i], alone.values[name][0])
+            np.testing.assert_array_equal(many.low[name][i], alone.low[name][0])
+        a, b = explain(many, i), explain(alone, 0)
+        assert (a.reasons, a.binding, a.flags, a.sources) == (b.reasons, b.binding, b.flags, b.sources)
+    # the glass is designed from its 5 µm specimens (1100 MV/m), not from the 58 µm ones the first pass read
+    assert many.parts["inputs"].ebd_v[1] == pytest.approx(400e6)
+    assert many.own(1).parts["inputs"].ebd_v[1] == pytest.approx(1100e6)
