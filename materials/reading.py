@@ -144,12 +144,27 @@ class Lookup:
         self.lent[k] = False
         self.banded[k] = ~at_ref
 
+    def _read_single(self, curve: Curve, q, x, pts, val, lo_r, hi_r):
+        """:meth:`_read` where no material states more than one temperature (the common case of most properties):
+        the row at that temperature, or the unstated row; the same answers without the interpolation."""
+        x0, u = curve.xs[q, 0], curve.unstated[q]
+        used = np.where(pts, curve.row[q, 0], u)
+        self.value, self.low, self.high = val[used], lo_r[used], hi_r[used]
+        xq = np.where(pts, x, 0.0)
+        tol = 1e-9 * np.maximum(1.0, np.abs(np.where(pts, x0, 0.0)))
+        self.extrapolated = pts & ((xq < x0 - tol) | (xq > x0 + tol))
+        self.lo_x, self.hi_x, self.x = np.where(pts, x0, np.nan), np.where(pts, x0, np.nan), xq
+        self.used0, self.used1 = used, np.full(q.size, -1, dtype=np.int64)
+        self.present = curve.has[q]
+
     def _read(self, t: ValueTable, curve: Curve, q: np.ndarray, x: np.ndarray):
         # one NaN row past the end, so that "no row" (-1) indexes a NaN even in a table without values
         val, lo_r, hi_r = t.padded()
         n = curve.n[q]
         pts = n > 0
         x = np.where(np.isnan(x) & pts, REFERENCE_TEMPERATURE_K, x)
+        if curve.xs.shape[1] == 1:
+            return self._read_single(curve, q, x, pts, val, lo_r, hi_r)
         xs = curve.xs[q]
         rows = curve.row[q]
         idx = np.arange(q.size)
