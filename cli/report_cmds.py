@@ -123,9 +123,13 @@ def export(
 
         if k < 1:
             raise InputError("--k must be at least 1")
+        from db.query import load_table
+
         t = load_target(target)
-        mats = _load()
-        rep = report.from_shortlist(run(mats, t, method=method, top_k=k), materials=mats)
+        # the store's values as columns, as the shortlist command reads them (no record per material)
+        with state.store().reading() as conn:
+            table = load_table(conn)
+        rep = report.from_shortlist(run(table, t, method=method, top_k=k), materials=table)
     else:
         from materials.units import parse_option
 

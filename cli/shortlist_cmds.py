@@ -105,9 +105,9 @@ def shortlist(
     if export:
         from ranking.report import export_result
 
-        # Only the HTML report draws charts, which need the materials' records.
+        # Only the HTML report draws charts, which read the materials' values.
         charted = export.suffix.lower() in (".html", ".htm")
-        export_result(result, export, force=force, materials=table.materials() if charted else None)
+        export_result(result, export, force=force, materials=table if charted else None)
     if json_out:
         from cli.output import print_json
         from ranking.report.marks import with_marks

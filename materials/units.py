@@ -128,8 +128,10 @@ _COMMON = {
 }
 
 
+@functools.lru_cache(maxsize=1024)
 def _unit_factor(unit_text: str, si_key: str) -> tuple[float, float]:
-    """(scale, offset) so that SI = value*scale + offset for ``unit_text`` in the dimension of ``si_key``."""
+    """(scale, offset) so that SI = value*scale + offset for ``unit_text`` in the dimension of ``si_key``
+    (remembered: a report converts the same few units hundreds of thousands of times)."""
     if len(unit_text) > MAX_UNIT_CHARS:
         raise UnitError(f"unit {_shown(unit_text)} is longer than {MAX_UNIT_CHARS} characters")
     text = _normalise_unit_text(unit_text, si_key)

@@ -296,15 +296,23 @@ def evaluate_material(material, target, *, thickness_m: float | None = None) -> 
     return explain(evaluate(ValueTable.from_materials([material]), target, thickness_m=thickness_m), 0)
 
 
+def verdict(cols: Columns, i: int) -> Evaluation:
+    """Candidate ``i``'s name and reasons only (what an exclusion list needs): the first part of :func:`explain`."""
+    cols = cols.own(i)
+    t = cols.parts["inputs"].reader.t
+    ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=cols.parts["thickness_m"])
+    ev.codes = reasons(cols, i)
+    ev.reasons = [words(c, **q) for c, q in ev.codes]
+    return ev
+
+
 def explain(cols: Columns, i: int) -> Evaluation:
     """The :class:`ranking.criteria.Evaluation` of candidate ``i``: reasons or criteria, binding constraint,
     flags, the sources behind each criterion, and the design."""
     cols = cols.own(i)
     P, inp = cols.parts, cols.parts["inputs"]
     t, target, thickness_m = inp.reader.t, P["target"], P["thickness_m"]
-    ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=thickness_m)
-    ev.codes = reasons(cols, i)
-    ev.reasons = [words(c, **q) for c, q in ev.codes]
+    ev = verdict(cols, i)
     for prop in ("max_temperature", "min_temperature"):
         lk = inp.rated[prop]
         if lk.present[i]:

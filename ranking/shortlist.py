@@ -65,7 +65,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
     from materials.table import ValueTable
     from ranking import methods as M
     from ranking.engine import evaluate, inputs_for
-    from ranking.explain import explain
+    from ranking.explain import explain, verdict
     from ranking.robustness import monte_carlo
 
     if method not in METHODS:
@@ -165,7 +165,7 @@ def shortlist(materials, target, *, method: str = "topsis", top_k: int = 3, draw
             ranked.append(row)
     excluded = []
     for i, ti in (cand_bad[:excluded_rows] if excluded_rows is not None else cand_bad):
-        e = full(i, ti)
+        e = evals[i, ti] if (i, ti) in evals else verdict(cols[ti], i)
         excluded.append({"key": e.key, "name": e.name, "family": e.family, "label": e.label,
                          "thickness_m": e.thickness_m, "reasons": e.reasons})
     srcs = {**stated, **{k: {"kind": kind, "citation": cit} for k, kind, cit in

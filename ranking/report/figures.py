@@ -23,7 +23,8 @@ def report_charts(obj, *, top: int = 6, bars: int = 15) -> list[tuple[str, str, 
             from materials.table import ValueTable
 
             target = charts.as_target(rep.target)
-            ceilings = charts.worst_ceilings(ValueTable.from_materials(mats), target)
+            ceilings = charts.worst_ceilings(mats if isinstance(mats, ValueTable) else ValueTable.from_materials(mats),
+                                             target)
             rng = f"{fmt_celsius(target.tmin_K)} … {fmt_celsius(target.tmax_K)}"
             out.append(("Headroom by rank",
                         "Per ranked candidate, a bar from its design energy density (the table's value: breakdown "
@@ -34,7 +35,12 @@ def report_charts(obj, *, top: int = 6, bars: int = 15) -> list[tuple[str, str, 
                            if target.energy_density_J_per_m3 else "") + ".",
                         charts.headroom_chart(rep.raw, ceilings, rows=bars)))
             rows = rep.raw["ranked"][:top]
-            fig = charts.design_temperature_chart(mats, rep.target, rows)
+            if isinstance(mats, ValueTable):   # the records of the charted rows only
+                at = {k: i for i, k in enumerate(mats.keys)}
+                shown = [at[r["key"]] for r in rows if r["key"] in at]
+                fig = charts.design_temperature_chart(mats.materials(shown), rep.target, rows)
+            else:
+                fig = charts.design_temperature_chart(mats, rep.target, rows)
             if fig.curves:
                 out.append(("Design energy density across the operating range",
                             f"Design energy density of the first {len(rows)} candidates, evaluated by the same "

@@ -162,7 +162,8 @@ class Report:
 # --- building reports --------------------------------------------------------------------------------------
 
 def from_shortlist(result: dict, *, materials=None) -> Report:
-    """A report of a shortlist result (see :func:`ranking.shortlist.shortlist`); ``materials`` adds charts."""
+    """A report of a shortlist result (see :func:`ranking.shortlist.shortlist`); ``materials`` (their records, or
+    the :class:`materials.table.ValueTable` the shortlist read) adds charts."""
     if not isinstance(result, dict) or "ranked" not in result:
         raise InputError("not a shortlist result: no 'ranked' list")
     crit = result.get("criteria")
