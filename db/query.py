@@ -204,29 +204,29 @@ def summaries(session, *, family: str | None = None, where: str | None = None) -
 
         keys, pred = compile_where_values(where)
     t = load_table(session, family=family)
-    refs = {k: v.tolist() for k, v in reference_values(t, sorted(set(SUMMARY_PROPERTIES) | keys)).items()}
-    mat = t.material_of_row
-    pairs = np.unique(mat * (len(t.source_kinds) + 1) + t.source) if mat.size else np.zeros(0, np.int64)
-    kinds: list[set] = [set() for _ in range(len(t))]
-    for code in pairs.tolist():
-        kinds[code // (len(t.source_kinds) + 1)].add(t.source_kinds[code % (len(t.source_kinds) + 1)])
-
-    def ref(p, i):
-        v = refs[p][i]
-        return None if v != v else v
-
+    # each reference value as a list, None where missing
+    refs = {k: [None if x != x else x for x in v.tolist()]
+            for k, v in reference_values(t, sorted(set(SUMMARY_PROPERTIES) | keys)).items()}
+    # the kinds of source behind each material's values: a bit per kind, each distinct set of bits spelt once
+    names = sorted(set(t.source_kinds))
+    bits = np.zeros(len(t), dtype=np.int64)
+    if t.source.size:
+        row_kind = np.array([names.index(k) for k in t.source_kinds], dtype=np.int64)[t.source]
+        mat = t.material_of_row
+        for b in range(len(names)):
+            bits |= (np.bincount(mat[row_kind == b], minlength=len(t)) > 0).astype(np.int64) << b
+    spelt = {int(x): [n for b, n in enumerate(names) if int(x) >> b & 1] for x in np.unique(bits).tolist()}
     out = []
-    for i in range(len(t)):
-        if pred is not None and not pred({k: ref(k, i) for k in keys}, {"family": t.families[i],
-                                                                         "response": t.responses[i],
-                                                                         "origin": t.origins[i]}):
+    for i, (key, name, fam, form, origin, response, eps, tan, ebd, tmin, tmax, b) in enumerate(zip(
+            t.keys, t.names, t.families, t.forms, t.origins, t.responses, refs["relative_permittivity"],
+            refs["loss_tangent"], refs["breakdown_field"], refs["min_temperature"], refs["max_temperature"],
+            bits.tolist(), strict=True)):
+        if pred is not None and not pred({k: refs[k][i] for k in keys}, {"family": fam, "response": response,
+                                                                         "origin": origin}):
             continue
-        out.append({"key": t.keys[i], "name": t.names[i], "family": t.families[i], "form": t.forms[i],
-                    "origin": t.origins[i], "response": t.responses[i],
-                    "relative_permittivity": ref("relative_permittivity", i), "loss_tangent": ref("loss_tangent", i),
-                    "breakdown_field_V_per_m": ref("breakdown_field", i),
-                    "min_temperature_K": ref("min_temperature", i), "max_temperature_K": ref("max_temperature", i),
-                    "source_kinds": sorted(kinds[i])})
+        out.append({"key": key, "name": name, "family": fam, "form": form, "origin": origin, "response": response,
+                    "relative_permittivity": eps, "loss_tangent": tan, "breakdown_field_V_per_m": ebd,
+                    "min_temperature_K": tmin, "max_temperature_K": tmax, "source_kinds": spelt[b]})
     return out
 
 
