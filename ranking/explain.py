@@ -99,12 +99,27 @@ def _source_key(t: ValueTable, row) -> str:
     return t.source_keys[t.source[int(row)]] if int(row) >= 0 else "—"
 
 
+def _failing(cols: Columns) -> tuple[list[str], np.ndarray]:
+    """Every rule's code in stage order and a matrix (material, rule) of which fail, built once per columns."""
+    got = cols.__dict__.get("_failing")
+    if got is None:
+        codes = [c for stage in STAGES for c in stage]
+        m = len(cols)
+        got = codes, np.column_stack([np.broadcast_to(np.asarray(cols.fails[c], dtype=bool), (m,)) for c in codes])
+        cols.__dict__["_failing"] = got
+    return got
+
+
 def reasons(cols: Columns, i: int, *, ignore=()) -> list[tuple[str, dict]]:
     """Candidate ``i``'s reason codes with their quoted numbers: every failing rule of the first failing stage
     (rules named in ``ignore`` do not count)."""
     cols = cols.own(i)
+    codes, failing = _failing(cols)
+    on = {codes[j] for j in np.flatnonzero(failing[i]).tolist()}.difference(ignore)
+    if not on:
+        return []
     for stage in STAGES:
-        hit = [c for c in stage if cols.fails[c][i] and c not in ignore]
+        hit = [c for c in stage if c in on]
         if hit:
             return [_quote(c, cols, i) for c in hit]
     return []
