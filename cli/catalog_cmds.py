@@ -53,12 +53,15 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
 
     if family and family not in FAMILIES:
         raise InputError(f"--family: '{family}' is not one of {', '.join(FAMILIES)}")
+    if limit < 0:
+        raise InputError(f"--limit: {limit} must be 0 (list all) or more")
     if where:
         from db.where import parse_where
 
         parse_where(where)  # a bad expression fails before the store is opened
     with state.store().reading() as conn:
-        rows = summaries(conn, family=family, where=where)
+        # as text only the rows listed are built; the rest are counted
+        rows, total = summaries(conn, family=family, where=where, limit=None if json_out or not limit else limit)
     if json_out:
         from cli.output import print_json
 
@@ -70,17 +73,17 @@ def catalog(family: Annotated[Optional[str], typer.Option("--family", help="Only
     from materials.numfmt import fmt_celsius
 
     body = []
-    for r in rows[:limit or None]:
+    for r in rows:
         t = f"{fmt_celsius(r['min_temperature_K'])} … {fmt_celsius(r['max_temperature_K'])}"
         flags = ", ".join(k for k in r["source_kinds"] if k in FLAG_KINDS)
         body.append([r["key"], r["name"], r["family"], display("relative_permittivity", r["relative_permittivity"]),
                      display("loss_tangent", r["loss_tangent"]),
                      display("breakdown_field", r["breakdown_field_V_per_m"]), t, flags])
     table(["key", "name", "family", "εr", "tan δ", "E_bd", "rated T", "flags"], body, right={3, 4, 5},
-          title=f"{len(rows)} materials", caption="εr, tan δ and E_bd at about 25 °C and 1 kHz; "
+          title=f"{total} materials", caption="εr, tan δ and E_bd at about 25 °C and 1 kHz; "
           "flags name source kinds that are not published (see 'holdoff show KEY')."
-          + (f" The first {len(body)} of {len(rows)} are listed (--limit 0 lists all, --json gives all)."
-             if len(body) < len(rows) else ""))
+          + (f" The first {len(body)} of {total} are listed (--limit 0 lists all, --json gives all)."
+             if len(body) < total else ""))
     _nothing_matched(rows, family, where)
 
 

@@ -187,9 +187,11 @@ SUMMARY_PROPERTIES = ("relative_permittivity", "loss_tangent", "breakdown_field"
                       "max_temperature")
 
 
-def summaries(session, *, family: str | None = None, where: str | None = None) -> list[dict]:
+def summaries(session, *, family: str | None = None, where: str | None = None,
+              limit: int | None = None) -> tuple[list[dict], int]:
     """The catalog listing: each material of ``family`` that satisfies ``where``, with its headline reference
-    values (small-signal, nearest 25 °C and 1 kHz; None where missing) and the kinds of source behind its values.
+    values (small-signal, nearest 25 °C and 1 kHz; None where missing) and the kinds of source behind its values;
+    the first ``limit`` of them (all if None) and how many there are.
 
     Read column-wise (:func:`materials.lookup.reference_values`): the same numbers as
     :func:`list_materials` with :func:`materials.lookup.reference_value`, without a record per value.
@@ -216,7 +218,7 @@ def summaries(session, *, family: str | None = None, where: str | None = None) -
         for b in range(len(names)):
             bits |= (np.bincount(mat[row_kind == b], minlength=len(t)) > 0).astype(np.int64) << b
     spelt = {int(x): [n for b, n in enumerate(names) if int(x) >> b & 1] for x in np.unique(bits).tolist()}
-    out = []
+    out, total = [], 0
     for i, (key, name, fam, form, origin, response, eps, tan, ebd, tmin, tmax, b) in enumerate(zip(
             t.keys, t.names, t.families, t.forms, t.origins, t.responses, refs["relative_permittivity"],
             refs["loss_tangent"], refs["breakdown_field"], refs["min_temperature"], refs["max_temperature"],
@@ -224,10 +226,13 @@ def summaries(session, *, family: str | None = None, where: str | None = None) -
         if pred is not None and not pred({k: refs[k][i] for k in keys}, {"family": fam, "response": response,
                                                                          "origin": origin}):
             continue
-        out.append({"key": key, "name": name, "family": fam, "form": form, "origin": origin, "response": response,
-                    "relative_permittivity": eps, "loss_tangent": tan, "breakdown_field_V_per_m": ebd,
-                    "min_temperature_K": tmin, "max_temperature_K": tmax, "source_kinds": spelt[b]})
-    return out
+        total += 1
+        if limit is None or total <= limit:
+            out.append({"key": key, "name": name, "family": fam, "form": form, "origin": origin,
+                        "response": response, "relative_permittivity": eps, "loss_tangent": tan,
+                        "breakdown_field_V_per_m": ebd, "min_temperature_K": tmin, "max_temperature_K": tmax,
+                        "source_kinds": spelt[b]})
+    return out, total
 
 
 def get_material(session, key: str, *, include_retired: bool = False) -> MaterialData:
