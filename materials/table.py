@@ -81,6 +81,25 @@ class ValueTable:
                 np.where(np.isnan(self.high), self.value, self.high)))
         return self._py["padded"]
 
+    def subset(self, indices: np.ndarray) -> tuple[ValueTable, np.ndarray]:
+        """The materials ``indices`` (ascending) as a table of their own, and the mask of this table's rows they
+        hold (in the same order as the new table's rows)."""
+        idx = np.asarray(indices, dtype=np.int64)
+        rows = np.zeros(len(self.keys), dtype=bool)
+        rows[idx] = True
+        rows = rows[self.material_of_row]
+        counts = np.diff(self.start)[idx]
+        new_row = np.cumsum(rows) - 1
+        pick = idx.tolist()
+        lists = {f: [getattr(self, f)[i] for i in pick] for f in
+                 ("keys", "names", "families", "forms", "descriptions", "origins", "responses")}
+        arrays = {f: getattr(self, f)[rows] for f in ("ids", "prop", *FLOAT_COLUMNS, "source", "retired")}
+        words = {int(new_row[r]): w for r, w in self.words.items() if rows[r]}
+        sub = ValueTable(**lists, start=np.concatenate([[0], np.cumsum(counts)]).astype(np.int64),
+                         prop_names=self.prop_names, source_keys=self.source_keys, source_kinds=self.source_kinds,
+                         source_citations=self.source_citations, words=words, **arrays)
+        return sub, rows
+
     def code(self, prop: str) -> int:
         """The code of ``prop`` in this table, -1 if no row holds it."""
         try:

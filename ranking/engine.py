@@ -294,11 +294,14 @@ class Columns:
     def __len__(self) -> int:
         return self.ok.size
 
-    def own(self, i: int) -> Columns:
-        """The columns that hold the whole answer of material ``i`` (its inputs and design as well as its verdict):
-        these, or for a material whose breakdown specimens :func:`evaluate` chose again, the second pass's."""
+    def own(self, i: int) -> tuple[Columns, int]:
+        """The columns that hold the whole answer of material ``i`` (its inputs and design as well as its verdict)
+        and its index there: these, or for a material whose breakdown specimens :func:`evaluate` chose again, the
+        second pass's."""
         redo = self.parts.get("redo")
-        return redo[1] if redo is not None and redo[0][i] else self
+        if redo is not None and redo[0][i] >= 0:
+            return redo[1], int(redo[0][i])
+        return self, i
 
 
 def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns:
@@ -321,29 +324,36 @@ def evaluate(table: ValueTable | Inputs, target, *, thickness_m=None) -> Columns
             again[r.mat[drop]] = True
             if again.all():
                 return _evaluate(inputs_for(r.without(drop), target), target, thickness_m)
-            # Only the materials with a row set aside are read again: each material's answer is its own, so the
-            # others' rows are left out of the second pass and their first answers kept.
-            redo = _evaluate(inputs_for(r.without(drop | ~again[r.mat]), target), target, thickness_m)
-            cols = _splice(cols, redo, again)
+            # Only the materials with a row set aside are read again, as a table of their own: each material's
+            # answer rests on its own rows, so the others keep their first answers.
+            idx = np.flatnonzero(again)
+            sub, rows = r.t.subset(idx)
+            layer = thickness_m if np.ndim(thickness_m) == 0 else np.asarray(thickness_m)[idx]
+            redo = _evaluate(inputs_for(Reader(sub).without(~r.active[rows] | drop[rows]), target), target, layer)
+            cols = _splice(cols, redo, idx)
     return cols
 
 
-def _splice(first: Columns, redo: Columns, take: np.ndarray) -> Columns:
-    """``first`` with the per-material arrays of the materials ``take`` from ``redo``; ``redo`` is kept whole for
-    their words (:meth:`Columns.own`)."""
-    m = take.size
+def _splice(first: Columns, redo: Columns, idx: np.ndarray) -> Columns:
+    """``first`` with the per-material arrays of the materials ``idx`` from ``redo`` (their answers, in that
+    order); ``redo`` is kept whole for their words (:meth:`Columns.own`)."""
+    m = len(first)
+    where = np.full(m, -1, dtype=np.int64)
+    where[idx] = np.arange(idx.size)
 
     def pick(a, b):
         if isinstance(a, np.ndarray) and isinstance(b, np.ndarray) and a.ndim and a.shape[0] == m \
-                and b.shape == a.shape:
-            return np.where(take.reshape((m,) + (1,) * (a.ndim - 1)), b, a)
+                and b.shape == (idx.size,) + a.shape[1:]:
+            out = a.copy()
+            out[idx] = b
+            return out
         return a
 
     out = Columns(ok=pick(first.ok, redo.ok), fails={k: pick(v, redo.fails[k]) for k, v in first.fails.items()},
                   **{name: {k: pick(v, getattr(redo, name)[k]) for k, v in getattr(first, name).items()}
                      for name in ("values", "low", "high")},
                   parts={k: pick(v, redo.parts.get(k)) for k, v in first.parts.items()})
-    out.parts["redo"] = (take, redo)
+    out.parts["redo"] = (where, redo)
     return out
 
 

@@ -113,7 +113,7 @@ def _failing(cols: Columns) -> tuple[list[str], np.ndarray]:
 def reasons(cols: Columns, i: int, *, ignore=()) -> list[tuple[str, dict]]:
     """Candidate ``i``'s reason codes with their quoted numbers: every failing rule of the first failing stage
     (rules named in ``ignore`` do not count)."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     codes, failing = _failing(cols)
     on = {codes[j] for j in np.flatnonzero(failing[i]).tolist()}.difference(ignore)
     if not on:
@@ -127,7 +127,7 @@ def reasons(cols: Columns, i: int, *, ignore=()) -> list[tuple[str, dict]]:
 
 def binding(cols: Columns, i: int) -> tuple[str, dict]:
     """What limits a candidate: the fixed layer, the thinnest layer made, or breakdown at the worst temperature."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     P, inp = cols.parts, cols.parts["inputs"]
     if P["thickness_m"] is not None:
         return "binding-fixed", {"thickness_m": P["thickness_m"], "ratio": float(P["e_op"][i] / P["ed"][i])}
@@ -152,7 +152,7 @@ def binding(cols: Columns, i: int) -> tuple[str, dict]:
 def outside_notes(cols: Columns, i: int) -> list[str]:
     """Where candidate ``i`` uses a value outside its data: temperatures beyond the measured ones, or a layer
     thickness beyond what a thickness law may carry."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     return held_notes(cols.parts["inputs"], i) + _thickness_outside(cols, i)
 
 
@@ -191,7 +191,7 @@ def assumption_notes(cols: Columns, i: int) -> list[str]:
     """What candidate ``i``'s numbers assume or how they were carried: series sections, a thickness law, values
     used outside their data, an assumed Weibull shape or test area (with the stated range the Monte Carlo draws
     over)."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     inp, P = cols.parts["inputs"], cols.parts
     out = []
     if P["sections"][i] > 1:
@@ -221,7 +221,7 @@ LIMITS = {"binding-fixed": "fixed layer", "binding-min-thickness": "thickness", 
 def service_notes(cols: Columns, i: int) -> list[str]:
     """What candidate ``i``'s heat and life rest on: an assumed life exponent, the ramp time, a loss tangent read
     at another frequency or held outside its temperatures."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     from materials.priors import RAMP_TIME
     from ranking.service import FREQUENCY_FACTOR
 
@@ -256,7 +256,7 @@ SERVICE_KEYS = ("hot_spot_K", "dissipated_power_W", "runaway_margin", "loss_tang
 def service_details(cols: Columns, i: int) -> dict:
     """Candidate ``i``'s service figures (SI): hot spot, losses, margin to runaway, B-life at the operating point,
     the life design field, and the binding limit."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     P = cols.parts
     heat, life, target = P.get("heat"), P.get("life"), P["target"]
     out = {}
@@ -279,7 +279,7 @@ def service_details(cols: Columns, i: int) -> dict:
 def law_notes(cols: Columns, i: int) -> list[str]:
     """How candidate ``i``'s breakdown was carried to its layer: an assumed liquid test gap, the thickness (or
     stressed-volume) law, or a layer beyond what the law may carry."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     return _gap_assumed(cols, i) + _thickness_scaled(cols, i) + _thickness_outside(cols, i)
 
 
@@ -313,7 +313,7 @@ def evaluate_material(material, target, *, thickness_m: float | None = None) -> 
 
 def verdict(cols: Columns, i: int) -> Evaluation:
     """Candidate ``i``'s name and reasons only (what an exclusion list needs): the first part of :func:`explain`."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     t = cols.parts["inputs"].reader.t
     ev = Evaluation(key=t.keys[i], name=t.names[i], family=t.families[i], thickness_m=cols.parts["thickness_m"])
     ev.codes = reasons(cols, i)
@@ -324,7 +324,7 @@ def verdict(cols: Columns, i: int) -> Evaluation:
 def explain(cols: Columns, i: int) -> Evaluation:
     """The :class:`ranking.criteria.Evaluation` of candidate ``i``: reasons or criteria, binding constraint,
     flags, the sources behind each criterion, and the design."""
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     P, inp = cols.parts, cols.parts["inputs"]
     t, target, thickness_m = inp.reader.t, P["target"], P["thickness_m"]
     ev = verdict(cols, i)

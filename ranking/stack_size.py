@@ -327,7 +327,7 @@ def _layer_words(cols, i: int) -> Evaluation:
 
     from ranking.explain import explain
 
-    cols = cols.own(i)
+    cols, i = cols.own(i)
     none = np.zeros(len(cols), dtype=bool)
     one = float(np.atleast_1d(cols.parts["thickness_m"])[i])
     clean = replace(cols, fails={**cols.fails, **{c: none for c in NOT_FOR_LAYERS}},
