@@ -49,7 +49,7 @@ def _dominator_counts(worst: np.ndarray, best: np.ndarray, ident: np.ndarray, pi
 
 
 def _screen(lo: np.ndarray, hi: np.ndarray, w: np.ndarray, b: np.ndarray, firm: np.ndarray, top_k: int,
-            method: str, budget: int) -> np.ndarray:
+            method: str, budget: int, precheck: bool = True) -> np.ndarray:
     """Mask of the candidates with at least ``top_k`` interval dominators (module notes; ``firm`` criteria are
     the ones that may give the strict advantage).
 
@@ -60,7 +60,9 @@ def _screen(lo: np.ndarray, hi: np.ndarray, w: np.ndarray, b: np.ndarray, firm: 
     ``top_k`` earliest have fewer than ``top_k`` dominators themselves (theirs come earlier still and dominate
     ``j`` too), so they are survivors compared with ``j``. Rounding in the pessimistic score can only make it miss
     some; every dominator counted is checked by exact comparisons, so no candidate is screened without the
-    certificate. The search stops comparing after about ``budget`` pairs (the rest then survive).
+    certificate. The search stops comparing after about ``budget`` pairs (the rest then survive). ``precheck``
+    leaves uncompared the candidates that cannot have ``top_k`` dominators (module notes of the loop); the mask is
+    the same without it.
     """
     m = lo.shape[0]
     order = np.argsort(-METHODS[method](np.where(b, lo, hi), w, b), kind="stable")
@@ -75,6 +77,11 @@ def _screen(lo: np.ndarray, hi: np.ndarray, w: np.ndarray, b: np.ndarray, firm: 
     rows = np.ascontiguousarray(np.concatenate([worst[:, firm], best[:, firm]]) + 0.0)
     ident = np.unique(rows.view(np.dtype((np.void, rows.itemsize * rows.shape[1]))).ravel(),
                       return_inverse=True)[1].reshape(2, m).T
+    # A candidate has top_k dominators only if, on every live criterion, at least top_k candidates' worst ends
+    # reach its best end; one that fails this is never screened and is not compared (it is still a pivot, and
+    # the pairs it would have cost are counted, so the search stops where a full search would).
+    top = np.partition(worst[:, live], m - top_k, axis=0)[m - top_k]
+    possible = (best[:, live] <= top).all(axis=1) if precheck else np.ones(m, dtype=bool)
     worst, best = np.ascontiguousarray(worst[:, live].T), np.ascontiguousarray(best[:, live].T)
     kept = np.empty(m, dtype=np.intp)     # survivors so far, in order
     n_kept, pairs = 0, 0
@@ -83,24 +90,33 @@ def _screen(lo: np.ndarray, hi: np.ndarray, w: np.ndarray, b: np.ndarray, firm: 
         if pairs > budget:
             break
         block = np.arange(start, min(m, start + _SCREEN_BLOCK))
-        alive, count = block, np.zeros(block.size, dtype=np.intp)
+        alive = block[possible[block]]
+        never = block.size - alive.size       # alive throughout, uncompared
+        count = np.zeros(alive.size, dtype=np.intp)
         i, step = 0, 32
-        while i < n_kept and alive.size:
+        while i < n_kept and alive.size + never:
+            if not alive.size:                 # only the uncompared are left: their pairs, to the end
+                pairs += (n_kept - i) * never
+                break
             pivots = kept[i:min(i + step, n_kept)]
             count += _dominator_counts(worst, best, ident, pivots, alive)
-            pairs += pivots.size * alive.size
+            pairs += pivots.size * (alive.size + never)
             more = count < top_k
             alive, count = alive[more], count[more]
             i += pivots.size
-            step = min(4 * step, max(32, _BLOCK_CELLS // max(alive.size, 1)))
-        if alive.size:
-            count += _dominator_counts(worst, best, ident, block, alive)
-            pairs += block.size * alive.size
-            alive = alive[count < top_k]
-        out[block] = True
-        out[alive] = False
-        kept[n_kept:n_kept + alive.size] = alive
-        n_kept += alive.size
+            step = min(4 * step, max(32, _BLOCK_CELLS // max(alive.size + never, 1)))
+        if alive.size + never:
+            if alive.size:
+                count += _dominator_counts(worst, best, ident, block, alive)
+                alive = alive[count < top_k]
+            pairs += block.size * (count.size + never)
+        screened = np.ones(block.size, dtype=bool)
+        screened[alive - start] = False
+        screened[~possible[block]] = False
+        out[block] = screened
+        survivors = block[~screened]
+        kept[n_kept:n_kept + survivors.size] = survivors
+        n_kept += survivors.size
     mask = np.zeros(m, dtype=bool)
     mask[order] = out
     return mask

@@ -401,3 +401,19 @@ def test_a_big_run_in_parts_is_the_same_on_any_number_of_processors(monkeypatch)
     keep = ~two.screened
     for field in ("p_first", "p_top_k"):
         assert _agree(getattr(plain, field)[keep], getattr(two, field)[keep], 1000), field
+
+
+@pytest.mark.parametrize("budget", [0, 3_000, 60_000, 10**9])
+def test_the_precheck_changes_nothing_but_the_work(budget):
+    # Candidates that cannot have top_k dominators (on some criterion fewer than top_k worst ends reach their best
+    # end) are left uncompared; the mask equals the full search's at every budget, including one that stops early.
+    from ranking.screening import _screen
+
+    for seed, spread in ((0, 0.05), (1, 0.2), (2, 0.5)):
+        low, typ, high, w, b = _ranged_problem(seed, m=3000, n=4, spread=spread)
+        firm = 50 * w / w.sum() >= 1
+        fast = _screen(low, high, w, b, firm, 3, "topsis", budget)
+        full = _screen(low, high, w, b, firm, 3, "topsis", budget, precheck=False)
+        np.testing.assert_array_equal(fast, full)
+        if budget == 10**9:
+            np.testing.assert_array_equal(fast, _interval_dominators(low, high, w, b, firm) >= 3)
