@@ -49,7 +49,7 @@ class Curve:
     ``xs``/``row`` are ``(M, K)``: the temperatures of each material's points (+inf padding) and the row behind
     each (the row trusted at that temperature); ``unstated`` is the row used when no temperature applies (the best
     row stating none, or the best of all rows if every row states one); ``has`` whether the material holds the
-    property at all.
+    property at all; ``tier`` the strongest evidence tier among its rows that state a temperature.
     """
 
     def __init__(self, t: ValueTable, rows: np.ndarray, mat: np.ndarray, m: int, tier: np.ndarray):
@@ -72,6 +72,9 @@ class Curve:
         self.row = np.full((m, k), -1, dtype=np.int64)
         self.xs[pm, slot] = pt
         self.row[pm, slot] = pr
+        # the strongest evidence among the rows that state a temperature (the tier of the curve's shape)
+        self.tier = np.full(m, np.iinfo(np.int64).max)
+        np.minimum.at(self.tier, pm, tier[pr])
         self.unstated = np.full(m, -1, dtype=np.int64)
         uns = first & ~np.isfinite(ts)
         self.unstated[ms[uns]] = rs[uns]
@@ -84,6 +87,11 @@ class Curve:
             best_all = np.full(m, -1, dtype=np.int64)
             best_all[m2[f2]] = r2[f2]
             self.unstated[need] = best_all[need]
+
+
+def _tolerance(end: np.ndarray) -> np.ndarray:
+    """How far a condition may lie beyond the data's end ``end`` and still count as at it (rounding only)."""
+    return 1e-9 * np.maximum(1.0, np.abs(end))
 
 
 class Lookup:
@@ -135,7 +143,7 @@ class Lookup:
         f = np.where(at_ref, 1.0, 1.0 + band.worst[qk])
         self.value[k], self.low[k], self.high[k] = anchor.value * f, anchor.low * f, anchor.high * f
         lo_x, hi_x = band.lo_x[qk], band.hi_x[qk]
-        tol = 1e-9 * np.maximum(1.0, hi_x)
+        tol = _tolerance(hi_x)
         self.extrapolated[k] = ~np.isnan(xk) & ((xk < lo_x - tol) | (xk > hi_x + tol))
         self.lo_x[k], self.hi_x[k] = lo_x, hi_x
         self.used0[k], self.used1[k] = anchor.used0, anchor.used1
@@ -151,7 +159,7 @@ class Lookup:
         used = np.where(pts, curve.row[q, 0], u)
         self.value, self.low, self.high = val[used], lo_r[used], hi_r[used]
         xq = np.where(pts, x, 0.0)
-        tol = 1e-9 * np.maximum(1.0, np.abs(np.where(pts, x0, 0.0)))
+        tol = _tolerance(np.where(pts, x0, 0.0))
         self.extrapolated = pts & ((xq < x0 - tol) | (xq > x0 + tol))
         self.lo_x, self.hi_x, self.x = np.where(pts, x0, np.nan), np.where(pts, x0, np.nan), xq
         self.used0, self.used1 = used, np.full(q.size, -1, dtype=np.int64)
@@ -188,7 +196,7 @@ class Lookup:
             return np.where(pts, out, col[u])
 
         self.value, self.low, self.high = interp(val), interp(lo_r), interp(hi_r)
-        tol = 1e-9 * np.maximum(1.0, np.abs(np.where(pts, hi_x, 0.0)))
+        tol = _tolerance(np.where(pts, hi_x, 0.0))
         self.extrapolated = pts & ((xq < lo_x - tol) | (xq > hi_x + tol))
         self.lo_x, self.hi_x, self.x = np.where(pts, lo_x, np.nan), np.where(pts, hi_x, np.nan), xq
         i = np.clip(cnt - 1, 0, last)
@@ -236,10 +244,6 @@ def _nearest_frequency(t: ValueTable, rows, mat, m, frequency_Hz):
     return rows[~stated | (r_of == best[rm])]
 
 
-def _filled(a, fallback):
-    return np.where(np.isnan(a), fallback, a)
-
-
 def row_sources(t: ValueTable) -> tuple[np.ndarray, np.ndarray]:
     """Per row: whether its source is a lab's, and its source's evidence tier (:data:`TIER`)."""
     if not t.source.size:
@@ -284,15 +288,8 @@ def _band(r: Reader, frequency_Hz: float | None) -> Band:
     np.maximum.at(hi_x, rm, temp)
     # the tier of the evidence that shapes the permittivity over temperature: a curve of the strongest rows, else
     # a weaker curve that lends its shape, else none
-    strong, _, lend = r.curves("relative_permittivity", frequency_Hz)
-    eps = pick_rows(t, r.rows_of("relative_permittivity"), r.mat, m, frequency_Hz)
-    em = r.mat[eps]
-    best = np.full(m, none)
-    np.minimum.at(best, em, r.tier[eps])
-    weak = np.isfinite(t.temperature_K[eps]) & (r.tier[eps] > best[em])
-    weak_tier = np.full(m, none)
-    np.minimum.at(weak_tier, em[weak], r.tier[eps][weak])
-    shape_tier = np.where(strong.n >= 2, best, np.where(lend, weak_tier, none))
+    strong, weak, lend = r.curves("relative_permittivity", frequency_Hz)
+    shape_tier = np.where(strong.n >= 2, strong.tier, np.where(lend, weak.tier, none))
     applies = (row >= 0) & (tier < shape_tier) & strong.has & (worst > -1)
     return Band(worst=worst, row=row, lo_x=lo_x, hi_x=hi_x, applies=applies)
 
